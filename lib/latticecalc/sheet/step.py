@@ -1,0 +1,232 @@
+"""Steps and checks: the traceable atoms of a calculation.
+
+A :class:`Step` records one evaluated formula (or one numerical result) with the values put into
+it, the result in a display unit, and its source.  A :class:`Check` compares a demand with a limit
+and says OK or NOT OK with a utilisation.  Physics functions build them with :func:`evaluate`,
+:func:`quantity_step` and :func:`check`; the sheet renders them; the export reads their
+:meth:`to_dict` records.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pint
+
+from latticecalc.errors import InputError
+from latticecalc.sheet.formula import Formula, value_latex
+from latticecalc.sheet.source import Source
+from latticecalc.units import Q_, check_dimension, format_quantity, unit_text
+
+STEP_ID_CHARS = set("abcdefghijklmnopqrstuvwxyz0123456789-_.")
+
+
+def _check_id(step_id: str) -> str:
+    if not step_id or not set(step_id) <= STEP_ID_CHARS:
+        raise InputError("a step id uses lower-case letters, digits, '-', '_' and '.' only",
+                         input_name="id", expected="e.g. 'strut.f1-cc'", got=repr(step_id))
+    return step_id
+
+
+def _plain(value: Any, unit: str | None = None) -> dict:
+    if isinstance(value, pint.Quantity):
+        q = value.to(unit) if unit else value
+        mag = q.magnitude
+        mag = np.asarray(mag).tolist() if np.ndim(mag) else float(mag)
+        return {"value": mag, "unit": unit_text(q.units)}
+    if np.ndim(value):
+        return {"value": np.asarray(value).tolist(), "unit": ""}
+    return {"value": value if isinstance(value, (str, bool)) else float(value), "unit": ""}
+
+
+@dataclass(frozen=True, kw_only=True)
+class Step:
+    """One evaluated formula or one reported value.
+
+    Attributes
+    ----------
+    id:
+        Stable identifier (``"strut.f1-cc"``), used by the JSON record, sign-off and review.
+    description:
+        What the step computes, in words.
+    result:
+        The result as a Quantity in its display unit.
+    formula:
+        The :class:`Formula` evaluated, or ``None`` for a numerical or looked-up value.
+    values:
+        The values substituted into the formula, by symbol name.
+    method:
+        For a step without a formula: how the value was obtained (e.g. "FE modal analysis,
+        8 elements per strut").
+    source:
+        Where the formula or value comes from.
+    sig:
+        Significant figures shown.
+    note:
+        A remark printed under the step (e.g. a flag raised by the calculation).
+    """
+
+    id: str
+    description: str
+    result: pint.Quantity
+    formula: Formula | None = None
+    values: Mapping[str, Any] = field(default_factory=dict)
+    method: str = ""
+    source: Source | None = None
+    sig: int = 4
+    note: str = ""
+
+    kind = "step"
+
+    def __post_init__(self) -> None:
+        _check_id(self.id)
+
+    @property
+    def symbol_latex(self) -> str:
+        """LaTeX of the result symbol (empty for a step without a formula)."""
+        return self.formula.target_latex() if self.formula is not None else ""
+
+    def formula_latex(self) -> str:
+        """``f = expression`` in LaTeX, or ``""``."""
+        return self.formula.latex() if self.formula is not None else ""
+
+    def substitution_latex(self) -> str:
+        """The expression with the values put in, ending ``= result``, or ``""``."""
+        if self.formula is None:
+            return ""
+        return (self.formula.substituted_latex(self.values, sig=self.sig) + " = "
+                + value_latex(self.result, sig=self.sig))
+
+    def result_text(self) -> str:
+        """The result as text, e.g. ``'259.4 Hz'``."""
+        return format_quantity(self.result, sig=self.sig)
+
+    def to_dict(self) -> dict:
+        """JSON-ready record of the step."""
+        return {
+            "kind": self.kind,
+            "id": self.id,
+            "description": self.description,
+            "formula_latex": self.formula_latex(),
+            "substitution_latex": self.substitution_latex(),
+            "symbol_latex": self.symbol_latex,
+            "result": _plain(self.result),
+            "result_text": self.result_text(),
+            "values": {k: {**_plain(v), "text": format_quantity(v, sig=self.sig)}
+                       for k, v in self.values.items()},
+            "method": self.method,
+            "source": self.source.to_dict() if self.source else None,
+            "note": self.note,
+        }
+
+
+@dataclass(frozen=True, kw_only=True)
+class Check:
+    """A demand compared with a limit.
+
+    ``sense="max"``: the demand must not exceed the limit (utilisation = demand / limit).
+    ``sense="min"``: the demand must reach the limit (utilisation = limit / demand), as for a
+    safety factor or a margin.
+    """
+
+    id: str
+    description: str
+    demand: pint.Quantity
+    limit: pint.Quantity
+    sense: str = "max"
+    source: Source | None = None
+    note: str = ""
+    sig: int = 3
+
+    kind = "check"
+
+    def __post_init__(self) -> None:
+        _check_id(self.id)
+        if self.sense not in ("max", "min"):
+            raise InputError("unknown check sense", input_name="sense", expected="'max' or 'min'",
+                             got=repr(self.sense))
+        check_dimension(self.demand, name=f"{self.id} demand",
+                        expected=str(self.limit.units) if isinstance(self.limit, pint.Quantity)
+                        else "dimensionless")
+
+    @property
+    def utilisation(self) -> float:
+        """Demand over limit (``max``) or limit over demand (``min``); OK when <= 1."""
+        d = float(self.demand.to(self.limit.units).magnitude)
+        lim = float(self.limit.magnitude)
+        if self.sense == "max":
+            return d / lim if lim != 0 else float("inf")
+        return lim / d if d != 0 else float("inf")
+
+    @property
+    def ok(self) -> bool:
+        """True when the utilisation does not exceed 1."""
+        return bool(self.utilisation <= 1.0)
+
+    @property
+    def result(self) -> pint.Quantity:
+        """The demand, so a check can be listed among results."""
+        return self.demand
+
+    def verdict(self) -> str:
+        """``'OK'`` or ``'NOT OK'``."""
+        return "OK" if self.ok else "NOT OK"
+
+    def to_dict(self) -> dict:
+        """JSON-ready record of the check."""
+        unit = str(self.limit.units)
+        return {
+            "kind": self.kind,
+            "id": self.id,
+            "description": self.description,
+            "demand": _plain(self.demand, unit),
+            "limit": _plain(self.limit),
+            "demand_text": format_quantity(self.demand.to(unit), sig=self.sig),
+            "limit_text": format_quantity(self.limit, sig=self.sig),
+            "sense": self.sense,
+            "utilisation": self.utilisation,
+            "ok": self.ok,
+            "verdict": self.verdict(),
+            "result": _plain(self.demand, unit),
+            "result_text": format_quantity(self.demand.to(unit), sig=self.sig),
+            "source": self.source.to_dict() if self.source else None,
+            "note": self.note,
+        }
+
+
+def evaluate(formula: Formula, *, id: str, description: str, values: Mapping[str, Any],
+             unit: str, source: Source | None = None, sig: int = 4, note: str = "") -> Step:
+    """Evaluate ``formula`` on ``values`` and return the :class:`Step` that records it.
+
+    The result is converted to ``unit`` (a practitioner's display unit such as ``"Hz"``).
+    """
+    result = formula.evaluate(values)
+    result = check_dimension(result, name=id, expected=unit).to(unit)
+    used = {k: values[k] for k in formula.keys}
+    return Step(id=id, description=description, result=result, formula=formula, values=used,
+                source=source, sig=sig, note=note)
+
+
+def quantity_step(*, id: str, description: str, value: Any, unit: str = "", method: str = "",
+                  source: Source | None = None, sig: int = 4, note: str = "") -> Step:
+    """Record a value that no closed-form formula produced (a table look-up, a numerical result)."""
+    if not isinstance(value, pint.Quantity):
+        value = Q_(value, "")
+    if unit:
+        value = check_dimension(value, name=id, expected=unit).to(unit)
+    return Step(id=id, description=description, result=value, method=method, source=source,
+                sig=sig, note=note)
+
+
+def check(*, id: str, description: str, demand: Any, limit: Any, sense: str = "max",
+          source: Source | None = None, note: str = "", sig: int = 3) -> Check:
+    """Build a :class:`Check`; plain numbers count as dimensionless."""
+    if not isinstance(demand, pint.Quantity):
+        demand = Q_(float(demand), "")
+    if not isinstance(limit, pint.Quantity):
+        limit = Q_(float(limit), "")
+    return Check(id=id, description=description, demand=demand, limit=limit, sense=sense,
+                 source=source, note=note, sig=sig)

@@ -1,28 +1,50 @@
-"""Bending of a single strut: natural frequencies of a uniform beam of circular section.
+"""Bending of a single strut: natural frequencies, mode tables, inverse sizing, modal mass.
 
 Euler–Bernoulli: f_n = λ_n² / (2π L²) · √(E I / (ρ A)).  The eigenvalues λ_n are the roots of
 each support case's characteristic equation, found here numerically (never typed in), see
 Rao, *Mechanical Vibrations*, 6th ed. (2017), §8.5, Table 8.1.
+
+Timoshenko (shear deformation and rotary inertia, Cowper's shear coefficient): the pinned–pinned
+case has an exact closed form (Han, Benaroya & Wei 1999); the other support cases are solved
+numerically as the roots of the 4 × 4 boundary-condition determinant of the Timoshenko equations
+(the frequency equation of Han, Benaroya & Wei 1999, §5, set up here in dimensional form).
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cache
 
 import numpy as np
 import sympy as sp
+from scipy.integrate import quad
 from scipy.optimize import brentq
 
-from latticecalc.errors import InputError
-from latticecalc.sheet import CalcResult, Formula, Source, evaluate
-from latticecalc.units import Q_, check_dimension, check_positive
+from latticecalc.errors import InputError, ModelError
+from latticecalc.sheet import CalcResult, Formula, Source, Step, evaluate, quantity_step
+from latticecalc.units import Q_, check_dimension, check_positive, format_number
 
 RAO_2017 = Source(author="Rao, S. S.", title="Mechanical Vibrations, 6th ed.", year=2017,
                   locator="§8.5, eq. (8.82) and Table 8.1")
+COWPER_1966 = Source(author="Cowper, G. R.", title="The shear coefficient in Timoshenko's beam theory, "
+                     "J. Appl. Mech. 33, 335–340", year=1966, locator="Table 1, solid circle and rectangle")
+HAN_1999 = Source(author="Han, S. M., Benaroya, H. & Wei, T.",
+                  title="Dynamics of transversely vibrating beams using four engineering theories, "
+                  "J. Sound Vib. 225(5), 935–988", year=1999,
+                  locator="Timoshenko model: hinged–hinged closed form and frequency equations")
+ELASTICITY = Source(author="Timoshenko, S. P. & Goodier, J. N.", title="Theory of Elasticity, 3rd ed.",
+                    year=1970, locator="isotropic relation G = E / (2(1 + ν))", tag="from memory")
+MODAL_MASS_SOURCE = Source(author="Chopra, A. K.", title="Dynamics of Structures, 4th ed.", year=2012,
+                           locator="effective modal mass of a distributed system, Γ_n L_n",
+                           tag="from memory")
 
 SUPPORTS = ("clamped-clamped", "pinned-pinned", "clamped-pinned", "clamped-free")
+THEORIES = ("euler-bernoulli", "timoshenko")
+SHAPES = ("circle", "rectangle")
+
+#: Timoshenko results more than this fraction below Euler–Bernoulli are flagged on the sheet.
+TIMOSHENKO_FLAG = 0.02
 
 #: Characteristic equation g(λ) = 0 of each support case (Rao 2017, Table 8.1).
 _CHARACTERISTIC = {
@@ -55,6 +77,42 @@ def _check_mode(mode: int) -> int:
     return int(mode)
 
 
+def _check_theory(theory: str) -> str:
+    if theory not in THEORIES:
+        raise InputError("unknown beam theory", input_name="theory",
+                         expected="one of " + ", ".join(THEORIES), got=repr(theory))
+    return theory
+
+
+def check_poissons_ratio(value, *, name: str = "poissons_ratio"):
+    """Return ν as a dimensionless Quantity if it lies in the open range (−1, 0.5), else raise."""
+    if value is None:
+        raise InputError("Poisson's ratio is needed for this calculation", input_name=name,
+                         expected="a number in (−1, 0.5)", got="None")
+    nu = check_dimension(value, name=name, expected="dimensionless")
+    mag = float(nu.to("").magnitude)
+    if not (-1.0 < mag < 0.5) or not math.isfinite(mag):
+        raise InputError("Poisson's ratio of an isotropic solid lies between −1 and 0.5",
+                         input_name=name, expected="a number in (−1, 0.5)", got=format_number(mag, 4))
+    return Q_(mag, "")
+
+
+def _length(value, name):
+    return check_positive(check_dimension(value, name=name, expected="length"), name=name)
+
+
+def _modulus(value, name="youngs_modulus"):
+    return check_positive(check_dimension(value, name=name, expected="pressure"), name=name)
+
+
+def _density(value, name="density"):
+    return check_positive(check_dimension(value, name=name, expected="density"), name=name)
+
+
+def _tag(supports: str) -> str:
+    return supports.replace("clamped", "c").replace("pinned", "p").replace("free", "f").replace("-", "")
+
+
 @cache
 def eigenvalue(*, supports: str, mode: int) -> float:
     """λ_n for ``supports`` and ``mode``: the n-th positive root of the characteristic equation.
@@ -77,7 +135,7 @@ def eigenvalue(*, supports: str, mode: int) -> float:
     if supports == "pinned-pinned":
         return n * math.pi
     guess = _ASYMPTOTE[supports](n)
-    half = 0.49 * math.pi if supports != "clamped-pinned" else 0.24 * math.pi
+    half = 0.49 * math.pi
     lo, hi = guess - half, guess + half
     if supports == "clamped-pinned":
         # tan has poles at (k + 1/2)π; the root lies just below (n + 1/4)π, between n π and (n + 1/2)π.
@@ -87,24 +145,276 @@ def eigenvalue(*, supports: str, mode: int) -> float:
 
 # --- formulas (the expression shown is the expression evaluated) -----------------------------
 _L, _E, _I, _rho, _A, _lam, _d = sp.symbols("L E I rho A lambda_n d")
+_b, _h, _nu, _G, _kappa, _n, _f = sp.symbols("b h nu G kappa n f")
+_fe, _ft = sp.symbols("f_EB f_T")
 
 SECOND_MOMENT_CIRCLE = Formula("I", sp.pi * _d**4 / 64)
 AREA_CIRCLE = Formula("A", sp.pi * _d**2 / 4)
+SECOND_MOMENT_RECTANGLE = Formula("I", _b * _h**3 / 12)
+AREA_RECTANGLE = Formula("A", _b * _h)
 EULER_BERNOULLI_FREQUENCY = Formula("f_n", _lam**2 / (2 * sp.pi * _L**2) * sp.sqrt(_E * _I / (_rho * _A)))
+
+SHEAR_MODULUS = Formula("G", _E / (2 * (1 + _nu)))
+COWPER_CIRCLE = Formula("kappa", 6 * (1 + _nu) / (7 + 6 * _nu))
+COWPER_RECTANGLE = Formula("kappa", 10 * (1 + _nu) / (12 + 11 * _nu))
+
+# Han, Benaroya & Wei (1999), hinged–hinged Timoshenko beam, k = nπ/L:
+#   a ω⁴ − b ω² + c = 0 with a = ρ²I/(κG), b = ρA + ρI k² (1 + E/(κG)), c = E I k⁴.
+# The lower (bending) root is written ω² = 2c / (b + √(b² − 4ac)), the same root as
+# (b − √(b² − 4ac)) / (2a) without the cancellation of that form for slender struts.
+_k = _n * sp.pi / _L
+_qa = _rho**2 * _I / (_kappa * _G)
+_qb = _rho * _A + _rho * _I * _k**2 * (1 + _E / (_kappa * _G))
+_qc = _E * _I * _k**4
+TIMOSHENKO_PINNED_FREQUENCY = Formula(
+    "f_n", sp.sqrt(2 * _qc / (_qb + sp.sqrt(_qb**2 - 4 * _qa * _qc))) / (2 * sp.pi))
+THEORY_DIFFERENCE = Formula("Delta_f", (_fe - _ft) / _fe, latex_names={"Delta_f": r"\Delta_f"})
+
+# Inverse sizing of a solid circular strut (Euler–Bernoulli inverted for d, or for L).
+DIAMETER_FOR_FREQUENCY = Formula("d", 8 * sp.pi * _f * _L**2 / _lam**2 * sp.sqrt(_rho / _E))
+LENGTH_FOR_FREQUENCY = Formula("L", _lam * sp.sqrt(_d * sp.sqrt(_E / _rho) / (8 * sp.pi * _f)))
 
 SECTION_SOURCE = Source(author="Young, W. C. & Budynas, R. G.",
                         title="Roark's Formulas for Stress and Strain, 7th ed.", year=2002,
-                        locator="Table A.1, solid circle", tag="from memory")
+                        locator="Table A.1, solid circle and rectangle", tag="from memory")
 
 
+# --- sections ---------------------------------------------------------------------------------
+@dataclass(frozen=True, kw_only=True)
+class Section(CalcResult):
+    """A solid cross-section; ``value`` is the area.
+
+    ``shape`` is ``"circle"`` or ``"rectangle"`` and selects Cowper's shear coefficient.
+    """
+
+    shape: str
+    area: object
+    second_moment: object
+
+
+def circular_section(*, diameter, id_prefix: str = "strut") -> Section:
+    """Area and second moment of area of a solid circle.
+
+    Parameters
+    ----------
+    diameter:
+        Diameter [length].
+    id_prefix:
+        Prefix of the step ids.
+    """
+    d = _length(diameter, "diameter")
+    a = evaluate(AREA_CIRCLE, id=f"{id_prefix}.area", description="Strut cross-section area",
+                 values={"d": d}, unit="mm^2", source=SECTION_SOURCE)
+    i = evaluate(SECOND_MOMENT_CIRCLE, id=f"{id_prefix}.second-moment",
+                 description="Second moment of area of the strut section", values={"d": d},
+                 unit="mm^4", source=SECTION_SOURCE)
+    return Section(value=a.result, steps=(a, i), shape="circle", area=a.result, second_moment=i.result,
+                   title="Solid circular section")
+
+
+def rectangular_section(*, width, depth, id_prefix: str = "beam") -> Section:
+    """Area and second moment of a solid rectangle bending about the axis parallel to ``width``.
+
+    Parameters
+    ----------
+    width:
+        Breadth b [length].
+    depth:
+        Depth h in the plane of bending [length].
+    id_prefix:
+        Prefix of the step ids.
+    """
+    b = _length(width, "width")
+    h = _length(depth, "depth")
+    a = evaluate(AREA_RECTANGLE, id=f"{id_prefix}.area", description="Cross-section area",
+                 values={"b": b, "h": h}, unit="mm^2", source=SECTION_SOURCE)
+    i = evaluate(SECOND_MOMENT_RECTANGLE, id=f"{id_prefix}.second-moment",
+                 description="Second moment of area (bending in the depth direction)",
+                 values={"b": b, "h": h}, unit="mm^4", source=SECTION_SOURCE)
+    return Section(value=a.result, steps=(a, i), shape="rectangle", area=a.result,
+                   second_moment=i.result, title="Solid rectangular section")
+
+
+# --- Timoshenko frequency equation (numerical) --------------------------------------------------
+def _basis(omega, x, *, E, G, kappa, rho, A, Iz):
+    """w, w', ψ, ψ' of the four real solutions cos αx, sin αx, cosh βx, sinh βx (below cut-off).
+
+    From κGA(w'' − ψ') + ρAω² w = 0 and EI ψ'' + κGA(w' − ψ) + ρIω² ψ = 0: with w ∝ e^{sx},
+    s⁴ + B s² + C = 0, B = ρω²(1/E + 1/(κG)), C = (ρAω²/(EI))(ρIω²/(κGA) − 1).
+    Returns an array (..., 4 quantities, 4 functions) for an array of ω.
+    """
+    omega = np.asarray(omega, dtype=float)
+    B = rho * omega**2 * (1.0 / E + 1.0 / (kappa * G))
+    C = (rho * A * omega**2 / (E * Iz)) * (rho * Iz * omega**2 / (kappa * G * A) - 1.0)
+    root = np.sqrt(B**2 - 4.0 * C)
+    alpha = np.sqrt((B + root) / 2.0)
+    beta = np.sqrt((root - B) / 2.0)
+    g = rho * omega**2 / (kappa * G)
+    Aa = (alpha**2 - g) / alpha
+    Bb = (beta**2 + g) / beta
+    ca, sa = np.cos(alpha * x), np.sin(alpha * x)
+    ch, sh = np.cosh(beta * x), np.sinh(beta * x)
+    w = np.stack([ca, sa, ch, sh], axis=-1)
+    dw = np.stack([-alpha * sa, alpha * ca, beta * sh, beta * ch], axis=-1)
+    psi = np.stack([-Aa * sa, Aa * ca, Bb * sh, Bb * ch], axis=-1)
+    dpsi = np.stack([-Aa * alpha * ca, -Aa * alpha * sa, Bb * beta * ch, Bb * beta * sh], axis=-1)
+    return w, dw, psi, dpsi
+
+
+def _end_rows(condition: str, w, dw, psi, dpsi, L):
+    # Rows are scaled by powers of L so that all entries are dimensionless.
+    if condition == "clamped":
+        return [w, psi * L]
+    if condition == "pinned":
+        return [w, dpsi * L**2]
+    return [dpsi * L**2, (dw - psi) * L]  # free: bending moment and shear force vanish
+
+
+def timoshenko_determinant(omega, *, supports: str, L, E, G, kappa, rho, A, Iz):
+    """Determinant of the 4 × 4 boundary system of a uniform Timoshenko beam at circular frequency ω.
+
+    All arguments are plain floats in SI units (ω in rad/s may be an array).  The roots in ω
+    below the cut-off frequency √(κGA/(ρI)) are the natural frequencies of the first spectrum.
+    """
+    left, right = supports.split("-")
+    kw = {"E": E, "G": G, "kappa": kappa, "rho": rho, "A": A, "Iz": Iz}
+    rows = _end_rows(left, *_basis(omega, 0.0, **kw), L) + _end_rows(right, *_basis(omega, L, **kw), L)
+    matrix = np.stack(rows, axis=-2)
+    return np.linalg.det(matrix)
+
+
+def _timoshenko_root(*, supports, mode, L, E, G, kappa, rho, A, Iz, omega_eb):
+    """The ``mode``-th root of :func:`timoshenko_determinant` (first spectrum), in rad/s."""
+    cutoff = math.sqrt(kappa * G * A / (rho * Iz))
+    top = min(omega_eb[-1] * (1 + 1e-6), cutoff * (1 - 1e-9))
+    grid = np.linspace(omega_eb[0] * 1e-3, top, 600 * len(omega_eb) + 1)
+    kw = {"supports": supports, "L": L, "E": E, "G": G, "kappa": kappa, "rho": rho, "A": A, "Iz": Iz}
+    det = timoshenko_determinant(grid, **kw)
+    change = np.nonzero(np.sign(det[:-1]) * np.sign(det[1:]) < 0)[0]
+    if len(change) < mode:
+        raise ModelError("the strut is too stocky for a beam model: mode lies above the Timoshenko "
+                         "cut-off frequency", input_name="mode", expected="a slender strut (L/d > ~3)",
+                         got=f"{len(change)} modes below the cut-off", hint="Use a solid FE model")
+    i = change[mode - 1]
+    def fun(w):
+        return float(timoshenko_determinant(w, **kw))
+    return brentq(fun, grid[i], grid[i + 1], xtol=1e-12 * grid[i + 1], rtol=1e-14, maxiter=200)
+
+
+# --- results ------------------------------------------------------------------------------------
 @dataclass(frozen=True, kw_only=True)
 class BendingFrequency(CalcResult):
-    """Result of :func:`bending_frequency`; ``value`` is the frequency in Hz."""
+    """Result of :func:`bending_frequency`; ``value`` is the frequency in Hz.
+
+    For ``theory="timoshenko"``, ``euler_bernoulli`` holds the Euler–Bernoulli frequency and
+    ``difference`` the fraction by which the Timoshenko value lies below it.
+    """
 
     supports: str
     mode: int
     theory: str
     eigenvalue: float
+    euler_bernoulli: object = None
+    difference: object = None
+
+    @property
+    def flagged(self) -> bool:
+        """True when Timoshenko lies more than :data:`TIMOSHENKO_FLAG` below Euler–Bernoulli."""
+        return self.difference is not None and float(self.difference.to("").magnitude) > TIMOSHENKO_FLAG
+
+
+def section_bending_frequency(*, length, section: Section, youngs_modulus, density,
+                              supports: str = "clamped-clamped", mode: int = 1,
+                              theory: str = "euler-bernoulli", poissons_ratio=None,
+                              id_prefix: str = "strut") -> BendingFrequency:
+    """Natural bending frequency of a uniform beam of a given solid section.
+
+    Parameters
+    ----------
+    length:
+        Length between the supports [length].
+    section:
+        A :class:`Section` from :func:`circular_section` or :func:`rectangular_section`.
+    youngs_modulus:
+        Young's modulus [pressure]; the dynamic modulus for an elastomer.
+    density:
+        Mass density [mass / length³].
+    supports:
+        One of :data:`SUPPORTS`; for asymmetric cases the first named end is at x = 0.
+    mode:
+        Mode number, 1 for the fundamental.
+    theory:
+        ``"euler-bernoulli"`` or ``"timoshenko"`` (shear deformation and rotary inertia).
+    poissons_ratio:
+        Poisson's ratio in (−1, 0.5) [dimensionless]; needed for Timoshenko (G and κ).
+    id_prefix:
+        Prefix of the step ids on the sheet.
+
+    Returns
+    -------
+    BendingFrequency
+        ``.value`` in Hz with the steps that produced it.
+    """
+    L = _length(length, "length")
+    E = _modulus(youngs_modulus)
+    rho = _density(density)
+    _check_supports(supports)
+    n = _check_mode(mode)
+    _check_theory(theory)
+    nu = None
+    if theory == "timoshenko" or poissons_ratio is not None:
+        nu = check_poissons_ratio(poissons_ratio)
+    tag = _tag(supports)
+    A, Iz = section.area, section.second_moment
+    lam = eigenvalue(supports=supports, mode=n)
+    eb_id = f"{id_prefix}.f{n}-{tag}" + ("-eb" if theory == "timoshenko" else "")
+    f_eb = evaluate(EULER_BERNOULLI_FREQUENCY, id=eb_id,
+                    description=f"Bending frequency, mode {n}, {supports} (Euler–Bernoulli)",
+                    values={"lambda_n": Q_(lam, ""), "L": L, "E": E, "I": Iz, "rho": rho, "A": A},
+                    unit="Hz", source=RAO_2017)
+    steps: list[Step] = [*section.steps, f_eb]
+    title = f"Strut bending frequency ({supports}, mode {n})"
+    if theory == "euler-bernoulli":
+        return BendingFrequency(value=f_eb.result, steps=tuple(steps), supports=supports, mode=n,
+                                theory=theory, eigenvalue=lam, title=title)
+
+    g = evaluate(SHEAR_MODULUS, id=f"{id_prefix}.shear-modulus", description="Shear modulus (isotropic)",
+                 values={"E": E, "nu": nu}, unit="MPa", source=ELASTICITY)
+    cowper = COWPER_CIRCLE if section.shape == "circle" else COWPER_RECTANGLE
+    k = evaluate(cowper, id=f"{id_prefix}.shear-coefficient",
+                 description=f"Shear coefficient of a solid {section.shape} (Cowper)",
+                 values={"nu": nu}, unit="", source=COWPER_1966, sig=6)
+    t_id = f"{id_prefix}.f{n}-{tag}"
+    t_desc = f"Bending frequency, mode {n}, {supports} (Timoshenko)"
+    if supports == "pinned-pinned":
+        f_t = evaluate(TIMOSHENKO_PINNED_FREQUENCY, id=t_id, description=t_desc,
+                       values={"n": Q_(n, ""), "L": L, "E": E, "G": g.result, "kappa": k.result,
+                               "rho": rho, "I": Iz, "A": A}, unit="Hz", source=HAN_1999)
+    else:
+        si = {"L": L.to("m").magnitude, "E": E.to("Pa").magnitude, "G": g.result.to("Pa").magnitude,
+              "kappa": float(k.result.magnitude), "rho": rho.to("kg/m^3").magnitude,
+              "A": A.to("m^2").magnitude, "Iz": Iz.to("m^4").magnitude}
+        c = math.sqrt(si["E"] * si["Iz"] / (si["rho"] * si["A"])) / si["L"] ** 2
+        omega_eb = [eigenvalue(supports=supports, mode=m) ** 2 * c for m in range(1, n + 1)]
+        omega = _timoshenko_root(supports=supports, mode=n, omega_eb=omega_eb, **si)
+        f_t = quantity_step(id=t_id, description=t_desc, value=Q_(omega / (2 * math.pi), "Hz"), unit="Hz",
+                            method=f"root {n} of the 4×4 boundary-condition determinant of the Timoshenko "
+                            "equations (bracketed on a 600-point scan per mode, refined by Brent's method)",
+                            source=HAN_1999)
+    diff = evaluate(THEORY_DIFFERENCE, id=f"{id_prefix}.f{n}-{tag}-shear-effect",
+                    description="Timoshenko frequency below Euler–Bernoulli by",
+                    values={"f_EB": f_eb.result, "f_T": f_t.result}, unit="percent", sig=3)
+    frac = float(diff.result.to("").magnitude)
+    if frac > TIMOSHENKO_FLAG:
+        diff = replace(diff, note=(
+            "FLAG: shear deformation and rotary inertia lower this mode by "
+            f"{format_number(100 * frac, 3)} %, "
+            f"more than {format_number(100 * TIMOSHENKO_FLAG, 2)} %: use the Timoshenko value; the strut is "
+            "not slender for this mode."))
+    steps += [g, k, f_t, diff]
+    return BendingFrequency(value=f_t.result, steps=tuple(steps), supports=supports, mode=n, theory=theory,
+                            eigenvalue=lam, euler_bernoulli=f_eb.result, difference=diff.result.to(""),
+                            title=title + " — Timoshenko")
 
 
 def bending_frequency(*, length, diameter, youngs_modulus, density, supports: str = "clamped-clamped",
@@ -127,38 +437,220 @@ def bending_frequency(*, length, diameter, youngs_modulus, density, supports: st
     mode:
         Mode number, 1 for the fundamental.
     theory:
-        ``"euler-bernoulli"``.
+        ``"euler-bernoulli"`` or ``"timoshenko"`` (shear and rotary inertia; Cowper's κ for a circle).
     poissons_ratio:
-        Unused by Euler–Bernoulli.
+        Poisson's ratio in (−1, 0.5) [dimensionless]; required by Timoshenko.
     id_prefix:
         Prefix of the step ids on the sheet.
 
     Returns
     -------
     BendingFrequency
-        ``.value`` in Hz; ``.steps``: section area, second moment, frequency.
+        ``.value`` in Hz; ``.steps``: section area, second moment, frequency (and for Timoshenko:
+        shear modulus, shear coefficient, Timoshenko frequency, difference with a flag above 2 %).
+
+    Examples
+    --------
+    >>> from latticecalc import Q_
+    >>> r = bending_frequency(length=Q_(40, "mm"), diameter=Q_(3, "mm"),
+    ...                       youngs_modulus=Q_(20, "MPa"), density=Q_(1150, "kg/m^3"))
+    >>> round(float(r.value.to("Hz").magnitude), 1)
+    220.1
     """
-    L = check_positive(check_dimension(length, name="length", expected="length"), name="length")
-    d = check_positive(check_dimension(diameter, name="diameter", expected="length"), name="diameter")
-    E = check_positive(check_dimension(youngs_modulus, name="youngs_modulus", expected="pressure"),
-                       name="youngs_modulus")
-    rho = check_positive(check_dimension(density, name="density", expected="density"), name="density")
+    _length(length, "length")
+    _modulus(youngs_modulus)
+    _density(density)
+    section = circular_section(diameter=diameter, id_prefix=id_prefix)
+    return section_bending_frequency(length=length, section=section, youngs_modulus=youngs_modulus,
+                                     density=density, supports=supports, mode=mode, theory=theory,
+                                     poissons_ratio=poissons_ratio, id_prefix=id_prefix)
+
+
+# --- table of modes ------------------------------------------------------------------------------
+@dataclass(frozen=True, kw_only=True)
+class ModeTable(CalcResult):
+    """Result of :func:`strut_mode_table`; ``value`` maps each support case to a Hz array (modes 1..n)."""
+
+    modes: tuple[int, ...]
+    theory: str
+
+    def rows(self, sig: int = 4) -> list[list[str]]:
+        """Rows ``[supports, f1, f2, f3]`` as text, for :func:`latticecalc.sheet.table`."""
+        return [[s] + [format_number(v, sig) for v in self.value[s].to("Hz").magnitude] for s in self.value]
+
+    @property
+    def columns(self) -> list[str]:
+        """Column headings matching :meth:`rows`."""
+        return ["supports"] + [f"f{m} (Hz)" for m in self.modes]
+
+
+def strut_mode_table(*, length, diameter, youngs_modulus, density, theory: str = "euler-bernoulli",
+                     poissons_ratio=None, modes=(1, 2, 3), supports=SUPPORTS,
+                     id_prefix: str = "strut") -> ModeTable:
+    """Bending frequencies of a solid circular strut for several modes and support cases.
+
+    Parameters are those of :func:`bending_frequency`; ``modes`` and ``supports`` list what to
+    tabulate.  Every frequency is a step on the sheet (the shared section steps appear once).
+    """
+    _check_theory(theory)
+    modes = tuple(_check_mode(m) for m in modes)
+    value, steps, seen = {}, [], set()
+    for s in supports:
+        _check_supports(s)
+        freqs = []
+        for m in modes:
+            r = bending_frequency(length=length, diameter=diameter, youngs_modulus=youngs_modulus,
+                                  density=density, supports=s, mode=m, theory=theory,
+                                  poissons_ratio=poissons_ratio, id_prefix=id_prefix)
+            freqs.append(r.value.to("Hz").magnitude)
+            for st in r.steps:
+                if st.id not in seen:
+                    seen.add(st.id)
+                    steps.append(st)
+        value[s] = Q_(np.array(freqs), "Hz")
+    return ModeTable(value=value, steps=tuple(steps), modes=modes, theory=theory,
+                     title=f"Strut bending frequencies, modes {', '.join(map(str, modes))} ({theory})")
+
+
+# --- inverse sizing -------------------------------------------------------------------------------
+@dataclass(frozen=True, kw_only=True)
+class Sizing(CalcResult):
+    """Result of an inverse sizing; ``value`` is the size found, ``check_frequency`` the forward check."""
+
+    check_frequency: object
+
+
+def _forward_check(*, L, d, E, rho, lam, n, supports, id_prefix):
+    sec = circular_section(diameter=d, id_prefix=f"{id_prefix}.check")
+    f = evaluate(EULER_BERNOULLI_FREQUENCY, id=f"{id_prefix}.check.f{n}-{_tag(supports)}",
+                 description="Check: frequency of the sized strut (Euler–Bernoulli)",
+                 values={"lambda_n": Q_(lam, ""), "L": L, "E": E, "I": sec.second_moment, "rho": rho,
+                         "A": sec.area}, unit="Hz", source=RAO_2017)
+    return sec.steps + (f,), f.result
+
+
+def diameter_for_frequency(*, target, length, youngs_modulus, density, supports: str = "clamped-clamped",
+                           mode: int = 1, id_prefix: str = "sizing.diameter") -> Sizing:
+    """Strut diameter that puts bending mode ``mode`` at ``target`` (Euler–Bernoulli, solid circle).
+
+    d = 8π f L² / λ_n² · √(ρ/E), the frequency formula (Rao 2017, eq. 8.82) solved for d with
+    I/A = d²/16.
+
+    Parameters
+    ----------
+    target:
+        Target frequency [frequency].
+    length:
+        Strut length [length].
+    youngs_modulus:
+        Young's modulus [pressure] (dynamic modulus for an elastomer).
+    density:
+        Mass density [mass / length³].
+    supports, mode:
+        As for :func:`bending_frequency`; the default is the first clamped–clamped mode.
+    id_prefix:
+        Prefix of the step ids.
+    """
+    f = check_positive(check_dimension(target, name="target", expected="frequency"), name="target")
+    L = _length(length, "length")
+    E = _modulus(youngs_modulus)
+    rho = _density(density)
     _check_supports(supports)
     n = _check_mode(mode)
-    if theory != "euler-bernoulli":
-        raise InputError("unknown beam theory", input_name="theory", expected="'euler-bernoulli'",
-                         got=repr(theory))
-    tag = supports.replace("clamped", "c").replace("pinned", "p").replace("free", "f").replace("-", "")
-    a = evaluate(AREA_CIRCLE, id=f"{id_prefix}.area", description="Strut cross-section area",
-                 values={"d": d}, unit="mm^2", source=SECTION_SOURCE)
-    i = evaluate(SECOND_MOMENT_CIRCLE, id=f"{id_prefix}.second-moment",
-                 description="Second moment of area of the strut section", values={"d": d},
-                 unit="mm^4", source=SECTION_SOURCE)
     lam = eigenvalue(supports=supports, mode=n)
-    f = evaluate(EULER_BERNOULLI_FREQUENCY, id=f"{id_prefix}.f{n}-{tag}",
-                 description=f"Bending frequency, mode {n}, {supports} (Euler–Bernoulli)",
-                 values={"lambda_n": Q_(lam, ""), "L": L, "E": E, "I": i.result, "rho": rho, "A": a.result},
-                 unit="Hz", source=RAO_2017)
-    return BendingFrequency(value=f.result, steps=(a, i, f), supports=supports, mode=n,
-                            theory=theory, eigenvalue=lam,
-                            title=f"Strut bending frequency ({supports}, mode {n})")
+    d = evaluate(DIAMETER_FOR_FREQUENCY, id=f"{id_prefix}.d", unit="mm", source=RAO_2017,
+                 description=f"Strut diameter for mode {n} ({supports}) at the target frequency",
+                 values={"f": f, "L": L, "lambda_n": Q_(lam, ""), "rho": rho, "E": E})
+    checks, f_back = _forward_check(L=L, d=d.result, E=E, rho=rho, lam=lam, n=n, supports=supports,
+                                    id_prefix=id_prefix)
+    return Sizing(value=d.result, steps=(d, *checks), check_frequency=f_back,
+                  title="Strut diameter for a target frequency")
+
+
+def length_for_frequency(*, target, diameter, youngs_modulus, density, supports: str = "clamped-clamped",
+                         mode: int = 1, id_prefix: str = "sizing.length") -> Sizing:
+    """Strut length that puts bending mode ``mode`` at ``target`` (Euler–Bernoulli, solid circle).
+
+    L = λ_n √(d √(E/ρ) / (8π f)), the frequency formula (Rao 2017, eq. 8.82) solved for L.
+
+    Parameters
+    ----------
+    target:
+        Target frequency [frequency].
+    diameter:
+        Strut diameter [length].
+    youngs_modulus:
+        Young's modulus [pressure].
+    density:
+        Mass density [mass / length³].
+    supports, mode:
+        As for :func:`bending_frequency`.
+    id_prefix:
+        Prefix of the step ids.
+    """
+    f = check_positive(check_dimension(target, name="target", expected="frequency"), name="target")
+    d = _length(diameter, "diameter")
+    E = _modulus(youngs_modulus)
+    rho = _density(density)
+    _check_supports(supports)
+    n = _check_mode(mode)
+    lam = eigenvalue(supports=supports, mode=n)
+    L = evaluate(LENGTH_FOR_FREQUENCY, id=f"{id_prefix}.l", unit="mm", source=RAO_2017,
+                 description=f"Strut length for mode {n} ({supports}) at the target frequency",
+                 values={"f": f, "d": d, "lambda_n": Q_(lam, ""), "rho": rho, "E": E})
+    checks, f_back = _forward_check(L=L.result, d=d, E=E, rho=rho, lam=lam, n=n, supports=supports,
+                                    id_prefix=id_prefix)
+    return Sizing(value=L.result, steps=(L, *checks), check_frequency=f_back,
+                  title="Strut length for a target frequency")
+
+
+# --- modal mass -------------------------------------------------------------------------------------
+def mode_shape(xi, *, supports: str, mode: int = 1):
+    """Euler–Bernoulli mode shape φ(ξ), ξ = x/L in [0, 1] (Rao 2017, §8.5), unnormalised.
+
+    Clamped–clamped and clamped–pinned: φ = cosh λξ − cos λξ − σ(sinh λξ − sin λξ) with
+    σ = (cosh λ − cos λ)/(sinh λ − sin λ); clamped–free: σ = (cosh λ + cos λ)/(sinh λ + sin λ);
+    pinned–pinned: φ = sin nπξ.
+    """
+    _check_supports(supports)
+    n = _check_mode(mode)
+    lam = eigenvalue(supports=supports, mode=n)
+    xi = np.asarray(xi, dtype=float)
+    if supports == "pinned-pinned":
+        return np.sin(lam * xi)
+    if supports == "clamped-free":
+        sigma = (math.cosh(lam) + math.cos(lam)) / (math.sinh(lam) + math.sin(lam))
+    else:
+        sigma = (math.cosh(lam) - math.cos(lam)) / (math.sinh(lam) - math.sin(lam))
+    return np.cosh(lam * xi) - np.cos(lam * xi) - sigma * (np.sinh(lam * xi) - np.sin(lam * xi))
+
+
+@cache
+def _modal_mass_fraction(supports: str, mode: int) -> float:
+    def phi(x):
+        return float(mode_shape(x, supports=supports, mode=mode))
+    first, _ = quad(phi, 0.0, 1.0, epsabs=1e-14, epsrel=1e-13, limit=200)
+    second, _ = quad(lambda x: phi(x) ** 2, 0.0, 1.0, epsabs=1e-14, epsrel=1e-13, limit=200)
+    return first**2 / second
+
+
+def modal_mass_fraction(*, supports: str = "clamped-clamped", mode: int = 1,
+                        id: str = "strut.modal-mass-fraction") -> CalcResult:
+    """Effective modal mass of a uniform beam's mode under support translation, as a fraction of its mass.
+
+    μ_n = (∫₀¹ φ_n dξ)² / ∫₀¹ φ_n² dξ, computed from the Euler–Bernoulli mode shape by adaptive
+    quadrature.  It is the share of the beam's mass that acts as a resonator when both supports
+    move together (base excitation); the rest moves with the supports.
+
+    Returns
+    -------
+    CalcResult
+        ``.value`` dimensionless.
+    """
+    _check_supports(supports)
+    n = _check_mode(mode)
+    mu = _modal_mass_fraction(supports, n)
+    step = quantity_step(id=id, description=f"Effective modal mass fraction, mode {n}, {supports}",
+                         value=Q_(mu, ""), unit="", sig=4, source=MODAL_MASS_SOURCE,
+                         method="(∫φ dξ)² / ∫φ² dξ from the Euler–Bernoulli mode shape, adaptive quadrature")
+    return CalcResult(value=step.result, steps=(step,), title="Effective modal mass fraction")

@@ -1,0 +1,135 @@
+"""Strut bending: scaling laws, Timoshenko flag, mode table, inverse sizing, modal mass, bad inputs."""
+
+import math
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from tests.helpers import assert_quantity_close
+
+from latticecalc import Q_
+from latticecalc.errors import DimensionError, InputError
+from latticecalc.physics import beams
+
+SCALING_RTOL = 1e-10
+BASE = {"length": Q_(40, "mm"), "diameter": Q_(3, "mm"), "youngs_modulus": Q_(20, "MPa"),
+        "density": Q_(1150, "kg/m^3")}
+
+factor = st.floats(min_value=0.2, max_value=5.0, allow_nan=False)
+
+
+def _f(**over):
+    return beams.bending_frequency(**{**BASE, **over}).value
+
+
+@settings(max_examples=40, deadline=None)
+@given(kd=factor, kl=factor, supports=st.sampled_from(beams.SUPPORTS), mode=st.integers(1, 3))
+def test_frequency_scales_with_d_over_L_squared(kd, kl, supports, mode):
+    # Rao 2017, eq. 8.82: f ∝ √(I/A)/L² = d/(4L²) for a solid circle
+    f0 = _f(supports=supports, mode=mode)
+    f1 = _f(diameter=BASE["diameter"] * kd, length=BASE["length"] * kl, supports=supports, mode=mode)
+    assert_quantity_close(f1, f0 * kd / kl**2, rtol=SCALING_RTOL)
+
+
+@settings(max_examples=40, deadline=None)
+@given(ke=factor, kr=factor)
+def test_frequency_scales_with_root_E_over_rho(ke, kr):
+    # Rao 2017, eq. 8.82: f ∝ √(E/ρ)
+    f0 = _f()
+    f1 = _f(youngs_modulus=BASE["youngs_modulus"] * ke, density=BASE["density"] * kr)
+    assert_quantity_close(f1, f0 * math.sqrt(ke / kr), rtol=SCALING_RTOL)
+
+
+def test_units_are_converted():
+    # the same strut in other units gives the same frequency
+    f_si = _f()
+    f_other = beams.bending_frequency(length=Q_(4, "cm"), diameter=Q_(0.003, "m"),
+                                      youngs_modulus=Q_(20e6, "Pa"), density=Q_(1.15, "g/cm^3")).value
+    assert_quantity_close(f_other, f_si, rtol=1e-12)
+
+
+def test_timoshenko_flag_on_stocky_strut_and_not_on_slender():
+    stocky = beams.bending_frequency(**{**BASE, "diameter": Q_(8, "mm")}, theory="timoshenko",
+                                     poissons_ratio=0.49)
+    slender = beams.bending_frequency(**{**BASE, "diameter": Q_(0.5, "mm")}, theory="timoshenko",
+                                      poissons_ratio=0.49)
+    assert stocky.flagged and "FLAG" in stocky.step("strut.f1-cc-shear-effect").note
+    assert not slender.flagged and slender.step("strut.f1-cc-shear-effect").note == ""
+    # the difference step is (f_EB - f_T) / f_EB, shown in percent
+    diff = stocky.step("strut.f1-cc-shear-effect").result
+    assert_quantity_close(diff, (1 - stocky.value / stocky.euler_bernoulli).to("percent"), rtol=1e-12)
+    # the sheet can render every step
+    for step in stocky.steps:
+        assert step.to_dict()["result_text"]
+
+
+def test_mode_table_matches_single_calls():
+    table = beams.strut_mode_table(**BASE)
+    assert set(table.value) == set(beams.SUPPORTS)
+    for s in beams.SUPPORTS:
+        for m in (1, 2, 3):
+            assert_quantity_close(table.value[s][m - 1], _f(supports=s, mode=m), rtol=1e-14)
+    ids = [st.id for st in table.steps]
+    assert len(ids) == len(set(ids)) == 2 + 12
+    assert len(table.rows()) == 4 and table.columns[1] == "f1 (Hz)"
+
+
+def test_inverse_sizing_round_trip():
+    target = Q_(55, "Hz")
+    d = beams.diameter_for_frequency(target=target, length=BASE["length"],
+                                     youngs_modulus=BASE["youngs_modulus"], density=BASE["density"])
+    assert_quantity_close(_f(diameter=d.value), target, rtol=1e-12)
+    assert_quantity_close(d.check_frequency, target, rtol=1e-12)
+    L = beams.length_for_frequency(target=target, diameter=BASE["diameter"], supports="pinned-pinned",
+                                   youngs_modulus=BASE["youngs_modulus"], density=BASE["density"])
+    assert_quantity_close(_f(length=L.value, supports="pinned-pinned"), target, rtol=1e-12)
+    assert d.steps[0].formula is beams.DIAMETER_FOR_FREQUENCY
+
+
+def test_modal_mass_fractions():
+    # pinned-pinned: (∫sin πξ)² / ∫sin² πξ = (2/π)² / (1/2) = 8/π² exactly [derived]
+    assert float(beams.modal_mass_fraction(supports="pinned-pinned").value) == pytest.approx(
+        8 / math.pi**2, rel=1e-12)
+    # clamped-clamped 0.690 and cantilever 0.613 of the beam mass for mode 1 (from memory;
+    # commonly tabulated effective modal masses, e.g. Irvine's notes on modal participation)
+    mu_cc = float(beams.modal_mass_fraction(supports="clamped-clamped").value)
+    assert mu_cc == pytest.approx(0.690, abs=5e-4)
+    assert float(beams.modal_mass_fraction(supports="clamped-free").value) == pytest.approx(0.613, abs=5e-4)
+    # symmetric supports: even modes are antisymmetric and carry no translational mass [derived]
+    assert float(beams.modal_mass_fraction(supports="clamped-clamped", mode=2).value) < 1e-12
+
+
+@pytest.mark.parametrize("name,value", [("length", Q_(0, "mm")), ("length", Q_(-5, "mm")),
+                                        ("diameter", Q_(-1, "mm")), ("youngs_modulus", Q_(0, "MPa")),
+                                        ("density", Q_(-1, "kg/m^3"))])
+def test_non_positive_sizes_rejected(name, value):
+    with pytest.raises(InputError, match=name):
+        beams.bending_frequency(**{**BASE, name: value})
+
+
+@pytest.mark.parametrize("name,value", [("length", Q_(40, "MPa")), ("density", Q_(1150, "kg")),
+                                        ("youngs_modulus", Q_(20, "kg/m^3")), ("diameter", 3.0)])
+def test_wrong_units_rejected(name, value):
+    with pytest.raises(DimensionError, match=name) as exc:
+        beams.bending_frequency(**{**BASE, name: value})
+    assert "expected" in str(exc.value) and "got" in str(exc.value)
+
+
+@pytest.mark.parametrize("nu", [-1.0, 0.5, 0.7, -2, float("nan")])
+def test_poissons_ratio_out_of_range(nu):
+    with pytest.raises(InputError, match="poissons_ratio"):
+        beams.bending_frequency(**BASE, theory="timoshenko", poissons_ratio=nu)
+
+
+def test_timoshenko_needs_poissons_ratio_and_known_names():
+    with pytest.raises(InputError, match="poissons_ratio"):
+        beams.bending_frequency(**BASE, theory="timoshenko")
+    with pytest.raises(InputError, match="supports"):
+        beams.bending_frequency(**BASE, supports="fixed-fixed")
+    with pytest.raises(InputError, match="theory"):
+        beams.bending_frequency(**BASE, theory="rayleigh")
+    with pytest.raises(InputError, match="mode"):
+        beams.bending_frequency(**BASE, mode=0)
+    with pytest.raises(DimensionError, match="target"):
+        beams.diameter_for_frequency(target=Q_(50, "mm"), length=BASE["length"],
+                                     youngs_modulus=BASE["youngs_modulus"], density=BASE["density"])

@@ -1,0 +1,1 @@
+"""Figures drawn from result objects (matplotlib); physics modules return data, these draw it."""

@@ -77,3 +77,20 @@ def table(*, id: str, caption: str, columns: list[str], rows: list[list[Any]]) -
     rec = {"kind": "table", "id": id, "caption": caption, "columns": [str(c) for c in columns],
            "rows": [[str(c) for c in row] for row in rows]}
     return Shown(rec, f"[table {id}] {caption}")
+
+
+def summary(items: dict[str, Any], *, title: str = "Summary") -> Shown:
+    """Show a short summary; the calc package lifts it to the top.
+
+    ``items`` maps a label to a Step or Check (its result and id are shown) or to plain text.
+    """
+    rows = []
+    for label, item in items.items():
+        if hasattr(item, "to_dict"):
+            rec = item.to_dict()
+            text = rec["result_text"] + (f" ({rec['verdict']})" if rec["kind"] == "check" else "")
+            rows.append({"label": label, "text": text, "step": rec["id"]})
+        else:
+            rows.append({"label": label, "text": str(item), "step": ""})
+    rec = {"kind": "summary", "title": title, "rows": rows}
+    return Shown(rec, "\n".join(f"{r['label']}: {r['text']}" for r in rows))

@@ -26,8 +26,8 @@ def step_html(rec: dict, *, anchor: bool = True) -> str:
              f'<div class="lc-step-head"><span class="lc-step-id">{sid}</span> '
              f'{escape(rec["description"])}</div>']
     if rec.get("formula_latex"):
-        parts.append(f'<div class="lc-formula">{to_mathml(rec["formula_latex"], display=True)}</div>')
-        parts.append(f'<div class="lc-subst">{to_mathml(rec["substitution_latex"], display=True)}</div>')
+        parts.append(f'<div class="lc-formula">{to_mathml(rec["formula_latex"])}</div>')
+        parts.append(f'<div class="lc-subst">{to_mathml(rec["substitution_latex"])}</div>')
     else:
         parts.append(f'<div class="lc-value"><span class="lc-result">{escape(rec["result_text"])}</span>')
         if rec.get("method"):
@@ -85,6 +85,16 @@ def table_html(rec: dict) -> str:
             f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table></div>")
 
 
+def summary_html(rec: dict) -> str:
+    """The summary box: label, result, and a link to the step."""
+    rows = "".join(
+        f"<tr><th>{escape(r['label'])}</th><td>{escape(r['text'])}</td><td>"
+        + (f'<a href="#step-{escape(r["step"])}">{escape(r["step"])}</a>' if r["step"] else "")
+        + "</td></tr>" for r in rec["rows"])
+    return (f'<div class="lc-summary"><div class="lc-result-title">{escape(rec["title"])}</div>'
+            f"<table>{rows}</table></div>")
+
+
 def record_html(rec: dict) -> str:
     """Dispatch on the record's kind."""
     kind = rec["kind"]
@@ -98,6 +108,8 @@ def record_html(rec: dict) -> str:
         return note_html(rec)
     if kind == "table":
         return table_html(rec)
+    if kind == "summary":
+        return summary_html(rec)
     if kind == "result":
         title = f'<div class="lc-result-title">{escape(rec["title"])}</div>' if rec.get("title") else ""
         return '<div class="lc-calc">' + title + "".join(record_html(s) for s in rec["steps"]) + "</div>"
@@ -111,6 +123,7 @@ NOTEBOOK_CSS = """
 .lc-step,.lc-check{margin:6px 0 10px 0}
 .lc-step-id{font-family:monospace;font-size:85%;color:#555;background:#eef2f6;padding:0 4px;border-radius:3px}
 .lc-formula,.lc-subst{margin:2px 0 2px 12px;font-size:110%}
+.lc-formula math,.lc-subst math,.lc-formula mfrac>*,.lc-subst mfrac>*{math-style:normal}
 .lc-source{font-size:85%;color:#555;margin-left:12px}
 .lc-note{font-size:90%;color:#8a4b00;margin-left:12px}
 .lc-ok .lc-verdict{color:#1d6b2a}.lc-notok .lc-verdict{color:#b00020}

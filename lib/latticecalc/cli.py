@@ -1,0 +1,120 @@
+"""The ``latticecalc`` command: each sub-command turns its arguments into one library call."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from collections.abc import Callable, Sequence
+
+from latticecalc import __version__
+from latticecalc.errors import LatticeCalcError
+
+
+def _templates(args: argparse.Namespace) -> int:
+    from latticecalc.project.templates import list_templates
+
+    for t in list_templates():
+        print(f"{t.name:<18} {t.description}")
+    return 0
+
+
+def _new(args: argparse.Namespace) -> int:
+    from latticecalc.project.templates import new_project
+
+    folder = new_project(args.dir, template=args.template)
+    print(f"Created {folder} from template '{args.template}'. Edit inputs.toml and project.toml, "
+          f"then: latticecalc run {folder}")
+    return 0
+
+
+def _run(args: argparse.Namespace) -> int:
+    from latticecalc.project.runner import run_project
+
+    report = run_project(args.dir, timeout=args.timeout)
+    print(f"Ran {len(report.notebooks)} notebooks in {report.seconds:.1f} s; outputs in {report.executed_dir}")
+    return 0
+
+
+def _export(args: argparse.Namespace) -> int:
+    from latticecalc.project.export import export_project
+
+    report = export_project(args.dir, run=args.run, with_code=args.with_code, pdf=args.pdf)
+    print(report.html)
+    print(report.json)
+    if report.pdf:
+        print(report.pdf)
+    return 0
+
+
+def _demo(args: argparse.Namespace) -> int:
+    from latticecalc.project.demo import build_demo
+
+    report = build_demo(args.dir)
+    for p in report.packages[1:]:
+        print(f"also exported: {p}", file=sys.stderr)
+    print(report.main_package)
+    return 0
+
+
+Builder = Callable[[argparse._SubParsersAction], None]
+
+
+def _build_parser(extra: Sequence[Builder] = ()) -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(prog="latticecalc",
+                                     description="Calculation kit for strut-lattice vibration absorber panels.")
+    parser.add_argument("--version", action="version", version=f"latticecalc {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    p = sub.add_parser("templates", help="list the project templates")
+    p.set_defaults(func=_templates)
+
+    p = sub.add_parser("new", help="copy a template into a new project folder")
+    p.add_argument("dir", help="new project folder (must not exist, or be empty)")
+    p.add_argument("--template", required=True, help="template name (see 'latticecalc templates')")
+    p.set_defaults(func=_new)
+
+    p = sub.add_parser("run", help="execute the project's notebooks headless and save their outputs")
+    p.add_argument("dir", help="project folder")
+    p.add_argument("--timeout", type=int, default=1200, help="seconds allowed per cell (default 1200)")
+    p.set_defaults(func=_run)
+
+    p = sub.add_parser("export", help="write the HTML calc package and JSON of results to DIR/out/")
+    p.add_argument("dir", help="project folder")
+    p.add_argument("--run", action="store_true", help="run the notebooks first")
+    p.add_argument("--with-code", action="store_true", help="add the notebook code as an appendix")
+    p.add_argument("--pdf", action="store_true", help="also print a PDF with headless Chromium")
+    p.set_defaults(func=_export)
+
+    p = sub.add_parser("demo", help="build, run and export the worked demo project")
+    p.add_argument("dir", nargs="?", default=None, help="folder to build it in (default: a new dated folder)")
+    p.set_defaults(func=_demo)
+
+    for build in extra:
+        build(sub)
+    return parser
+
+
+def _extra_builders() -> list[Builder]:
+    try:
+        from latticecalc.project.signoff.commands import register
+    except ImportError:
+        return []
+    return [register]
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``latticecalc`` console script."""
+    parser = _build_parser(_extra_builders())
+    args = parser.parse_args(argv)
+    try:
+        return args.func(args)
+    except LatticeCalcError as exc:
+        print(f"latticecalc {args.command}: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,213 @@
+"""Render the calc package: one self-contained HTML file, no scripts, no external requests."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from html import escape
+from importlib import resources
+
+from latticecalc.project.export.collect import SheetDocument
+from latticecalc.sheet.render import record_html
+
+CAUTIONS = (
+    "This calculation package is a design aid. It does not replace the judgement of a licensed "
+    "professional engineer, who must review and take responsibility for the design.",
+    "The capacity of the column, its connections and the panel's fixings to the column are not "
+    "assessed here; they need their own structural check.",
+    "Follow the codes, standards and regulations that apply where the panel is installed; where "
+    "they differ from the methods used here, they govern.",
+    "Material values for printed elastomers vary with temperature, frequency, age and print "
+    "process: design values must come from the supplier's data sheet and tests of printed samples.",
+)
+
+CSP = "default-src 'none'; img-src data:; style-src 'unsafe-inline'; base-uri 'none'; form-action 'none'"
+
+
+@dataclass(kw_only=True)
+class SignRow:
+    """One title-block signature line."""
+
+    role: str
+    name: str = ""
+    date: str = ""
+    void: bool = False
+    void_reason: str = ""
+    signature: str = ""
+
+
+@dataclass(kw_only=True)
+class PackageExtras:
+    """What sign-off, review and revisions add to a package (empty until they exist)."""
+
+    status: str = "preliminary"
+    fingerprint: str = ""
+    signatures: list[SignRow] = field(default_factory=list)
+    comments_by_step: dict[str, list[dict]] = field(default_factory=dict)
+    comments_html: str = ""
+    open_comments: int = 0
+    revision_history_html: str = ""
+    signature_block_html: str = ""
+    embedded_json: str = ""
+
+
+def _css() -> str:
+    return (resources.files("latticecalc.project.export") / "package.css").read_text(encoding="utf-8")
+
+
+def _title_block(meta: dict, extras: PackageExtras, prepared_date: str) -> str:
+    rows = {s.role: s for s in extras.signatures}
+    prepared = rows.get("prepared", SignRow(role="prepared", name=meta["prepared_by"], date=prepared_date))
+
+    def sign_cell(row: SignRow | None) -> str:
+        if row is None or not row.name:
+            return "—"
+        cls = ' class="lc-void"' if row.void else ""
+        text = f"<span{cls}>{escape(row.name)}, {escape(row.date)}</span>"
+        if row.void:
+            text += f' <strong class="lc-verdict-notok">VOID</strong> <small>{escape(row.void_reason)}</small>'
+        return text
+
+    status = escape(extras.status)
+    return f"""
+<div class="lc-titleblock" id="title-block">
+<table>
+<tr><th>Project</th><td colspan="3">{escape(meta['name'])}</td>
+    <th>Project no.</th><td>{escape(meta['number'])}</td></tr>
+<tr><th>Calculation</th><td colspan="3" class="lc-calctitle">{escape(meta['title'])}</td>
+    <th>Calc id</th><td>{escape(meta['calc_id'])}</td></tr>
+<tr><th>Client</th><td colspan="3">{escape(meta.get('client', '')) or '—'}</td>
+    <th>Revision</th><td>{escape(meta['revision'])}</td></tr>
+<tr><th>Prepared</th><td>{sign_cell(prepared)}</td><th>Checked</th><td>{sign_cell(rows.get('checked'))}</td>
+    <th>Status</th><td class="lc-status lc-status-{status}">{status}</td></tr>
+<tr><th>Approved</th><td>{sign_cell(rows.get('approved'))}</td><th>Open comments</th><td>{extras.open_comments}</td>
+    <th>Kit</th><td>latticecalc {escape(meta.get('kit_version', ''))}</td></tr>
+<tr><th>Fingerprint</th><td colspan="5" class="lc-fingerprint">{escape(extras.fingerprint) or '—'}</td></tr>
+</table></div>"""
+
+
+def _inputs_table(inputs: list[dict]) -> str:
+    rows = "".join(
+        f"<tr><td><code>{escape(i['id'])}</code></td><td>{escape(i['description'])}</td>"
+        f"<td>{escape(i['text'])}</td><td>{escape(i['unit'])}</td><td>{escape(i['source']) or '—'}</td></tr>"
+        for i in inputs)
+    return ('<table class="lc-inputs"><thead><tr><th>Input</th><th>Description</th><th>Value</th>'
+            f"<th>Unit</th><th>Source</th></tr></thead><tbody>{rows}</tbody></table>")
+
+
+def _checks_table(checks: list[dict]) -> str:
+    if not checks:
+        return "<p>No checks in this calculation.</p>"
+    rows = []
+    for c in checks:
+        rel = "≤" if c["sense"] == "max" else "≥"
+        cls = "lc-verdict-ok" if c["ok"] else "lc-verdict-notok"
+        rows.append(f'<tr><td><a href="#step-{escape(c["id"])}">{escape(c["id"])}</a></td>'
+                    f"<td>{escape(c['description'])}</td><td>{escape(c['demand_text'])} {rel} "
+                    f"{escape(c['limit_text'])}</td><td>{c['utilisation']:.2f}</td>"
+                    f'<td class="{cls}"><strong>{escape(c["verdict"])}</strong></td></tr>')
+    return ('<table class="lc-checks"><thead><tr><th>Step</th><th>Check</th><th>Demand vs limit</th>'
+            "<th>Utilisation</th><th>Result</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
+
+
+def _comments_for(step_id: str, extras: PackageExtras) -> str:
+    out = []
+    for c in extras.comments_by_step.get(step_id, []):
+        cls = "lc-comment lc-comment-open" if c.get("status") == "open" else "lc-comment"
+        out.append(f'<div class="{cls}"><strong>Review {escape(str(c.get("id", "")))} '
+                   f'({escape(c.get("status", ""))})</strong> {escape(c.get("author", ""))}: '
+                   f'{escape(c.get("text", ""))}'
+                   + "".join(f"<br>↳ {escape(r.get('author', ''))}: {escape(r.get('text', ''))}"
+                             for r in c.get("replies", [])) + "</div>")
+    return "".join(out)
+
+
+def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], references: list[dict],
+                   extras: PackageExtras, generated: str, with_code: bool = False) -> str:
+    """The whole package as one HTML string."""
+    checks = doc.records("check")
+    notes = doc.records("note")
+    assumptions = [n for n in notes if n["category"] == "assumption"]
+    cautions = [n for n in notes if n["category"] == "caution"]
+    summaries = doc.records("summary")
+    running = f"{meta['calc_id']} rev {meta['revision']} — {meta['title']}"
+    running_css = '"' + running.replace("\\", "\\\\").replace('"', '\\"').replace("<", "\\3c ") + '"'
+
+    contents = ['<li><a href="#inputs">Inputs</a></li>', '<li><a href="#checks">Checks summary</a></li>']
+    contents += [f'<li><a href="#{s.anchor}">{s.number}. {escape(s.title)}</a></li>' for s in doc.sections]
+    back = [("comments", "Review comments"), ("revisions", "Revision history"), ("references", "References"),
+            ("assumptions", "Assumptions"), ("cautions", "Cautions")]
+    if with_code:
+        back.insert(4, ("code", "Appendix: notebook code"))
+    contents += [f'<li><a href="#{a}">{t}</a></li>' for a, t in back]
+
+    body = [_title_block(meta, extras, generated[:10])]
+    body.append('<div class="lc-cautions" id="cautions-top"><h2>Cautions</h2><ul>'
+                + "".join(f"<li>{escape(c)}</li>" for c in CAUTIONS) + "</ul></div>")
+    for s in summaries:
+        body.append(record_html(s))
+    body.append('<nav class="lc-contents"><h2>Contents</h2><ul>' + "".join(contents) + "</ul></nav>")
+    body.append('<section class="lc-section" id="inputs"><h2>Inputs</h2>' + _inputs_table(inputs) + "</section>")
+    body.append('<section id="checks"><h2>Checks summary</h2>' + _checks_table(checks) + "</section>")
+
+    fig_no = 0
+    for sec in doc.sections:
+        parts = [f'<section class="lc-section" id="{sec.anchor}" data-notebook="{escape(sec.notebook)}">'
+                 f"<h2>{sec.number}. {escape(sec.title)}</h2>"]
+        for what, payload in sec.blocks:
+            if what == "html":
+                parts.append(f'<div class="lc-narrative">{payload}</div>')
+                continue
+            rec = payload
+            if rec["kind"] == "summary":
+                continue
+            if rec["kind"] == "figure":
+                fig_no += 1
+                from latticecalc.sheet.render import figure_html
+
+                parts.append(figure_html(rec, number=fig_no))
+                continue
+            parts.append(record_html(rec))
+            steps = rec["steps"] if rec["kind"] == "result" else [rec]
+            for st in steps:
+                if "id" in st:
+                    parts.append(_comments_for(st["id"], extras))
+        parts.append("</section>")
+        body.append("".join(parts))
+
+    body.append('<section class="lc-backmatter" id="comments"><h2>Review comments</h2>'
+                + (extras.comments_html or "<p>No review comments.</p>") + "</section>")
+    body.append('<section id="revisions"><h2>Revision history</h2>'
+                + (extras.revision_history_html or
+                   f"<p>Revision {escape(meta['revision'])}: first issue of this package.</p>") + "</section>")
+    refs = "".join(f"<li>{escape(r['cite'])}</li>" for r in references)
+    body.append(f'<section id="references"><h2>References</h2><ol>{refs}</ol></section>')
+    body.append('<section id="assumptions"><h2>Assumptions</h2>'
+                + ("<ol>" + "".join(f"<li>{escape(a['text'])}</li>" for a in assumptions) + "</ol>"
+                   if assumptions else "<p>None stated beyond those in the steps.</p>") + "</section>")
+    if with_code:
+        code = "".join(f'<h3>{escape(s.notebook)}</h3><div class="lc-code">'
+                       + "".join(f"<pre>{escape(c)}</pre>" for c in s.code) + "</div>" for s in doc.sections)
+        body.append(f'<section id="code"><h2>Appendix: notebook code</h2>{code}</section>')
+    body.append('<section id="cautions"><h2>Cautions</h2><ul>'
+                + "".join(f"<li>{escape(c)}</li>" for c in CAUTIONS)
+                + "".join(f"<li>{escape(c['text'])}</li>" for c in cautions) + "</ul></section>")
+    body.append(extras.signature_block_html)
+    body.append(f'<div class="lc-footer">{escape(running)} · generated {escape(generated)} by latticecalc '
+                f'{escape(meta.get("kit_version", ""))}</div>')
+    embedded = (f'<script type="application/json" id="lc-package-data">{extras.embedded_json}</script>'
+                if extras.embedded_json else "")
+    return f"""<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8">
+<meta http-equiv="Content-Security-Policy" content="{CSP}">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta name="generator" content="latticecalc {escape(meta.get('kit_version', ''))}">
+<title>{escape(meta['calc_id'])} rev {escape(meta['revision'])} — {escape(meta['title'])}</title>
+<style>{_css()}
+:root {{ --lc-running: {running_css}; }}
+@page {{ @top-left {{ content: {running_css}; font-size: 8pt; color: #5a6470; }} }}
+</style></head>
+<body>
+{''.join(body)}
+{embedded}
+</body></html>
+"""

@@ -1,0 +1,174 @@
+"""``latticecalc export``: the HTML calc package and the JSON of inputs and key results."""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from datetime import UTC, datetime
+from pathlib import Path
+
+from latticecalc import __version__
+from latticecalc.errors import ProjectError
+from latticecalc.project.atomic import write_text_atomic
+from latticecalc.project.export.collect import SheetDocument, collect
+from latticecalc.project.export.html import PackageExtras, render_package
+from latticecalc.project.project import Project, open_project
+from latticecalc.project.state import EXECUTED_DIR, stale_files
+
+PACKAGE_FORMAT = "latticecalc-package"
+PACKAGE_FORMAT_VERSION = 1
+
+
+@dataclass(frozen=True, kw_only=True)
+class ExportReport:
+    """Where the package went."""
+
+    html: Path
+    json: Path
+    pdf: Path | None = None
+
+
+def inputs_rows(project: Project) -> list[dict]:
+    """The inputs table: id, description, value text, unit, source, plus the JSON value."""
+    rows = []
+    for e in project.inputs.entries():
+        text, unit = e.display()
+        value, value_unit = e.display_value()
+        canon = e.canonical()
+        rows.append({"id": e.spec.name, "description": e.spec.description, "text": text, "unit": unit,
+                     "value": value, "value_unit": value_unit, "si_value": canon["value"],
+                     "si_unit": canon["unit"], "source": e.source, "step": "inputs", "line": e.line})
+    return rows
+
+
+def _value_unit(rec: dict) -> tuple[object, str]:
+    res = rec["result"]
+    return res["value"], res["unit"]
+
+
+def results_rows(doc: SheetDocument) -> list[dict]:
+    """Every step and check result: id, value, unit, step id (duplicates keep the first)."""
+    seen = set()
+    rows = []
+    for rec in doc.records():
+        if rec["kind"] not in ("step", "check") or rec["id"] in seen:
+            continue
+        seen.add(rec["id"])
+        value, unit = _value_unit(rec)
+        row = {"id": rec["id"], "value": value, "unit": unit, "step": rec["id"],
+               "description": rec["description"], "text": rec["result_text"]}
+        if rec["kind"] == "check":
+            row.update({"utilisation": rec["utilisation"], "ok": rec["ok"],
+                        "limit": rec["limit"]["value"], "verdict": rec["verdict"]})
+        rows.append(row)
+    return rows
+
+
+def references(doc: SheetDocument) -> list[dict]:
+    """Unique sources cited by steps, checks and notes, in order of first use."""
+    seen = {}
+    for rec in doc.records():
+        src = rec.get("source")
+        if src and src["cite"] not in seen:
+            seen[src["cite"]] = src
+    return list(seen.values())
+
+
+def build_package_data(project: Project, doc: SheetDocument, generated: str) -> dict:
+    """The JSON content of the package (what the checker's tools and sign-off read)."""
+    meta = project.meta.to_dict() | {"template": project.template.name, "kit_version": __version__}
+    return {
+        "format": PACKAGE_FORMAT,
+        "format_version": PACKAGE_FORMAT_VERSION,
+        "generated": generated,
+        "project": meta,
+        "inputs": [{"id": r["id"], "value": r["value"], "unit": r["value_unit"], "step": r["step"],
+                    "description": r["description"], "source": r["source"], "text": r["text"],
+                    "si_value": r["si_value"], "si_unit": r["si_unit"]} for r in inputs_rows(project)],
+        "results": results_rows(doc),
+        "sections": [{"number": s.number, "title": s.title, "notebook": s.notebook} for s in doc.sections],
+        "references": [r["cite"] for r in references(doc)],
+    }
+
+
+def _extras(project: Project, data: dict, doc: SheetDocument) -> PackageExtras:
+    """Sign-off, review and revision content for the package (the plain default until signed)."""
+    try:
+        from latticecalc.project.signoff import package_extras
+    except ImportError:
+        return PackageExtras()
+    return package_extras(project, data, doc)
+
+
+def export_project(folder: str | Path, *, run: bool = False, with_code: bool = False,
+                   pdf: bool = False, progress=None) -> ExportReport:
+    """Write ``out/<calc-id>-rev<rev>.html`` and ``.json`` for the project in ``folder``.
+
+    Parameters
+    ----------
+    folder:
+        The project folder.
+    run:
+        Run the notebooks first (otherwise a project changed since its last run is refused).
+    with_code:
+        Add the notebooks' code as an appendix.
+    pdf:
+        Also print the package to PDF with headless Chromium.
+    progress:
+        Progress callback passed to the run (default: lines on stderr).
+
+    Raises
+    ------
+    ProjectError
+        If the project is stale (inputs or notebooks changed since the last run) and ``run`` is
+        false. Nothing is written then; an earlier package stays as it was.
+    """
+    project = open_project(folder)
+    if run:
+        from latticecalc.project.runner import run_project
+
+        kwargs = {} if progress is None else {"progress": progress}
+        run_project(project.folder, **kwargs)
+        project = open_project(folder)
+    changed = stale_files(project)
+    if changed:
+        raise ProjectError("changed since the last run, so its results may not match its inputs: "
+                           + ", ".join(changed), input_name=str(project.folder),
+                           hint="Run it again ('latticecalc run DIR'), or export with --run")
+    executed = [project.out / EXECUTED_DIR / nb.name for nb in project.notebooks]
+    doc = collect(executed)
+    generated = datetime.now(UTC).isoformat(timespec="seconds")
+    data = build_package_data(project, doc, generated)
+    extras = _extras(project, data, doc)
+    html = render_package(meta=data["project"], doc=doc, inputs=inputs_rows(project),
+                          references=references(doc), extras=extras, generated=generated,
+                          with_code=with_code)
+    stem = project.meta.package_stem
+    html_path = project.out / f"{stem}.html"
+    json_path = project.out / f"{stem}.json"
+    text = json.dumps(data, indent=2, ensure_ascii=False)
+    # Render everything first; then two atomic replaces: a failure leaves the old package intact.
+    write_text_atomic(json_path, text)
+    write_text_atomic(html_path, html)
+    pdf_path = None
+    if pdf:
+        from latticecalc.project.pdf import print_pdf
+
+        pdf_path = print_pdf(html_path)
+    return ExportReport(html=html_path, json=json_path, pdf=pdf_path)
+
+
+def embed_json(data: dict) -> str:
+    """JSON safe to place inside ``<script type="application/json">`` (no ``</script>`` breakout)."""
+    return (json.dumps(data, ensure_ascii=False, sort_keys=True)
+            .replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026"))
+
+
+def stale_guard(project: Project) -> None:
+    """Raise ProjectError if ``project`` changed since its last run."""
+    changed = stale_files(project)
+    if changed:
+        raise ProjectError("changed since the last run: " + ", ".join(changed), input_name=str(project.folder))
+
+
+__all__ = ["ExportReport", "build_package_data", "embed_json", "export_project", "stale_guard"]

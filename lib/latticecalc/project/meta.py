@@ -1,0 +1,67 @@
+"""A project's ``project.toml``: who, what, which revision."""
+
+from __future__ import annotations
+
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+from latticecalc.errors import InputError
+
+PROJECT_FILE = "project.toml"
+_SAFE_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
+
+
+@dataclass(frozen=True, kw_only=True)
+class ProjectMeta:
+    """Identity of a calculation: project name and number, calc id, title, revision, preparer."""
+
+    name: str
+    number: str
+    calc_id: str
+    title: str
+    revision: str
+    prepared_by: str
+    client: str = ""
+    description: str = ""
+
+    @property
+    def package_stem(self) -> str:
+        """File stem of the exported package: ``<calc-id>-rev<rev>``."""
+        return f"{self.calc_id}-rev{self.revision}"
+
+    def to_dict(self) -> dict:
+        """JSON-ready metadata."""
+        return {"name": self.name, "number": self.number, "calc_id": self.calc_id, "title": self.title,
+                "revision": self.revision, "prepared_by": self.prepared_by, "client": self.client,
+                "description": self.description}
+
+
+def load_meta(path: Path) -> ProjectMeta:
+    """Read and check ``project.toml``; calc id and revision must be safe in a file name."""
+    path = Path(path)
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError:
+        raise InputError("project file not found", input_name=PROJECT_FILE, file=str(path)) from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"not valid TOML ({exc})", input_name=PROJECT_FILE, file=path.name) from None
+    proj = data.get("project", {})
+    calc = data.get("calc", {})
+    fields = {"project.name": proj.get("name"), "project.number": proj.get("number"),
+              "calc.id": calc.get("id"), "calc.title": calc.get("title"),
+              "calc.revision": calc.get("revision"), "calc.prepared_by": calc.get("prepared_by")}
+    for key, val in fields.items():
+        if not isinstance(val, (str, int)) or (isinstance(val, str) and not val.strip()):
+            raise InputError("missing or empty", input_name=key, file=path.name,
+                             expected="a non-empty text value in quotes", got=repr(val))
+    for key in ("calc.id", "calc.revision"):
+        if not _SAFE_ID.match(str(fields[key])):
+            raise InputError("used in file names, so letters, digits, '.', '_' and '-' only",
+                             input_name=key, file=path.name, expected="e.g. 'LC-014' or 'B'",
+                             got=repr(fields[key]))
+    return ProjectMeta(name=str(proj["name"]), number=str(proj["number"]), calc_id=str(calc["id"]),
+                       title=str(calc["title"]), revision=str(calc["revision"]),
+                       prepared_by=str(calc["prepared_by"]), client=str(proj.get("client", "")),
+                       description=str(calc.get("description", "")))

@@ -1,0 +1,263 @@
+"""Vibration criteria curves with their published sources, exceedance and required insertion loss.
+
+Three families, each selectable by id (see :data:`CRITERIA`):
+
+- **Generic vibration criterion curves** for sensitive equipment (VC-A to VC-E): one-third-octave
+  RMS velocity, constant from 1 to 80 Hz (Gordon 1991; Amick, Gendreau, Busch & Gordon 2005).
+- **ISO 2631-2:1989 / BS 6472:1992 building base curve** (z-axis RMS acceleration: 1–4 Hz
+  a = 10⁻² f^(−1/2) m/s², 4–8 Hz 5 × 10⁻³ m/s², 8–80 Hz 6.25 × 10⁻⁴ f m/s²) times a multiplying
+  factor for the occupancy, converted to velocity per band, v = k a / (2π f_m).  Between 8 and
+  80 Hz this is k × 99.5 µm/s, the "ISO" occupancy curves of Gordon (1991) (rounded there to
+  100 / 200 / 400 / 800 µm/s).
+- **Transit ground-borne vibration impact criteria** (US FTA), overall RMS velocity in VdB
+  re 1 µin/s, by land-use category and event frequency: 2006 manual Table 8-1 and 2018 manual
+  Table 6-3.  These limit the overall (1 s, slow) level, not a band; bands are screened against
+  the same value (necessary, not sufficient) and the overall level is checked.
+
+Values marked ``from memory`` could not be checked against the primary document here.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import sympy as sp
+
+from latticecalc.errors import InputError
+from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
+from latticecalc.signals.spectra import velocity_from_level
+from latticecalc.units import Q_, check_dimension
+
+GORDON_1991 = Source(author="Gordon, C. G.", title="Generic criteria for vibration-sensitive equipment. "
+                     "Proc. SPIE 1619", year=1991, locator="Table 1, Fig. 1", tag="from memory")
+AMICK_2005 = Source(author="Amick, H., Gendreau, M., Busch, T. & Gordon, C.", title="Evolving criteria "
+                    "for research facilities: vibration. Proc. SPIE 5933", year=2005,
+                    locator="Table 1 (VC curves flat from 1 to 80 Hz)", tag="from memory")
+ISO_2631_2_1989 = Source(author="ISO", title="ISO 2631-2:1989 Evaluation of human exposure to whole-body "
+                         "vibration – Part 2: Continuous and shock-induced vibration in buildings (1 to 80 Hz)",
+                         year=1989, locator="base curve, z-axis acceleration; Annex A multiplying factors",
+                         tag="from memory")
+BS_6472_1992 = Source(author="BSI", title="BS 6472:1992 Guide to evaluation of human exposure to vibration "
+                      "in buildings (1 Hz to 80 Hz)", year=1992, locator="Table 5, multiplying factors",
+                      tag="from memory")
+FTA_2006 = Source(author="US Federal Transit Administration", title="Transit Noise and Vibration Impact "
+                  "Assessment, FTA-VA-90-1003-06", year=2006,
+                  locator="Table 8-1, ground-borne vibration impact criteria (frequent, infrequent)")
+FTA_2018 = Source(author="US Federal Transit Administration", title="Transit Noise and Vibration Impact "
+                  "Assessment Manual, FTA Report No. 0123", year=2018,
+                  locator="Table 6-3 (frequent, occasional, infrequent events)", tag="from memory")
+
+# --- formulas --------------------------------------------------------------------------------
+_f, _f0, _a0, _k, _a, _v, _vl, _dl, _margin = sp.symbols("f f_0 a_0 k a v v_lim Delta_L m")
+#: ISO 2631-2 base curve, three segments (1–4 Hz, 4–8 Hz, 8–80 Hz); f_0 = 1 Hz.
+BASE_CURVE_LOW = Formula("a_b", _a0 * (_f / _f0) ** sp.Rational(-1, 2))
+BASE_CURVE_MID = Formula("a_b", _a0)
+BASE_CURVE_HIGH = Formula("a_b", _a0 * (_f / _f0))
+#: Acceleration limit to velocity per band, times the multiplying factor.
+VELOCITY_LIMIT = Formula("v_lim", _k * _a / (2 * sp.pi * _f), {"v_lim": r"v_{\mathrm{lim}}"})
+#: Exceedance of a band level over its limit and the insertion loss it requires.
+EXCEEDANCE = Formula("Delta_L", 20 * sp.log(_v / _vl, 10), {"v_lim": r"v_{\mathrm{lim}}"})
+REQUIRED_LOSS = Formula("IL_req", _dl + _margin, {"IL_req": r"IL_{\mathrm{req}}"})
+
+_BASE_SEGMENTS = ((1.0, 4.0, BASE_CURVE_LOW, 1e-2), (4.0, 8.0, BASE_CURVE_MID, 5e-3),
+                  (8.0, 80.0, BASE_CURVE_HIGH, 6.25e-4))
+
+
+@dataclass(frozen=True, kw_only=True)
+class Criterion:
+    """A selectable criterion.
+
+    ``kind`` is ``"vc"`` (flat band velocity), ``"iso"`` (base curve × factor) or ``"overall"``
+    (one VdB value for the overall level).  ``value`` is µm/s for ``vc``, the multiplying factor
+    for ``iso`` and VdB for ``overall``.
+    """
+
+    id: str
+    title: str
+    kind: str
+    value: float
+    source: Source
+    note: str = ""
+
+
+CRITERIA: dict[str, Criterion] = {}
+
+
+def _add(c: Criterion) -> None:
+    CRITERIA[c.id] = c
+
+
+for _id, _um in (("vc-a", 50.0), ("vc-b", 25.0), ("vc-c", 12.5), ("vc-d", 6.25), ("vc-e", 3.12)):
+    _add(Criterion(id=_id, title=f"{_id.upper()} generic vibration criterion ({_um:g} µm/s)", kind="vc",
+                   value=_um, source=AMICK_2005))
+for _id, _factor, _what in (("iso-critical", 1.0, "critical working areas (operating theatres)"),
+                            ("iso-residential-night", 1.4, "residential, night"),
+                            ("iso-residential-day", 2.0, "residential, day (factor 2 to 4)"),
+                            ("iso-office", 4.0, "offices"), ("iso-workshop", 8.0, "workshops")):
+    _add(Criterion(id=_id, title=f"ISO 2631-2 base curve × {_factor:g}: {_what}", kind="iso", value=_factor,
+                   source=BS_6472_1992, note="continuous vibration; z-axis base curve"))
+for _id, _vdb, _what, _src in (
+        ("fta-cat1", 65.0, "category 1 (vibration-sensitive buildings), all event rates", FTA_2006),
+        ("fta-cat2-frequent", 72.0, "category 2 (residences), frequent events (> 70/day)", FTA_2006),
+        ("fta-cat2-occasional", 75.0, "category 2 (residences), occasional events (30–70/day)", FTA_2018),
+        ("fta-cat2-infrequent", 80.0, "category 2 (residences), infrequent events (< 30/day)", FTA_2006),
+        ("fta-cat3-frequent", 75.0, "category 3 (institutional, daytime), frequent events", FTA_2006),
+        ("fta-cat3-occasional", 78.0, "category 3 (institutional, daytime), occasional events", FTA_2018),
+        ("fta-cat3-infrequent", 83.0, "category 3 (institutional, daytime), infrequent events", FTA_2006)):
+    _add(Criterion(id=_id, title=f"FTA {_vdb:g} VdB: {_what}", kind="overall", value=_vdb, source=_src,
+                   note="limit on the overall RMS velocity (1 s, slow), re 1 µin/s"))
+
+
+def get_criterion(criterion: str) -> Criterion:
+    """The criterion with id ``criterion`` (see :data:`CRITERIA`)."""
+    if criterion not in CRITERIA:
+        raise InputError("unknown criterion", input_name="criterion", expected="one of " + ", ".join(CRITERIA),
+                         got=repr(criterion))
+    return CRITERIA[criterion]
+
+
+@dataclass(frozen=True, kw_only=True)
+class CriterionCurve(CalcResult):
+    """Limits per band; ``value`` maps ``centre`` (Hz) and ``velocity_rms`` (m/s, NaN where undefined)."""
+
+    criterion: Criterion
+
+
+def base_curve(*, frequency) -> CalcResult:
+    """ISO 2631-2:1989 z-axis base curve, RMS acceleration [m/s²] at ``frequency`` [frequency] (NaN outside 1–80 Hz)."""
+    f = check_dimension(frequency, name="frequency", expected="frequency").to("Hz").m
+    f = np.atleast_1d(np.asarray(f, dtype=float))
+    out = np.full(f.shape, np.nan)
+    steps = []
+    for k, (lo, hi, formula, a0) in enumerate(_BASE_SEGMENTS):
+        sel = (f >= lo) & ((f < hi) if hi < 80.0 else (f <= hi))
+        if not sel.any():
+            continue
+        step = evaluate(formula, id=f"criterion.base-curve-{k + 1}",
+                        description=f"ISO 2631-2 base curve, {lo:g}–{hi:g} Hz",
+                        values={"a_0": Q_(a0, "m/s^2"), "f": Q_(f[sel], "Hz"), "f_0": Q_(1.0, "Hz")},
+                        unit="m/s^2", source=ISO_2631_2_1989)
+        out[sel] = np.broadcast_to(step.result.m, sel.sum())
+        steps.append(step)
+    return CalcResult(value=Q_(out, "m/s^2"), steps=tuple(steps), title="ISO 2631-2 base curve")
+
+
+def criterion_curve(*, criterion: str, centre) -> CriterionCurve:
+    """Band limits of a criterion at the band midband frequencies ``centre`` [frequency], as RMS velocity.
+
+    ``overall`` criteria give the same value in every band (a screening value; the overall level is
+    what they limit).
+    """
+    c = get_criterion(criterion)
+    f = np.atleast_1d(check_dimension(centre, name="centre", expected="frequency").to("Hz").m)
+    if c.kind == "vc":
+        v = np.where((f >= 1.0 / 1.06) & (f <= 80.0 * 1.06), c.value * 1e-6, np.nan)
+        steps = (quantity_step(id=f"criterion.{c.id}", description=c.title, value=Q_(c.value, "um/s"),
+                               unit="um/s", method="constant RMS velocity per one-third-octave band, 1–80 Hz",
+                               source=c.source),)
+    elif c.kind == "iso":
+        base = base_curve(frequency=Q_(f, "Hz"))
+        a = base.value.m
+        ok = np.isfinite(a)
+        lim = evaluate(VELOCITY_LIMIT, id=f"criterion.{c.id}", description=f"{c.title}, as band velocity",
+                       values={"k": Q_(c.value, ""), "a": Q_(np.where(ok, a, 1.0), "m/s^2"), "f": Q_(f, "Hz")},
+                       unit="um/s", source=c.source, note=c.note)
+        v = np.where(ok, lim.result.to("m/s").m, np.nan)
+        steps = base.steps + (lim,)
+    else:
+        conv = velocity_from_level(Q_(c.value, "dB"), reference="1 microinch/s", id=f"criterion.{c.id}")
+        v = np.full(f.shape, float(conv.value.to("m/s").m))
+        steps = conv.steps
+    return CriterionCurve(value={"centre": Q_(f, "Hz"), "velocity_rms": Q_(v, "m/s")}, steps=tuple(steps),
+                          criterion=c, title=c.title)
+
+
+@dataclass(frozen=True, kw_only=True)
+class Assessment(CalcResult):
+    """Band levels against a criterion.
+
+    ``value`` maps ``centre`` (Hz), ``nominal``, ``velocity_rms`` (m/s), ``limit`` (m/s),
+    ``exceedance`` (dB, NaN where the criterion is undefined) and ``required_loss`` (dB, >= 0).
+    """
+
+    criterion: Criterion
+    worst_band: str
+    worst_exceedance: float
+
+
+def assess(*, levels, criterion: str, margin=None, overall=None) -> Assessment:
+    """Exceedance per band and the insertion loss required per band.
+
+    Parameters
+    ----------
+    levels:
+        A band-level result (``third_octave_levels`` or ``event_spectra``): mapping with
+        ``centre``, ``nominal`` and ``velocity_rms``.
+    criterion:
+        Criterion id (see :data:`CRITERIA`).
+    margin:
+        Design margin added to each exceedance, in dB (a Quantity in dB or a number); default 0.
+    overall:
+        For ``overall`` (FTA) criteria: the measured overall RMS velocity [velocity], e.g. the
+        maximum 1 s running RMS; default the square root of the sum of the band mean squares.
+
+    Returns
+    -------
+    Assessment
+    """
+    try:
+        centre = levels["centre"]
+        nominal = levels["nominal"]
+        v = check_dimension(levels["velocity_rms"], name="levels.velocity_rms", expected="velocity")
+    except (KeyError, TypeError):
+        raise InputError("needs band levels", input_name="levels",
+                         expected="a result with centre, nominal and velocity_rms",
+                         got=type(levels).__name__) from None
+    m = 0.0
+    if margin is not None:
+        m = float(margin.m) if hasattr(margin, "m") else float(margin)
+    curve = criterion_curve(criterion=criterion, centre=centre)
+    lim = curve.value["velocity_rms"].m
+    vv = v.to("m/s").m
+    ok = np.isfinite(lim) & (vv > 0)
+    exc = np.full(vv.shape, np.nan)
+    step_e = evaluate(EXCEEDANCE, id="criterion.exceedance", description="Exceedance of the criterion per band",
+                      values={"v": Q_(np.where(ok, vv, 1.0), "m/s"),
+                              "v_lim": Q_(np.where(ok, lim, 1.0), "m/s")}, unit="", source=curve.criterion.source)
+    exc[ok] = step_e.result.m[ok]
+    step_e = _db(step_e, np.where(ok, exc, np.nan))
+    step_r = evaluate(REQUIRED_LOSS, id="criterion.required-loss",
+                      description="Insertion loss required per band (exceedance plus margin; none where the "
+                      "band is below the criterion)", values={"Delta_L": Q_(np.where(ok, exc, 0.0), ""),
+                                                              "m": Q_(m, "")}, unit="",
+                      source=Source(author="common practice", title="required insertion loss = exceedance "
+                                    "+ design margin", tag="common practice"))
+    req = np.where(ok, np.maximum(step_r.result.m, 0.0), np.nan)
+    step_r = _db(step_r, req)
+    steps = list(curve.steps) + [step_e, step_r]
+    if ok.any():
+        k = int(np.nanargmax(np.where(ok, exc, -np.inf)))
+        steps.append(check(id="criterion.worst-band", description=f"Worst band ({nominal[k]} Hz) against "
+                           f"{curve.criterion.title}", demand=Q_(vv[k], "m/s").to("um/s"),
+                           limit=Q_(lim[k], "m/s").to("um/s"), source=curve.criterion.source))
+        worst, worst_exc = str(nominal[k]), float(exc[k])
+    else:
+        worst, worst_exc = "", float("nan")
+    if curve.criterion.kind == "overall":
+        ov = (check_dimension(overall, name="overall", expected="velocity").to("m/s").m if overall is not None
+              else float(np.sqrt(np.sum(vv ** 2))))
+        steps.append(check(id="criterion.overall", description=f"Overall RMS velocity against {curve.criterion.title}",
+                           demand=Q_(ov, "m/s").to("um/s"), limit=Q_(lim[0], "m/s").to("um/s"),
+                           source=curve.criterion.source, note=curve.criterion.note))
+    return Assessment(value={"centre": centre, "nominal": nominal, "velocity_rms": v,
+                             "limit": Q_(lim, "m/s"), "exceedance": Q_(exc, "dB"),
+                             "required_loss": Q_(req, "dB")},
+                      steps=tuple(steps), criterion=curve.criterion, worst_band=worst,
+                      worst_exceedance=worst_exc, title=f"Assessment against {curve.criterion.title}")
+
+
+def _db(step, values):
+    from dataclasses import replace
+
+    return replace(step, result=Q_(np.asarray(values, dtype=float), "dB"))

@@ -133,3 +133,16 @@ def test_timoshenko_needs_poissons_ratio_and_known_names():
     with pytest.raises(DimensionError, match="target"):
         beams.diameter_for_frequency(target=Q_(50, "mm"), length=BASE["length"],
                                      youngs_modulus=BASE["youngs_modulus"], density=BASE["density"])
+
+
+def test_cell_width_for_frequency_round_trip():
+    from latticecalc.physics.cells import build_cell
+
+    cell = build_cell("octet", cell_width=Q_(60, "mm"), strut_diameter=Q_(3, "mm"))
+    target = Q_(40, "Hz")
+    r = beams.cell_width_for_frequency(target=target, cell=cell, youngs_modulus=BASE["youngs_modulus"],
+                                       density=BASE["density"])
+    wider = cell.with_cell_width(r.value)
+    longest = wider.strut_lengths[wider.group_mask("lattice")].max()
+    assert_quantity_close(longest, r.value / math.sqrt(2), rtol=1e-12)  # octet strut a/√2
+    assert_quantity_close(_f(length=longest), target, rtol=1e-10)

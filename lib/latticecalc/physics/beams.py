@@ -654,3 +654,47 @@ def modal_mass_fraction(*, supports: str = "clamped-clamped", mode: int = 1,
                          value=Q_(mu, ""), unit="", sig=4, source=MODAL_MASS_SOURCE,
                          method="(∫φ dξ)² / ∫φ² dξ from the Euler–Bernoulli mode shape, adaptive quadrature")
     return CalcResult(value=step.result, steps=(step,), title="Effective modal mass fraction")
+
+
+_a0, _Lr, _L0 = sp.symbols("a_0 L_req L_0")
+CELL_WIDTH_FOR_LENGTH = Formula("a", _a0 * _Lr / _L0, latex_names={"a_0": "a_0", "L_req": r"L_\mathrm{req}"})
+GEOMETRY_SOURCE = Source(author="common practice", title="similar cells: strut lengths scale with the cell width",
+                         tag="common practice")
+
+
+def cell_width_for_frequency(*, target, cell, youngs_modulus, density, supports: str = "clamped-clamped",
+                             mode: int = 1, group: str = "lattice",
+                             id_prefix: str = "sizing.cell-width") -> Sizing:
+    """Cell width that puts the longest strut of ``group`` at ``target`` (Euler–Bernoulli).
+
+    The strut length for the target comes from :func:`length_for_frequency`; the cell is scaled
+    so that its longest strut of the group has that length, a = a₀ L_req / L₀ (all strut lengths
+    of a cell scale with its width).
+
+    Parameters
+    ----------
+    target:
+        Target frequency [frequency].
+    cell:
+        A :class:`~latticecalc.physics.cells.Cell` (its diameters are kept).
+    youngs_modulus:
+        Young's modulus of the strut material [pressure] (dynamic modulus for an elastomer).
+    density:
+        Density of the strut material [mass / length³].
+    supports, mode:
+        As for :func:`bending_frequency`.
+    group:
+        The strut group that resonates.
+    id_prefix:
+        Prefix of the step ids.
+    """
+    lengths = cell.strut_lengths[cell.group_mask(group)]
+    L0 = Q_(float(lengths.to("mm").magnitude.max()), "mm")
+    d = cell.diameters[group]
+    need = length_for_frequency(target=target, diameter=d, youngs_modulus=youngs_modulus, density=density,
+                                supports=supports, mode=mode, id_prefix=f"{id_prefix}.strut")
+    a = evaluate(CELL_WIDTH_FOR_LENGTH, id=f"{id_prefix}.a", unit="mm", source=GEOMETRY_SOURCE,
+                 description="Cell width whose longest strut has the required length",
+                 values={"a_0": cell.cell_width.to("mm"), "L_req": need.value, "L_0": L0})
+    return Sizing(value=a.result, steps=(*need.steps, a), check_frequency=need.check_frequency,
+                  title="Cell width for a target frequency")

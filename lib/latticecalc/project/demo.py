@@ -1,7 +1,12 @@
-"""``latticecalc demo``: build the worked demo projects (an invented scenario) and export them."""
+"""``latticecalc demo``: build the worked demo projects (an invented scenario) and export them.
+
+Each demo project in ``calcs/`` holds only what is its own (inputs, identity, data files); the
+notebooks come from its template, so the demo always runs the kit's current templates.
+"""
 
 from __future__ import annotations
 
+import shutil
 import tomllib
 from dataclasses import dataclass
 from datetime import datetime
@@ -10,7 +15,7 @@ from pathlib import Path
 from latticecalc.errors import ProjectError
 from latticecalc.project.export import export_project
 from latticecalc.project.runner import run_project
-from latticecalc.project.templates import copy_project, demo_root
+from latticecalc.project.templates import demo_root, new_project
 
 DEMO_INDEX = "demo.toml"
 
@@ -28,10 +33,29 @@ class DemoReport:
         return self.packages[0]
 
 
-def demo_projects() -> tuple[list[str], str]:
-    """Names of the demo projects in build order, and the name of the main one."""
+@dataclass(frozen=True, kw_only=True)
+class DemoProject:
+    """One demo project: its folder in ``calcs/`` (inputs, identity, data) and its template."""
+
+    folder: str
+    template: str
+    main: bool = False
+
+
+def demo_projects() -> list[DemoProject]:
+    """The demo projects in build order (``calcs/demo.toml``)."""
     index = tomllib.loads((demo_root() / DEMO_INDEX).read_text(encoding="utf-8"))
-    return list(index["demo"]["build_order"]), index["demo"]["main"]
+    return [DemoProject(folder=p["folder"], template=p["template"], main=bool(p.get("main", False)))
+            for p in index["project"]]
+
+
+def _overlay(source: Path, dest: Path) -> None:
+    """Copy the demo's own files (inputs, project identity, data) over the fresh template copy."""
+    for item in source.rglob("*"):
+        if item.is_file() and "__pycache__" not in item.parts and "out" not in item.relative_to(source).parts:
+            target = dest / item.relative_to(source)
+            target.parent.mkdir(parents=True, exist_ok=True)
+            shutil.copy2(item, target)
 
 
 def build_demo(dest: Path | None = None, *, progress=None) -> DemoReport:
@@ -43,12 +67,14 @@ def build_demo(dest: Path | None = None, *, progress=None) -> DemoReport:
         raise ProjectError("demo folder exists and is not empty; nothing was written", input_name="DIR",
                            got=str(dest), expected="a new or empty folder")
     dest.mkdir(parents=True, exist_ok=True)
-    order, main = demo_projects()
+    projects = demo_projects()
     packages = {}
-    for name in order:
-        folder = copy_project(demo_root() / name, dest / name)
-        kwargs = {} if progress is None else {"progress": progress}
+    kwargs = {} if progress is None else {"progress": progress}
+    for demo in projects:
+        folder = new_project(dest / demo.folder, template=demo.template)
+        _overlay(demo_root() / demo.folder, folder)
         run_project(folder, **kwargs)
-        packages[name] = export_project(folder).html
+        packages[demo.folder] = export_project(folder).html
+    main = next((d.folder for d in projects if d.main), projects[-1].folder)
     ordered = [packages[main]] + [p for n, p in packages.items() if n != main]
     return DemoReport(folder=dest, packages=tuple(ordered))

@@ -4,13 +4,13 @@ import shutil
 from pathlib import Path
 
 import pytest
+from tests.helpers import assert_quantity_close
 
 from latticecalc import Q_
 from latticecalc.errors import DimensionError, InputError
 from latticecalc.project.inputs import key_lines, load_inputs, set_values
 from latticecalc.project.schema import load_template_spec
 from latticecalc.project.templates import templates_root
-from tests.helpers import assert_quantity_close
 
 TEMPLATE = templates_root() / "column-panel"
 

@@ -136,3 +136,20 @@ def test_cell_inputs_use_the_lattice_group_and_the_material_range():
 def test_bad_inputs(over, name, exc):
     with pytest.raises(exc, match=name):
         bands.band_estimate(**{**PLAIN, **over})
+
+
+def test_modulus_tolerance_widens_the_range():
+    base = bands.band_estimate(**PLAIN, modulus_range=(Q_(10, "MPa"), Q_(15, "MPa")))
+    wide = bands.band_estimate(**PLAIN, modulus_range=(Q_(10, "MPa"), Q_(15, "MPa")), modulus_tolerance=0.1)
+    # f ∝ √E (Rao 2017, eq. 8.82)
+    assert _f(wide, "f_low_min") == pytest.approx(_f(base, "f_low_min") * math.sqrt(0.9), rel=1e-12)
+    assert _f(wide, "f_low_max") == pytest.approx(_f(base, "f_low_max") * math.sqrt(1.1), rel=1e-12)
+
+
+def test_equivalent_chain_gap_brackets_the_strut_mode():
+    est = bands.band_estimate(**PLAIN)
+    chain = bands.equivalent_chain(est)
+    # exact chain (Huang, Sun & Huang 2009): upper edge equals the estimate, lower edge just below f0
+    assert_quantity_close(chain.value["gap_high"], est.value["f_high"], rtol=1e-10)
+    assert chain.value["gap_low"] < est.value["f_low"]
+    assert chain.value["gap_low"] > 0.9 * est.value["f_low"]

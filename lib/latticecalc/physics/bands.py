@@ -23,6 +23,7 @@ Method (each step is on the sheet with its source):
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 from dataclasses import dataclass
 
@@ -164,6 +165,8 @@ class BandEstimate(CalcResult):
     mechanism: str
     cluster: tuple[tuple[str, int, str, pint.Quantity], ...]
     mass_ratio: float
+    cell_width: pint.Quantity
+    effective_modulus: pint.Quantity
 
     @property
     def band(self) -> tuple[pint.Quantity, pint.Quantity]:
@@ -204,8 +207,8 @@ def _as_lengths(value, name):
 
 
 def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cell_width, host_mass,
-                  effective_modulus, strut_weights=None, modulus_range=None, diameter_tolerance=None,
-                  length_tolerance=None, density_tolerance=None, cluster_modes=(1, 2, 3),
+                  effective_modulus, strut_weights=None, modulus_range=None, modulus_tolerance=None,
+                  diameter_tolerance=None, length_tolerance=None, density_tolerance=None, cluster_modes=(1, 2, 3),
                   id_prefix: str = "band") -> BandEstimate:
     """Expected stop band [f_low, f_high] of a strut lattice, with its fixity bracket and scatter.
 
@@ -229,6 +232,9 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
         Share of each strut belonging to the cell (1, or 1/2 for a strut on a face); default 1.
     modulus_range:
         (low, high) dynamic modulus over the service temperature range [pressure], or None.
+    modulus_tolerance:
+        ± tolerance on the modulus (batch scatter: a pressure or a fraction of ``youngs_modulus``),
+        applied on top of ``modulus_range``: the range becomes (low (1 − t), high (1 + t)).
     diameter_tolerance, length_tolerance, density_tolerance:
         ± tolerances (a Quantity of the parameter's dimension or a fraction), or None.
     cluster_modes:
@@ -268,6 +274,8 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
         if e_lo > e_hi:
             raise InputError("the modulus range is reversed", input_name="modulus_range",
                              expected="(low, high)", got=f"({format_quantity(e_lo)}, {format_quantity(e_hi)})")
+    t_mod = (half_width(E, modulus_tolerance, name="modulus_tolerance") / E).to("").magnitude
+    e_lo, e_hi = e_lo * (1 - t_mod), e_hi * (1 + t_mod)
     L_long = Q_(float(lengths.magnitude.max()), "m").to("mm")
     L_tot = Q_(float((weights * lengths.magnitude).sum()), "m").to("mm")
     lam = {fix: Q_(eigenvalue(supports=fix, mode=1), "") for fix in FIXITIES}
@@ -333,7 +341,8 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
                              a=a, mu=mu[fix].value, lam=lam[fix])
         ranges[fix] = (f0_c.magnitude.min(), f0_c.magnitude.max(), fh_c.magnitude.min(), fh_c.magnitude.max())
     lo_min, lo_max, hi_min, hi_max = ranges["clamped-clamped"]
-    scatter_text = (f"dynamic modulus {format_quantity(e_lo)} to {format_quantity(e_hi)}, diameter ± "
+    scatter_text = (f"dynamic modulus {format_quantity(e_lo.to('MPa'))} to {format_quantity(e_hi.to('MPa'))}"
+                    f" (temperature range and ± {format_number(100 * t_mod, 3)} % batch), diameter ± "
                     f"{format_quantity(hd)}, strut length ± {format_quantity(hl)}, density ± {format_quantity(hr)}")
     method = "formulas above evaluated at all 16 corners of: " + scatter_text
     for key, val, desc in (("f-low-min", lo_min, "Lower edge, lowest under scatter"),
@@ -377,7 +386,8 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
              "f_high_max": Q_(hi_max, "Hz"), "envelope_low": Q_(env_lo, "Hz"), "envelope_high": Q_(env_hi, "Hz")}
     ratio = float((out["clamped-clamped"][2] / out["clamped-clamped"][3]).to("").magnitude)
     return BandEstimate(value=value, steps=tuple(steps), mechanism=mechanism, cluster=tuple(cluster),
-                        mass_ratio=ratio, title="Stop band estimate from the strut resonances")
+                        mass_ratio=ratio, cell_width=a, effective_modulus=Ee,
+                        title="Stop band estimate from the strut resonances")
 
 
 def _short(fix: str) -> str:
@@ -469,8 +479,8 @@ def cell_band_inputs(*, cell, lattice_material, frame_material=None, effective_m
 
 
 def band_estimate_for_cell(*, cell, lattice_material, frame_material=None, effective_modulus=None,
-                           diameter_tolerance=None, length_tolerance=None, density_tolerance=None,
-                           id_prefix: str = "band") -> BandEstimate:
+                           modulus_tolerance=None, diameter_tolerance=None, length_tolerance=None,
+                           density_tolerance=None, id_prefix: str = "band") -> BandEstimate:
     """:func:`band_estimate` for a cell: lattice struts resonate, the frame is host mass.
 
     The dynamic modulus of the lattice material is used, and its range over the service
@@ -479,8 +489,33 @@ def band_estimate_for_cell(*, cell, lattice_material, frame_material=None, effec
     """
     inputs = cell_band_inputs(cell=cell, lattice_material=lattice_material, frame_material=frame_material,
                               effective_modulus=effective_modulus, id_prefix=f"{id_prefix}.cell")
-    est = band_estimate(**inputs.arguments, diameter_tolerance=diameter_tolerance,
+    est = band_estimate(**inputs.arguments, modulus_tolerance=modulus_tolerance,
+                        diameter_tolerance=diameter_tolerance,
                         length_tolerance=length_tolerance, density_tolerance=density_tolerance,
                         id_prefix=id_prefix)
-    return BandEstimate(value=est.value, steps=inputs.steps + est.steps, mechanism=est.mechanism,
-                        cluster=est.cluster, mass_ratio=est.mass_ratio, title=est.title)
+    return dataclasses.replace(est, steps=inputs.steps + est.steps)
+
+
+RESONATOR_STIFFNESS = Formula("k_2", _m2 * (2 * sp.pi * _f0) ** 2)
+HOST_STIFFNESS = Formula("k_1", _Ee * _a, latex_names={"E_eff": "E^*"})
+
+
+def equivalent_chain(estimate: BandEstimate, *, points: int = 201, id_prefix: str = "band.chain") -> ChainDispersion:
+    """The mass-in-mass chain behind a band estimate, solved exactly (Huang, Sun & Huang 2009).
+
+    m₁, m₂ and f₀ are the estimate's clamped–clamped values; k₂ = m₂ (2π f₀)² tunes the resonator
+    to the strut mode and k₁ = E* a is the axial stiffness of one cubic cell of the homogenised
+    panel.  The exact gap shows how far the lower edge sits below f₀.
+    """
+    m1 = next(s.result for s in estimate.steps if s.id.endswith(".m1-cc"))
+    m2 = next(s.result for s in estimate.steps if s.id.endswith(".m2-cc"))
+    f0 = estimate.value["f_low"]
+    k2 = evaluate(RESONATOR_STIFFNESS, id=f"{id_prefix}.k2", unit="N/m", source=HUANG_SUN_HUANG_2009,
+                  description="Resonator stiffness tuned to the strut mode", values={"m_2": m2, "f_0": f0})
+    k1 = evaluate(HOST_STIFFNESS, id=f"{id_prefix}.k1", unit="N/m", source=COMMON_PRACTICE,
+                  description="Host stiffness: axial stiffness of one cubic cell, E* a² / a",
+                  values={"E_eff": estimate.effective_modulus, "a": estimate.cell_width})
+    chain = mass_in_mass_dispersion(outer_mass=m1, inner_mass=m2, outer_stiffness=k1.result,
+                                    inner_stiffness=k2.result, cell_length=estimate.cell_width, points=points,
+                                    id_prefix=id_prefix)
+    return dataclasses.replace(chain, steps=(k2, k1, *chain.steps))

@@ -146,3 +146,16 @@ def test_cell_width_for_frequency_round_trip():
     longest = wider.strut_lengths[wider.group_mask("lattice")].max()
     assert_quantity_close(longest, r.value / math.sqrt(2), rtol=1e-12)  # octet strut a/√2
     assert_quantity_close(_f(length=longest), target, rtol=1e-10)
+
+
+def test_timoshenko_table_compares_with_euler_bernoulli():
+    stocky = {**BASE, "diameter": Q_(8, "mm")}
+    t = beams.strut_mode_table(**stocky, theory="timoshenko", poissons_ratio=0.49)
+    e = beams.strut_mode_table(**stocky)
+    rows = t.comparison_rows()
+    assert len(rows) == 12 and rows[0][0] == "clamped-clamped" and rows[0][5] == "FLAG"
+    for s in beams.SUPPORTS:
+        assert_quantity_close(t.euler_bernoulli[s], e.value[s], rtol=1e-14)
+        assert (t.value[s] < e.value[s]).all()
+    with pytest.raises(InputError, match="theory"):
+        e.comparison_rows()

@@ -473,6 +473,22 @@ class ModeTable(CalcResult):
 
     modes: tuple[int, ...]
     theory: str
+    euler_bernoulli: dict | None = None
+
+    def comparison_rows(self, sig: int = 4) -> list[list[str]]:
+        """Rows ``[supports, mode, f_EB, f_T, difference %, flag]`` of a Timoshenko table."""
+        if self.euler_bernoulli is None:
+            raise InputError("only a Timoshenko table compares theories", input_name="theory",
+                             expected="'timoshenko'", got=repr(self.theory))
+        rows = []
+        for s in self.value:
+            for i, m in enumerate(self.modes):
+                eb = float(self.euler_bernoulli[s][i].to("Hz").magnitude)
+                t = float(self.value[s][i].to("Hz").magnitude)
+                diff = 1.0 - t / eb
+                rows.append([s, str(m), format_number(eb, sig), format_number(t, sig),
+                             format_number(100 * diff, 3), "FLAG" if diff > TIMOSHENKO_FLAG else ""])
+        return rows
 
     def rows(self, sig: int = 4) -> list[list[str]]:
         """Rows ``[supports, f1, f2, f3]`` as text, for :func:`latticecalc.sheet.table`."""
@@ -494,21 +510,24 @@ def strut_mode_table(*, length, diameter, youngs_modulus, density, theory: str =
     """
     _check_theory(theory)
     modes = tuple(_check_mode(m) for m in modes)
-    value, steps, seen = {}, [], set()
+    value, eb, steps, seen = {}, {}, [], set()
     for s in supports:
         _check_supports(s)
-        freqs = []
+        freqs, eb_freqs = [], []
         for m in modes:
             r = bending_frequency(length=length, diameter=diameter, youngs_modulus=youngs_modulus,
                                   density=density, supports=s, mode=m, theory=theory,
                                   poissons_ratio=poissons_ratio, id_prefix=id_prefix)
             freqs.append(r.value.to("Hz").magnitude)
+            eb_freqs.append((r.euler_bernoulli if r.euler_bernoulli is not None else r.value).to("Hz").magnitude)
             for st in r.steps:
                 if st.id not in seen:
                     seen.add(st.id)
                     steps.append(st)
         value[s] = Q_(np.array(freqs), "Hz")
+        eb[s] = Q_(np.array(eb_freqs), "Hz")
     return ModeTable(value=value, steps=tuple(steps), modes=modes, theory=theory,
+                     euler_bernoulli=eb if theory == "timoshenko" else None,
                      title=f"Strut bending frequencies, modes {', '.join(map(str, modes))} ({theory})")
 
 

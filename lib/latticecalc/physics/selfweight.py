@@ -1,0 +1,497 @@
+"""Self-weight of a lattice panel: shortening, frame stress, buckling and Greenhill's height.
+
+The panel stands on its base with its own weight acting down (axis z, ``cells_high`` cells).
+Two load paths are assessed when the cell has a frame, one when it has not:
+
+``lattice-alone``
+    The lattice carries its own weight.  Its vertical modulus is the stretch-dominated octet
+    value E* = ρ̄ E_s / 9 along ⟨100⟩ (pin-jointed, affine; Deshpande, Fleck & Ashby 2001), the
+    simple-cubic value ρ̄ E_s / 3 (a third of the struts lie along the load, derived), or for
+    bending-dominated cells the scaling E* ≈ ρ̄² E_s (Gibson & Ashby 1997, from memory).
+``with-frame``
+    Frame and lattice share the weight of both in proportion to their stiffness; the frame's
+    vertical members give E*_f = E_f A_f / a² (one vertical member per cell in plan).
+
+For each path: shortening of a prismatic column under its own weight δ = ρ g H² / (2 E) (from
+σ(z) = ρ g (H − z), derived); the axial force and stress in the lowest vertical frame member;
+Euler buckling of that member, P_cr = π² E I / (K a)², and of the most heavily loaded lattice
+strut, with effective-length factors K from AISC 360 Commentary Table C-A-7.1 (the recommended
+design values by default, the theoretical values on request); and Greenhill's critical height of
+the panel as a free-standing heavy column fixed at its base, L_cr = (c E I / q)^{1/3} with
+c = (9/4) j², j the first zero of J₋₁/₃ (computed here with scipy, c = 7.8373).
+
+The lattice strut forces follow the affine uniaxial-strain distribution: a strut of section A and
+vertical direction cosine t_z carries N = σ a³ A t_z² / Σ_i w_i A_i l_i t_z,i⁴, which balances the
+vertical stress σ exactly (for the octet, Σ gives C₁₁ = ρ̄ E_s / 6; derived).
+
+Elastomers creep under the permanent self-weight: the long-term modulus (material
+``long_term_factor``) is used by default and the sheet carries a caution.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from functools import cache
+from typing import Any
+
+import numpy as np
+import pint
+import sympy as sp
+from scipy.optimize import brentq
+from scipy.special import jv
+
+from latticecalc.errors import InputError
+from latticecalc.physics.beams import AREA_CIRCLE, SECOND_MOMENT_CIRCLE, SECTION_SOURCE
+from latticecalc.physics.cells import Cell
+from latticecalc.physics.density import RelativeDensity, _materials_for, _positive_int, relative_density
+from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
+from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
+
+GRAVITY = Q_(9.80665, "m/s^2")
+
+AISC_360_C_A_7_1 = Source(author="AISC", title="ANSI/AISC 360-22 Specification for Structural Steel Buildings, "
+                          "Commentary", year=2022, locator="Table C-A-7.1, approximate values of K")
+GREENHILL_1881 = Source(author="Greenhill, A. G.", title="Determination of the greatest height consistent with "
+                        "stability that a vertical pole or mast can be made, Proc. Camb. Phil. Soc. 4",
+                        year=1881, locator="pp. 65-73; see also Timoshenko & Gere, Theory of Elastic Stability, "
+                        "§2.13 (from memory)")
+EULER_SOURCE = Source(author="Timoshenko, S. P. & Gere, J. M.", title="Theory of Elastic Stability, 2nd ed.",
+                      year=1961, locator="§2.1-2.3, P_cr = π² E I / (K L)²", tag="from memory")
+DFA_2001 = Source(author="Deshpande, V. S., Fleck, N. A. & Ashby, M. F.",
+                  title="Effective properties of the octet-truss lattice material, J. Mech. Phys. Solids 49",
+                  year=2001, locator="pin-jointed affine moduli, E₁₀₀ = ρ̄ E_s / 9 (from memory)")
+GIBSON_ASHBY_1997 = Source(author="Gibson, L. J. & Ashby, M. F.", title="Cellular Solids, 2nd ed.", year=1997,
+                           locator="ch. 5, bending-dominated open cells E*/E_s ≈ ρ̄², constant ≈ 1",
+                           tag="from memory")
+DERIVED = Source(author="derived", title="statics of a prismatic column under its own weight", tag="derived")
+DERIVED_AFFINE = Source(author="derived", title="affine uniaxial strain of pin-jointed struts, virial stress",
+                        tag="derived")
+
+#: AISC 360 Commentary Table C-A-7.1: end condition -> (case, theoretical K, recommended design K).
+EFFECTIVE_LENGTH_FACTORS: Mapping[str, tuple[str, float, float]] = {
+    "fixed-fixed": ("a", 0.5, 0.65),
+    "fixed-pinned": ("b", 0.7, 0.80),
+    "fixed-guided": ("c", 1.0, 1.2),
+    "pinned-pinned": ("d", 1.0, 1.0),
+    "fixed-free": ("e", 2.0, 2.1),
+    "pinned-guided": ("f", 2.0, 2.0),
+}
+K_VALUES = ("design", "theoretical")
+CASES = ("lattice-alone", "with-frame")
+
+# --- formulas (each rendered and evaluated once) -------------------------------------------------
+_rho, _g, _H, _E, _I, _K, _L, _q, _c = sp.symbols("rho g H E I K L q c")
+_rbar, _Es, _Ef, _Af, _a, _El, _Ec, _N, _A, _P = sp.symbols("rho_rel E_s E_f A_f a E_l E_c N A P_cr")
+_S, _t2, _sig = sp.symbols("S t_z2 sigma")
+_LATEX = dict(rho_rel=r"\bar{\rho}", E_s=r"E_s", E_f=r"E_f", A_f=r"A_f", E_l=r"E^*_l", E_c=r"E^*_c",
+              P_cr=r"P_\mathrm{cr}", t_z2=r"t_z^2", delta=r"\delta", L_cr=r"L_\mathrm{cr}", n_b=r"n_b",
+              sigma=r"\sigma", rho=r"\rho", E_star=r"E^*", E_fs=r"E^*_f", N_s=r"N_s", N_f=r"N_f",
+              rho_p=r"\rho_p", sigma_f=r"\sigma_f")
+
+SHORTENING = Formula("delta", _rho * _g * _H**2 / (2 * _E), _LATEX)
+OCTET_MODULUS = Formula("E_star", _rbar * _Es / 9, _LATEX)
+AXIAL_MODULUS = Formula("E_star", _rbar * _Es / 3, _LATEX)
+BENDING_MODULUS = Formula("E_star", _rbar**2 * _Es, _LATEX)
+FRAME_MODULUS = Formula("E_fs", _Ef * _Af / _a**2, _LATEX)
+COMBINED_MODULUS = Formula("E_c", _El + sp.Symbol("E_fs"), _LATEX)
+SMEARED_DENSITY = Formula("rho_p", _rho * _rbar, _LATEX)
+BASE_STRESS = Formula("sigma", _rho * _g * _H, _LATEX)
+FRAME_FORCE = Formula("N_f", _sig * _a**2 * sp.Symbol("E_fs") / _Ec, _LATEX)
+LATTICE_STRESS_SHARE = Formula("sigma_l", _sig * _El / _Ec, {**_LATEX, "sigma_l": r"\sigma_l"})
+FRAME_STRESS = Formula("sigma_f", sp.Symbol("N_f") / _A, _LATEX)
+STRUT_FORCE = Formula("N_s", _sig * _a**3 * _A * _t2 / _S, _LATEX)
+EULER_LOAD = Formula("P_cr", sp.pi**2 * _E * _I / (_K * _L) ** 2, _LATEX)
+SAFETY_FACTOR = Formula("n_b", _P / _N, _LATEX)
+GREENHILL_HEIGHT = Formula("L_cr", (_c * _E * _I / _q) ** sp.Rational(1, 3), _LATEX)
+PANEL_SECOND_MOMENT = Formula("I", sp.Symbol("W") * sp.Symbol("D") ** 3 / 12)
+WEIGHT_PER_LENGTH = Formula("q", _rho * _g * sp.Symbol("W") * sp.Symbol("D"))
+
+
+# --- published constants, computed ---------------------------------------------------------------
+@cache
+def bessel_zero_minus_third() -> float:
+    """First positive zero j of the Bessel function J₋₁/₃ (≈ 1.866350859), found with scipy."""
+    return float(brentq(lambda x: jv(-1.0 / 3.0, x), 1.0, 3.0, xtol=1e-15, rtol=4 * np.finfo(float).eps))
+
+
+@cache
+def greenhill_coefficient() -> float:
+    """Greenhill's coefficient c = (9/4) j² ≈ 7.8373 in L_cr = (c E I / q)^{1/3} (Greenhill 1881)."""
+    return 9.0 / 4.0 * bessel_zero_minus_third() ** 2
+
+
+@cache
+def exact_fixed_pinned_factor() -> float:
+    """Exact K of a fixed–pinned Euler column, π / x₁ with x₁ the first positive root of tan x = x."""
+    root = brentq(lambda x: math.tan(x) - x, math.pi + 1e-6, 1.5 * math.pi - 1e-6, xtol=1e-15)
+    return math.pi / root
+
+
+def effective_length_factor(end_condition: str, *, k_value: str = "design") -> float:
+    """Effective-length factor K from AISC 360 Commentary Table C-A-7.1.
+
+    Parameters
+    ----------
+    end_condition:
+        One of :data:`EFFECTIVE_LENGTH_FACTORS`: ``fixed-fixed``, ``fixed-pinned``, ``fixed-guided``
+        (rotation fixed at both ends, one end free to translate), ``pinned-pinned``, ``fixed-free``,
+        ``pinned-guided``.
+    k_value:
+        ``"design"`` (recommended design value when ideal conditions are approximated) or
+        ``"theoretical"``.
+    """
+    if end_condition not in EFFECTIVE_LENGTH_FACTORS:
+        raise InputError("unknown end condition", input_name="end_condition",
+                         expected="one of " + ", ".join(EFFECTIVE_LENGTH_FACTORS), got=repr(end_condition))
+    if k_value not in K_VALUES:
+        raise InputError("unknown K value set", input_name="k_value", expected="'design' or 'theoretical'",
+                         got=repr(k_value))
+    _, theoretical, design = EFFECTIVE_LENGTH_FACTORS[end_condition]
+    return design if k_value == "design" else theoretical
+
+
+def _k_step(end_condition: str, k_value: str, *, id: str, what: str):
+    case = EFFECTIVE_LENGTH_FACTORS.get(end_condition, ("?",))[0]
+    k = effective_length_factor(end_condition, k_value=k_value)
+    return quantity_step(id=id, description=f"Effective-length factor, {what} ({end_condition})",
+                         value=Q_(k, ""), method=f"{k_value} value, case ({case})", source=AISC_360_C_A_7_1)
+
+
+# --- small building blocks -------------------------------------------------------------------------
+def _q(value: Any, *, name: str, dim: str) -> pint.Quantity:
+    return check_positive(check_dimension(value, name=name, expected=dim), name=name)
+
+
+def self_weight_shortening(*, density, height, youngs_modulus, id: str = "selfweight.shortening",
+                           description: str = "Shortening of a prismatic column under its own weight"):
+    """δ = ρ g H² / (2 E): shortening of a uniform column of height H standing under its own weight.
+
+    Parameters
+    ----------
+    density:
+        Mass density ρ (smeared over the panel for a lattice) [mass / length³].
+    height:
+        Column height H [length].
+    youngs_modulus:
+        Axial modulus E (effective modulus for a lattice) [pressure].
+    id, description:
+        Step id and description on the sheet.
+    """
+    rho = _q(density, name="density", dim="density")
+    h = _q(height, name="height", dim="length")
+    e = _q(youngs_modulus, name="youngs_modulus", dim="pressure")
+    step = evaluate(SHORTENING, id=id, description=description, values={"rho": rho, "g": GRAVITY, "H": h, "E": e},
+                    unit="mm", source=DERIVED)
+    return CalcResult(value=step.result, steps=(step,), title="Self-weight shortening")
+
+
+def euler_buckling_load(*, youngs_modulus, diameter, length, end_condition: str = "pinned-pinned",
+                        k_value: str = "design", id_prefix: str = "buckling") -> CalcResult:
+    """Euler critical load P_cr = π² E I / (K L)² of a solid circular strut.
+
+    Parameters
+    ----------
+    youngs_modulus:
+        E [pressure].
+    diameter:
+        Strut diameter [length].
+    length:
+        Unbraced length L [length].
+    end_condition, k_value:
+        See :func:`effective_length_factor`.
+    id_prefix:
+        Prefix of the step ids.
+    """
+    e = _q(youngs_modulus, name="youngs_modulus", dim="pressure")
+    d = _q(diameter, name="diameter", dim="length")
+    length = _q(length, name="length", dim="length")
+    k = _k_step(end_condition, k_value, id=f"{id_prefix}.k", what="strut")
+    i = evaluate(SECOND_MOMENT_CIRCLE, id=f"{id_prefix}.second-moment", description="Second moment of area",
+                 values={"d": d}, unit="mm^4", source=SECTION_SOURCE)
+    p = evaluate(EULER_LOAD, id=f"{id_prefix}.p-cr", description="Euler critical load",
+                 values={"E": e, "I": i.result, "K": k.result, "L": length}, unit="N", source=EULER_SOURCE)
+    return CalcResult(value=p.result, steps=(k, i, p), title="Euler buckling load")
+
+
+def greenhill_height(*, youngs_modulus, second_moment, weight_per_length,
+                     id: str = "selfweight.greenhill") -> CalcResult:
+    """Greenhill's critical height of a heavy column, fixed base and free top: L_cr = (c E I / q)^{1/3}.
+
+    Parameters
+    ----------
+    youngs_modulus:
+        E [pressure].
+    second_moment:
+        Second moment of area I [length⁴].
+    weight_per_length:
+        Weight per unit height q = ρ g A [force / length].
+    id:
+        Step id of the height (the coefficient gets ``<id>-coefficient``).
+    """
+    e = _q(youngs_modulus, name="youngs_modulus", dim="pressure")
+    i = _q(second_moment, name="second_moment", dim="[length] ** 4")
+    q = _q(weight_per_length, name="weight_per_length", dim="[mass] / [time] ** 2")
+    c = quantity_step(id=f"{id}-coefficient", description="Greenhill's coefficient (9/4) j², j the first "
+                      "zero of J₋₁/₃", value=Q_(greenhill_coefficient(), ""),
+                      method=f"j = {bessel_zero_minus_third():.10f} found with scipy.special.jv and brentq",
+                      source=GREENHILL_1881, sig=6)
+    step = evaluate(GREENHILL_HEIGHT, id=id, description="Greenhill's critical self-weight height",
+                    values={"c": c.result, "E": e, "I": i, "q": q}, unit="m", source=GREENHILL_1881)
+    return CalcResult(value=step.result, steps=(c, step), title="Greenhill's critical height")
+
+
+# --- the panel -------------------------------------------------------------------------------------
+@dataclass(frozen=True, kw_only=True)
+class SelfWeight(CalcResult):
+    """Result of :func:`panel_self_weight`; ``value`` is the governing shortening [mm].
+
+    ``shortening``, ``effective_modulus``, ``strut_safety_factor`` and ``greenhill_height`` map each
+    load case (``lattice-alone``, ``with-frame``) to its value; the frame fields are ``None``
+    without a frame.
+    """
+
+    shortening: Mapping[str, pint.Quantity]
+    effective_modulus: Mapping[str, pint.Quantity]
+    strut_safety_factor: Mapping[str, pint.Quantity]
+    greenhill_height: Mapping[str, pint.Quantity]
+    frame_stress: pint.Quantity | None = None
+    frame_safety_factor: pint.Quantity | None = None
+    all_ok: bool = True
+
+
+def _lattice_modulus(cell: Cell, rbar, e_s, *, id: str):
+    if cell.kind == "octet":
+        return evaluate(OCTET_MODULUS, id=id, description="Vertical modulus of the lattice, octet ⟨100⟩, "
+                        "stretch-dominated (pin-jointed, affine)", values={"rho_rel": rbar, "E_s": e_s},
+                        unit="MPa", source=DFA_2001)
+    if cell.kind == "simple-cubic":
+        return evaluate(AXIAL_MODULUS, id=id, description="Vertical modulus of the lattice, simple cubic "
+                        "along a strut axis (a third of the struts carry the load)",
+                        values={"rho_rel": rbar, "E_s": e_s}, unit="MPa", source=DERIVED_AFFINE)
+    return evaluate(BENDING_MODULUS, id=id, description=f"Vertical modulus of the lattice, {cell.kind} "
+                    f"cell ({cell.regime}), bending-dominated scaling", values={"rho_rel": rbar, "E_s": e_s},
+                    unit="MPa", source=GIBSON_ASHBY_1997,
+                    note="Scaling estimate with a constant of about 1; confirm with the frame FE model.")
+
+
+def _affine_sums(cell: Cell) -> tuple[float, float, float, int]:
+    """Σ w A l t_z⁴ [m³] over the lattice, and A t_z², t_z² and index of the most loaded lattice strut."""
+    mask = cell.group_mask("lattice")
+    d = cell.diameters["lattice"].to("m").magnitude
+    area = math.pi * d**2 / 4
+    vec = cell.strut_vectors.magnitude
+    lengths = np.linalg.norm(vec, axis=1)
+    tz2 = (vec[:, 2] / lengths) ** 2
+    s = float((cell.weights[mask] * area * lengths[mask] * tz2[mask] ** 2).sum())
+    idx = np.flatnonzero(mask)[int(np.argmax(np.where(mask, tz2, -1)[mask]))]
+    return s, area, float(tz2[idx]), int(idx)
+
+
+def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, cells_deep: int,
+                      deflection_limit, buckling_safety_factor: float = 3.0, long_term: bool = True,
+                      strut_end_condition: str = "pinned-pinned", frame_end_condition: str = "pinned-pinned",
+                      k_value: str = "design", density: RelativeDensity | None = None,
+                      id_prefix: str = "selfweight") -> SelfWeight:
+    """Self-weight checks of a panel of ``cells_wide × cells_high × cells_deep`` cells.
+
+    Parameters
+    ----------
+    cell:
+        The cell; a ``frame`` group adds the with-frame load path.
+    materials:
+        Material of each strut group (``{"lattice": ..., "frame": ...}``).
+    cells_wide, cells_high, cells_deep:
+        Cells across the column face, up the column (the panel height H = cells_high · a), and away
+        from it.
+    deflection_limit:
+        Largest acceptable self-weight shortening [length].
+    buckling_safety_factor:
+        Smallest acceptable ratio of critical load (or Greenhill height) to demand.
+    long_term:
+        Use each material's long-term (creep) modulus, as fits a permanent load (default).
+    strut_end_condition, frame_end_condition, k_value:
+        End conditions of the lattice struts (between nodes) and of the vertical frame members
+        (one cell high), and which K of AISC 360 Table C-A-7.1 to use.
+    density:
+        A precomputed relative density of ``cell`` (closed form is computed otherwise).
+    id_prefix:
+        Prefix of the step ids.
+    """
+    if not isinstance(cell, Cell):
+        raise InputError("not a lattice cell", input_name="cell", expected="a Cell from build_cell",
+                         got=type(cell).__name__)
+    mats = _materials_for(cell, materials)
+    nx = _positive_int(cells_wide, name="cells_wide")
+    nz = _positive_int(cells_high, name="cells_high")
+    ny = _positive_int(cells_deep, name="cells_deep")
+    limit = _q(deflection_limit, name="deflection_limit", dim="length")
+    if isinstance(buckling_safety_factor, bool) or not isinstance(buckling_safety_factor, (int, float)) \
+            or not buckling_safety_factor >= 1.0:
+        raise InputError("a buckling safety factor is a number of at least 1", input_name="buckling_safety_factor",
+                         expected=">= 1", got=repr(buckling_safety_factor))
+    for name, cond in (("strut_end_condition", strut_end_condition), ("frame_end_condition", frame_end_condition)):
+        if cond not in EFFECTIVE_LENGTH_FACTORS:
+            raise InputError("unknown end condition", input_name=name,
+                             expected="one of " + ", ".join(EFFECTIVE_LENGTH_FACTORS), got=repr(cond))
+    effective_length_factor("pinned-pinned", k_value=k_value)
+    rd = density if density is not None else relative_density(cell, "closed-form", id_prefix=f"{id_prefix}.density")
+    p = id_prefix
+    a = cell.cell_width
+    height = (nz * a).to("m")
+    steps: list[Any] = []
+    has_frame = "frame" in cell.group_names
+
+    def modulus(group: str):
+        mat = mats[group]
+        if long_term and mat.long_term_factor != 1.0:
+            return mat.long_term_modulus(), "long-term (creep) modulus"
+        return mat.youngs_modulus.to("MPa"), "short-term modulus"
+
+    steps.append(quantity_step(id=f"{p}.height", description="Panel height", value=height, unit="m",
+                               method=f"{nz} cells × {format_quantity(a.to('mm'))}"))
+    # smeared densities
+    rho_p = {}
+    for g in cell.group_names:
+        st = evaluate(SMEARED_DENSITY, id=f"{p}.smeared-density.{g}", description=f"Mass of the {g} struts "
+                      "smeared over the panel volume", values={"rho": mats[g].density, "rho_rel": rd.by_group[g]},
+                      unit="kg/m^3", source=mats[g].source("density"))
+        steps.append(st)
+        rho_p[g] = st.result
+    rho_all = sum(rho_p.values(), Q_(0.0, "kg/m^3"))
+    if has_frame:
+        steps.append(quantity_step(id=f"{p}.smeared-density", description="Smeared density of the panel",
+                                   value=rho_all, unit="kg/m^3", method="sum over the groups"))
+    # lattice modulus
+    e_s, which = modulus("lattice")
+    creep_note = ""
+    if mats["lattice"].is_elastomer:
+        creep_note = (f"Elastomer under permanent load: {which} used. Creep continues for years; confirm the "
+                      "long-term factor with the supplier's creep data.")
+    steps.append(quantity_step(id=f"{p}.lattice-modulus-solid", description=f"Lattice material modulus "
+                               f"({which})", value=e_s, unit="MPa", method=which,
+                               source=mats["lattice"].source("long_term_factor" if "long" in which
+                                                             else "youngs_modulus"), note=creep_note))
+    e_l = _lattice_modulus(cell, rd.by_group["lattice"], e_s, id=f"{p}.lattice-modulus")
+    steps.append(e_l)
+    s_sum, strut_area, tz2, strut_idx = _affine_sums(cell)
+    strut_len = cell.strut_lengths[strut_idx]
+    d_l = cell.diameters["lattice"]
+    i_l = evaluate(SECOND_MOMENT_CIRCLE, id=f"{p}.strut-second-moment", description="Second moment of area "
+                   "of a lattice strut", values={"d": d_l}, unit="mm^4", source=SECTION_SOURCE)
+    k_s = _k_step(strut_end_condition, k_value, id=f"{p}.strut-k", what="lattice strut between nodes")
+    p_s = evaluate(EULER_LOAD, id=f"{p}.strut-p-cr", description="Euler critical load of the most heavily loaded "
+                   "lattice strut", values={"E": e_s, "I": i_l.result, "K": k_s.result, "L": strut_len},
+                   unit="N", source=EULER_SOURCE)
+    steps += [i_l, k_s, p_s]
+
+    width, depth = (nx * a).to("m"), (ny * a).to("m")
+    big, small = (width, depth) if width >= depth else (depth, width)
+    i_panel = evaluate(PANEL_SECOND_MOMENT, id=f"{p}.panel-second-moment", description="Second moment of area "
+                       "of the panel section about its weaker axis", values={"W": big, "D": small}, unit="m^4",
+                       source=SECTION_SOURCE)
+    steps.append(i_panel)
+
+    frame_parts: dict[str, Any] = {}
+    if has_frame:
+        e_f, which_f = modulus("frame")
+        a_f = evaluate(AREA_CIRCLE, id=f"{p}.frame-area", description="Section area of a frame member",
+                       values={"d": cell.diameters["frame"]}, unit="mm^2", source=SECTION_SOURCE)
+        e_fs = evaluate(FRAME_MODULUS, id=f"{p}.frame-modulus", description="Vertical modulus of the frame "
+                        f"members smeared over the panel ({which_f})", values={"E_f": e_f, "A_f": a_f.result,
+                                                                                "a": a}, unit="MPa",
+                        source=DERIVED)
+        e_c = evaluate(COMBINED_MODULUS, id=f"{p}.combined-modulus", description="Vertical modulus of frame and "
+                       "lattice together (parallel load paths)", values={"E_l": e_l.result, "E_fs": e_fs.result},
+                       unit="MPa", source=DERIVED)
+        steps += [a_f, e_fs, e_c]
+        frame_parts = {"E_f": e_f, "A_f": a_f, "E_fs": e_fs, "E_c": e_c}
+
+    shortening, moduli, strut_sf, greenhill = {}, {}, {}, {}
+    frame_stress = frame_sf = None
+    checks = []
+    cases = ["lattice-alone"] + (["with-frame"] if has_frame else [])
+    for case in cases:
+        cp = f"{p}.{case}"
+        if case == "lattice-alone":
+            rho_case, e_case = rho_p["lattice"], e_l.result
+            label = "lattice alone (no frame)"
+        else:
+            rho_case, e_case = rho_all, frame_parts["E_c"].result
+            label = "frame and lattice"
+        moduli[case] = e_case
+        dl = evaluate(SHORTENING, id=f"{cp}.shortening", description=f"Self-weight shortening, {label}",
+                      values={"rho": rho_case, "g": GRAVITY, "H": height, "E": e_case}, unit="mm", source=DERIVED,
+                      note=creep_note)
+        sig = evaluate(BASE_STRESS, id=f"{cp}.base-stress", description=f"Smeared vertical stress at the panel "
+                       f"base, {label}", values={"rho": rho_case, "g": GRAVITY, "H": height}, unit="kPa",
+                       source=DERIVED)
+        steps += [dl, sig]
+        shortening[case] = dl.result
+        sigma_l = sig.result
+        if case == "with-frame":
+            share = evaluate(LATTICE_STRESS_SHARE, id=f"{cp}.lattice-stress", description="Share of the base "
+                             "stress carried by the lattice (by stiffness)", values={"sigma": sig.result,
+                                                                                    "E_l": e_l.result,
+                                                                                    "E_c": e_case},
+                             unit="kPa", source=DERIVED)
+            steps.append(share)
+            sigma_l = share.result
+            n_f = evaluate(FRAME_FORCE, id=f"{cp}.frame-force", description="Axial force in a vertical frame "
+                           "member at the base (its stiffness share of one cell's plan area)",
+                           values={"sigma": sig.result, "a": a, "E_fs": frame_parts["E_fs"].result,
+                                   "E_c": e_case}, unit="N", source=DERIVED)
+            s_f = evaluate(FRAME_STRESS, id=f"{cp}.frame-stress", description="Axial stress in the lowest "
+                           "vertical frame member", values={"N_f": n_f.result, "A": frame_parts["A_f"].result},
+                           unit="kPa", source=DERIVED)
+            i_f = evaluate(SECOND_MOMENT_CIRCLE, id=f"{cp}.frame-second-moment", description="Second moment "
+                           "of area of a frame member", values={"d": cell.diameters["frame"]}, unit="mm^4",
+                           source=SECTION_SOURCE)
+            k_f = _k_step(frame_end_condition, k_value, id=f"{cp}.frame-k",
+                          what="vertical frame member, one cell high")
+            p_f = evaluate(EULER_LOAD, id=f"{cp}.frame-p-cr", description="Euler critical load of a vertical "
+                           "frame member", values={"E": frame_parts["E_f"], "I": i_f.result, "K": k_f.result,
+                                                   "L": a}, unit="N", source=EULER_SOURCE)
+            sf_f = evaluate(SAFETY_FACTOR, id=f"{cp}.frame-safety", description="Buckling safety factor of "
+                            "the vertical frame member", values={"P_cr": p_f.result, "N": n_f.result}, unit="",
+                            source=DERIVED)
+            steps += [n_f, s_f, i_f, k_f, p_f, sf_f]
+            frame_stress, frame_sf = s_f.result, sf_f.result
+            checks.append(check(id=f"{cp}.frame-buckling-check", description="Frame member buckling under "
+                                "self-weight: safety factor", demand=sf_f.result, limit=buckling_safety_factor,
+                                sense="min"))
+        n_s = evaluate(STRUT_FORCE, id=f"{cp}.strut-force", description=f"Axial force in the most heavily "
+                       f"loaded lattice strut at the base, {label}",
+                       values={"sigma": sigma_l, "a": a, "A": Q_(strut_area, "m^2"), "t_z2": Q_(tz2, ""),
+                               "S": Q_(s_sum, "m^3")}, unit="N", source=DERIVED_AFFINE)
+        sf_s = evaluate(SAFETY_FACTOR, id=f"{cp}.strut-safety", description="Buckling safety factor of the "
+                        "lattice strut", values={"P_cr": p_s.result, "N": n_s.result}, unit="", source=DERIVED)
+        steps += [n_s, sf_s]
+        strut_sf[case] = sf_s.result
+        q = evaluate(WEIGHT_PER_LENGTH, id=f"{cp}.weight-per-length", description=f"Panel weight per metre "
+                     f"of height, {label}", values={"rho": rho_case, "g": GRAVITY, "W": width, "D": depth},
+                     unit="N/m", source=DERIVED)
+        gh = greenhill_height(youngs_modulus=e_case, second_moment=i_panel.result, weight_per_length=q.result,
+                              id=f"{cp}.greenhill")
+        steps += [q, *gh.steps]
+        greenhill[case] = gh.value
+        ratio = gh.value / height
+        if case != cases[-1]:
+            continue  # with a frame, the lattice-alone path is shown for comparison, not checked
+        checks += [
+            check(id=f"{cp}.shortening-check", description=f"Self-weight shortening, {label}",
+                  demand=dl.result, limit=limit.to("mm"), sense="max"),
+            check(id=f"{cp}.strut-buckling-check", description=f"Lattice strut buckling under self-weight, "
+                  f"{label}: safety factor", demand=sf_s.result, limit=buckling_safety_factor, sense="min"),
+            check(id=f"{cp}.greenhill-check", description=f"Greenhill height over panel height, {label}",
+                  demand=ratio.to(""), limit=buckling_safety_factor, sense="min",
+                  note="Panel taken as free-standing, fixed at its base and free at its top (conservative "
+                       "where it is tied to the column along its height)."),
+        ]
+    steps += checks
+    governing = shortening["with-frame" if has_frame else "lattice-alone"]
+    return SelfWeight(value=governing, steps=tuple(steps), shortening=shortening, effective_modulus=moduli,
+                      strut_safety_factor=strut_sf, greenhill_height=greenhill, frame_stress=frame_stress,
+                      frame_safety_factor=frame_sf, all_ok=all(c.ok for c in checks),
+                      title="Self-weight: shortening, stresses and buckling")

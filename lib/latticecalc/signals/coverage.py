@@ -1,0 +1,115 @@
+"""Coverage: whether the designed stop band covers the measured peaks under the material's scatter.
+
+The band is given by plain edges (from the sizing estimate, or later from the numerical
+dispersion) and a scatter range of frequency factors.  At fixed geometry and density every
+frequency of the lattice scales with √E (Euler–Bernoulli, f ∝ √(E I / ρ A), Rao 2017 eq. 8.82),
+so a modulus range E_low..E_high moves the whole band by the factors √(E_low/E_nom) and
+√(E_high/E_nom) (:func:`frequency_factors`).  A peak is *covered* when it lies inside the band for
+every factor in the range (above the highest lower edge and below the lowest upper edge),
+*nominally covered* when only the nominal band holds it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import sympy as sp
+
+from latticecalc.errors import InputError
+from latticecalc.physics.beams import RAO_2017
+from latticecalc.sheet import CalcResult, Formula, check, evaluate, quantity_step
+from latticecalc.units import Q_, check_dimension, check_positive
+
+_E, _En = sp.symbols("E E_nom")
+#: Frequency factor of a modulus change at fixed geometry and density (f ∝ √E).
+FREQUENCY_FACTOR = Formula("s", sp.sqrt(_E / _En), {"E_nom": r"E_{\mathrm{nom}}"})
+
+
+@dataclass(frozen=True, kw_only=True)
+class Coverage(CalcResult):
+    """Result of :func:`band_coverage`.
+
+    ``value`` maps ``frequency`` (peaks, Hz), ``status`` ("covered", "nominal only", "not
+    covered"), ``margin_lower`` and ``margin_upper`` (Hz, to the worst-case edges; negative
+    outside), ``margin_lower_pct`` and ``margin_upper_pct`` (% of the peak frequency), and the band
+    edges ``lower``, ``upper`` (nominal) and ``lower_worst``, ``upper_worst`` (guaranteed band).
+    """
+
+    all_covered: bool
+
+
+def frequency_factors(*, nominal_modulus, low_modulus, high_modulus) -> CalcResult:
+    """Band frequency factors √(E/E_nom) for a modulus range [pressure]; ``value`` = (low, high)."""
+    en = check_positive(check_dimension(nominal_modulus, name="nominal_modulus", expected="pressure"),
+                        name="nominal_modulus")
+    lo = check_positive(check_dimension(low_modulus, name="low_modulus", expected="pressure"), name="low_modulus")
+    hi = check_positive(check_dimension(high_modulus, name="high_modulus", expected="pressure"),
+                        name="high_modulus")
+    if lo > hi:
+        raise InputError("the low modulus exceeds the high modulus", input_name="low_modulus",
+                         expected=f"<= {hi:~P}", got=f"{lo:~P}")
+    s_lo = evaluate(FREQUENCY_FACTOR, id="coverage.factor-low", description="Frequency factor, lowest modulus",
+                    values={"E": lo, "E_nom": en}, unit="", source=RAO_2017, sig=3)
+    s_hi = evaluate(FREQUENCY_FACTOR, id="coverage.factor-high", description="Frequency factor, highest modulus",
+                    values={"E": hi, "E_nom": en}, unit="", source=RAO_2017, sig=3)
+    return CalcResult(value=(float(s_lo.result.m), float(s_hi.result.m)), steps=(s_lo, s_hi),
+                      title="Band scatter from the modulus range")
+
+
+def band_coverage(*, lower, upper, peaks, scatter_low: float = 1.0, scatter_high: float = 1.0,
+                  id_prefix: str = "coverage") -> Coverage:
+    """Each peak covered or not by the band [lower, upper] moved by factors scatter_low..scatter_high.
+
+    Parameters
+    ----------
+    lower, upper:
+        Nominal band edges [frequency].
+    peaks:
+        Peak frequencies [frequency] (Quantity array).
+    scatter_low, scatter_high:
+        Frequency factors of the band's lowest and highest position (e.g. from
+        :func:`frequency_factors`); 1.0 and 1.0 for no scatter.
+    id_prefix:
+        Step id prefix.
+    """
+    f1 = check_positive(check_dimension(lower, name="lower", expected="frequency"), name="lower").to("Hz").m
+    f2 = check_positive(check_dimension(upper, name="upper", expected="frequency"), name="upper").to("Hz").m
+    if not f2 > f1:
+        raise InputError("the band's upper edge must lie above its lower edge", input_name="upper",
+                         expected=f"> {f1:g} Hz", got=f"{f2:g} Hz")
+    fp = np.atleast_1d(check_dimension(peaks, name="peaks", expected="frequency").to("Hz").m).astype(float)
+    if not (0 < scatter_low <= 1.0 <= scatter_high):
+        raise InputError("scatter factors must bracket 1", input_name="scatter_low",
+                         expected="0 < scatter_low <= 1 <= scatter_high", got=f"{scatter_low}, {scatter_high}")
+    lo_w, hi_w = f1 * scatter_high, f2 * scatter_low
+    steps = [quantity_step(id=f"{id_prefix}.band", description="Designed band, nominal", value=Q_([f1, f2], "Hz"),
+                           unit="Hz", method="from the band estimate")]
+    if lo_w >= hi_w:
+        steps.append(quantity_step(id=f"{id_prefix}.band-worst", description="No frequency lies in the band for "
+                                   "every modulus in the range", value=Q_([lo_w, hi_w], "Hz"), unit="Hz",
+                                   method=f"lower edge × {scatter_high:g}, upper edge × {scatter_low:g}"))
+    else:
+        steps.append(quantity_step(id=f"{id_prefix}.band-worst", description="Band held under the whole scatter "
+                                   "range (highest lower edge to lowest upper edge)", value=Q_([lo_w, hi_w], "Hz"),
+                                   unit="Hz", method=f"lower edge × {scatter_high:g}, upper edge × {scatter_low:g}"))
+    m_lo = fp - lo_w
+    m_hi = hi_w - fp
+    status = []
+    for k, f in enumerate(fp):
+        if m_lo[k] >= 0 and m_hi[k] >= 0:
+            status.append("covered")
+        elif f1 <= f <= f2:
+            status.append("nominal only")
+        else:
+            status.append("not covered")
+        steps.append(check(id=f"{id_prefix}.peak{k + 1}-lower", description=f"Peak {k + 1} ({f:.3g} Hz) above the "
+                           "band's highest lower edge", demand=Q_(f, "Hz"), limit=Q_(lo_w, "Hz"), sense="min"))
+        steps.append(check(id=f"{id_prefix}.peak{k + 1}-upper", description=f"Peak {k + 1} ({f:.3g} Hz) below the "
+                           "band's lowest upper edge", demand=Q_(f, "Hz"), limit=Q_(hi_w, "Hz"), sense="max"))
+    return Coverage(value={"frequency": Q_(fp, "Hz"), "status": tuple(status), "margin_lower": Q_(m_lo, "Hz"),
+                           "margin_upper": Q_(m_hi, "Hz"), "margin_lower_pct": Q_(100 * m_lo / fp, "percent"),
+                           "margin_upper_pct": Q_(100 * m_hi / fp, "percent"), "lower": Q_(f1, "Hz"),
+                           "upper": Q_(f2, "Hz"), "lower_worst": Q_(lo_w, "Hz"), "upper_worst": Q_(hi_w, "Hz")},
+                    steps=tuple(steps), all_covered=all(s == "covered" for s in status),
+                    title="Band coverage of the measured peaks")

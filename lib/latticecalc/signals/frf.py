@@ -1,0 +1,271 @@
+"""Prototype tests: transmissibility by the H1 estimator, coherence, attenuation band, calibration.
+
+- H1 = G_xy / G_xx and ordinary coherence γ² = |G_xy|² / (G_xx G_yy) from Welch-averaged auto- and
+  cross-spectra (Bendat & Piersol, *Random Data*, 4th ed. 2010, §9.2; H1 is unbiased by noise on
+  the output, biased low by noise on the input).
+- The measured attenuation band: the widest frequency range, inside a search range, where
+  |T| stays below a chosen level (e.g. −10 dB); edges interpolated linearly in dB between bins.
+- Calibration of the elastomer's dynamic modulus: at fixed geometry and density every resonance
+  of the strut scales with √E (Euler–Bernoulli f_n = λ_n²/(2π L²) √(E I/(ρ A)), Rao 2017 eq.
+  8.82), so E_cal = E_nom (f_measured / f_predicted)², with the first-order uncertainty
+  u(E_cal) = 2 E_cal u(f) / f_measured (JCGM 100:2008, law of propagation of uncertainty).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import sympy as sp
+from scipy import fft as sfft
+from scipy import signal as ssig
+
+from latticecalc.errors import InputError
+from latticecalc.physics import beams
+from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
+from latticecalc.units import Q_, check_dimension, check_positive
+
+BENDAT_PIERSOL_2010 = Source(author="Bendat, J. S. & Piersol, A. G.", title="Random Data: Analysis and "
+                             "Measurement Procedures, 4th ed.", year=2010, locator="§9.2.2 (H1), §9.2.3 "
+                             "(coherence)", tag="from memory")
+GUM_2008 = Source(author="JCGM", title="JCGM 100:2008 Evaluation of measurement data – Guide to the "
+                  "expression of uncertainty in measurement", year=2008, locator="§5.1.2, eq. (10)")
+
+_Gxy, _Gxx, _Gyy = sp.symbols("G_xy G_xx G_yy")
+H1 = Formula("H_1", _Gxy / _Gxx, {"G_xy": "G_{xy}", "G_xx": "G_{xx}", "H_1": "H_{1}"})
+COHERENCE = Formula("gamma2", sp.Abs(_Gxy) ** 2 / (_Gxx * _Gyy),
+                    {"gamma2": r"\gamma^2_{xy}", "G_xy": "G_{xy}", "G_xx": "G_{xx}", "G_yy": "G_{yy}"})
+_T = sp.Symbol("T")
+TRANSMISSIBILITY_DB = Formula("L_T", 20 * sp.log(_T, 10), {"L_T": "L_{T}"})
+_En, _fm, _fp, _uf, _Ec = sp.symbols("E_nom f_meas f_pred u_f E_cal")
+CALIBRATED_MODULUS = Formula("E_cal", _En * (_fm / _fp) ** 2,
+                             {"E_nom": r"E_{\mathrm{nom}}", "f_meas": r"f_{\mathrm{meas}}",
+                              "f_pred": r"f_{\mathrm{pred}}", "E_cal": r"E_{\mathrm{cal}}"})
+MODULUS_UNCERTAINTY = Formula("u_E", 2 * _Ec * _uf / _fm,
+                              {"E_cal": r"E_{\mathrm{cal}}", "f_meas": r"f_{\mathrm{meas}}", "u_E": "u_{E}",
+                               "u_f": "u_{f}"})
+
+DEFAULT_RESOLUTION = Q_(0.5, "Hz")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Transmissibility(CalcResult):
+    """H1 estimate.
+
+    ``value`` maps ``frequency`` (Hz), ``h1`` (complex, dimensionless), ``magnitude`` (|H1|),
+    ``level`` (dB) and ``coherence`` (γ²).
+    """
+
+    resolution: object
+    averages: int
+
+
+def _spectra(x: np.ndarray, y: np.ndarray, fs: float, nfft: int):
+    """Welch auto- and cross-spectra (Hann, 50 % overlap, one-sided density)."""
+    kw = {"fs": fs, "window": "hann", "nperseg": nfft, "noverlap": nfft // 2, "detrend": "constant"}
+    f, gxx = ssig.welch(x, **kw)
+    _, gyy = ssig.welch(y, **kw)
+    _, gxy = ssig.csd(x, y, **kw)
+    return f, gxx, gyy, gxy
+
+
+def transmissibility(*, input, output, sample_rate, resolution=DEFAULT_RESOLUTION) -> Transmissibility:
+    """Transmissibility output/input by the H1 estimator, with coherence.
+
+    Parameters
+    ----------
+    input, output:
+        1-D signals of equal length and the same dimension [acceleration or velocity].
+    sample_rate:
+        [frequency].
+    resolution:
+        Frequency resolution Δf [frequency] of the Welch averaging.
+    """
+    fs = float(check_positive(check_dimension(sample_rate, name="sample_rate", expected="frequency"),
+                              name="sample_rate").to("Hz").m)
+    for name, sig in (("input", input), ("output", output)):
+        try:
+            check_dimension(sig, name=name, expected="acceleration")
+        except Exception:
+            check_dimension(sig, name=name, expected="velocity")
+    unit = "m/s^2" if input.dimensionality == Q_(1, "m/s^2").dimensionality else "m/s"
+    x = np.asarray(input.to(unit).m, dtype=float)
+    y = np.asarray(check_dimension(output, name="output", expected=unit).to(unit).m, dtype=float)
+    if x.shape != y.shape or x.ndim != 1:
+        raise InputError("input and output must be 1-D records of one length", input_name="output",
+                         expected=str(x.shape), got=str(y.shape))
+    df = float(check_positive(check_dimension(resolution, name="resolution", expected="frequency"),
+                              name="resolution").to("Hz").m)
+    nfft = int(sfft.next_fast_len(int(np.ceil(fs / df)), real=True))
+    if nfft * 2 > x.size:
+        raise InputError("record too short for the resolution asked", input_name="resolution",
+                         expected=f">= {2 * nfft / fs:.1f} s of record for {fs / nfft:.3g} Hz (two segments)",
+                         got=f"{x.size / fs:.1f} s")
+    f, gxx, gyy, gxy = _spectra(x, y, fs, nfft)
+    pos = gxx > 0
+    u = f"({unit})^2/Hz"
+    h = np.zeros(f.shape, dtype=complex)
+    g2 = np.zeros(f.shape)
+    h[pos] = H1.evaluate({"G_xy": Q_(gxy[pos], u), "G_xx": Q_(gxx[pos], u)}).to("").m
+    g2[pos] = np.real(COHERENCE.evaluate({"G_xy": Q_(gxy[pos], u), "G_xx": Q_(gxx[pos], u),
+                                          "G_yy": Q_(gyy[pos], u)}).to("").m)
+    mag = np.abs(h)
+    lev = np.full(f.shape, np.nan)
+    nz = mag > 0
+    lev[nz] = TRANSMISSIBILITY_DB.evaluate({"T": Q_(mag[nz], "")}).to("").m
+    averages = int((x.size - nfft) // (nfft // 2) + 1)
+    steps = (
+        quantity_step(id="frf.resolution", description="Resolution of the H1 estimate", value=Q_(fs / nfft, "Hz"),
+                      unit="Hz", method=f"Welch, Hann, {nfft} samples, 50 % overlap, {averages} averages",
+                      source=BENDAT_PIERSOL_2010),
+        quantity_step(id="frf.h1", description="Transmissibility |H1| = |G_xy / G_xx| (shown: maximum)",
+                      value=Q_(float(mag.max()), ""), method="H1 estimator", source=BENDAT_PIERSOL_2010),
+    )
+    return Transmissibility(value={"frequency": Q_(f, "Hz"), "h1": Q_(h, ""), "magnitude": Q_(mag, ""),
+                                   "level": Q_(lev, "dB"), "coherence": Q_(g2, "")},
+                            steps=steps, resolution=Q_(fs / nfft, "Hz"), averages=averages,
+                            title="Transmissibility (H1) and coherence")
+
+
+@dataclass(frozen=True, kw_only=True)
+class AttenuationBand(CalcResult):
+    """Measured attenuation band.
+
+    ``value`` maps ``lower``, ``upper`` (Hz), ``minimum`` (dB) and ``at`` (Hz, where the minimum is).
+    """
+
+
+def attenuation_band(frf: Transmissibility, *, level=-10.0, lowest=None, highest=None) -> AttenuationBand:
+    """The widest range inside [lowest, highest] where the transmissibility stays below ``level``.
+
+    Parameters
+    ----------
+    frf:
+        A :class:`Transmissibility` result.
+    level:
+        Threshold in dB (number or Quantity in dB), e.g. −10 dB.
+    lowest, highest:
+        Search range [frequency] (default: the whole estimate above 0 Hz).
+    """
+    if not isinstance(frf, Transmissibility):
+        raise InputError("needs a Transmissibility result", input_name="frf", expected="Transmissibility",
+                         got=type(frf).__name__)
+    thr = float(level.m) if hasattr(level, "m") else float(level)
+    f = frf.value["frequency"].to("Hz").m
+    lev = frf.value["level"].m
+    lo = 0.0 if lowest is None else check_dimension(lowest, name="lowest", expected="frequency").to("Hz").m
+    hi = f[-1] if highest is None else check_dimension(highest, name="highest", expected="frequency").to("Hz").m
+    sel = (f > lo) & (f <= hi) & np.isfinite(lev)
+    idx = np.flatnonzero(sel)
+    below = lev[idx] < thr
+    if not below.any():
+        raise InputError("the transmissibility never falls below the level in the search range",
+                         input_name="level", expected=f"a level above the minimum {np.nanmin(lev[idx]):.1f} dB",
+                         got=f"{thr:g} dB")
+    edges = np.diff(np.concatenate(([0], below.astype(np.int8), [0])))
+    starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1) - 1
+    k = int(np.argmax(f[idx[ends]] - f[idx[starts]]))
+    i0, i1 = idx[starts[k]], idx[ends[k]]
+
+    def cross(a: int, b: int) -> float:
+        # linear interpolation in dB between bins a and b where the level crosses thr
+        la, lb = lev[a], lev[b]
+        return float(f[a] + (thr - la) * (f[b] - f[a]) / (lb - la)) if lb != la else float(f[a])
+
+    f_lo = cross(i0 - 1, i0) if i0 - 1 >= idx[0] else float(f[i0])
+    f_hi = cross(i1, i1 + 1) if i1 + 1 <= idx[-1] else float(f[i1])
+    j = i0 + int(np.argmin(lev[i0:i1 + 1]))
+    steps = (
+        quantity_step(id="frf.band", description=f"Measured attenuation band (transmissibility below {thr:g} dB)",
+                      value=Q_([f_lo, f_hi], "Hz"), unit="Hz",
+                      method=f"widest run of bins below {thr:g} dB in {lo:g}–{hi:g} Hz, edges interpolated "
+                             "linearly in dB", source=BENDAT_PIERSOL_2010),
+        quantity_step(id="frf.band-minimum", description="Deepest transmissibility in the band",
+                      value=Q_(float(lev[j]), "dB"), method=f"at {f[j]:.4g} Hz"),
+    )
+    return AttenuationBand(value={"lower": Q_(f_lo, "Hz"), "upper": Q_(f_hi, "Hz"),
+                                  "minimum": Q_(float(lev[j]), "dB"), "at": Q_(float(f[j]), "Hz")},
+                           steps=steps, title="Measured attenuation band")
+
+
+@dataclass(frozen=True, kw_only=True)
+class Calibration(CalcResult):
+    """Calibrated modulus; ``value`` is E_cal [pressure]; ``uncertainty`` its standard uncertainty."""
+
+    uncertainty: object
+    predicted_frequency: object
+
+
+def calibrate_modulus(*, nominal_modulus, measured_frequency, predicted_frequency,
+                      frequency_uncertainty=None, id_prefix: str = "calibration") -> Calibration:
+    """Back-calculate the dynamic modulus from a measured resonance or band edge.
+
+    E_cal = E_nom (f_meas / f_pred)², u(E_cal) = 2 E_cal u(f) / f_meas.
+
+    Parameters
+    ----------
+    nominal_modulus:
+        The modulus used for the prediction [pressure].
+    measured_frequency:
+        Measured resonance or band edge [frequency].
+    predicted_frequency:
+        The same feature predicted with ``nominal_modulus`` [frequency].
+    frequency_uncertainty:
+        Standard uncertainty of the measured frequency [frequency] (default 0).
+    id_prefix:
+        Step id prefix.
+    """
+    en = check_positive(check_dimension(nominal_modulus, name="nominal_modulus", expected="pressure"),
+                        name="nominal_modulus")
+    fm = check_positive(check_dimension(measured_frequency, name="measured_frequency", expected="frequency"),
+                        name="measured_frequency")
+    fp = check_positive(check_dimension(predicted_frequency, name="predicted_frequency", expected="frequency"),
+                        name="predicted_frequency")
+    uf = Q_(0.0, "Hz") if frequency_uncertainty is None else check_positive(
+        check_dimension(frequency_uncertainty, name="frequency_uncertainty", expected="frequency"),
+        name="frequency_uncertainty", allow_zero=True)
+    e = evaluate(CALIBRATED_MODULUS, id=f"{id_prefix}.modulus", description="Calibrated dynamic modulus "
+                 "(frequencies scale with √E at fixed geometry and density)",
+                 values={"E_nom": en, "f_meas": fm, "f_pred": fp}, unit="MPa", source=beams.RAO_2017)
+    u = evaluate(MODULUS_UNCERTAINTY, id=f"{id_prefix}.uncertainty", description="Standard uncertainty of the "
+                 "calibrated modulus from the frequency's", values={"E_cal": e.result, "u_f": uf, "f_meas": fm},
+                 unit="MPa", source=GUM_2008)
+    return Calibration(value=e.result, steps=(e, u), uncertainty=u.result, predicted_frequency=fp,
+                       title="Calibrated dynamic modulus")
+
+
+def calibrate_from_strut(*, measured_frequency, length, diameter, nominal_modulus, density,
+                         supports: str = "clamped-clamped", mode: int = 1, frequency_uncertainty=None) -> Calibration:
+    """Calibrate E from a measured strut resonance, predicting it with :func:`beams.bending_frequency`.
+
+    Parameters as for :func:`latticecalc.physics.beams.bending_frequency` and :func:`calibrate_modulus`.
+    The result's steps include the prediction and a check that E_cal reproduces the measured frequency.
+    """
+    pred = beams.bending_frequency(length=length, diameter=diameter, youngs_modulus=nominal_modulus,
+                                   density=density, supports=supports, mode=mode, id_prefix="calibration.predicted")
+    cal = calibrate_modulus(nominal_modulus=nominal_modulus, measured_frequency=measured_frequency,
+                            predicted_frequency=pred.value, frequency_uncertainty=frequency_uncertainty)
+    again = beams.bending_frequency(length=length, diameter=diameter, youngs_modulus=cal.value, density=density,
+                                    supports=supports, mode=mode, id_prefix="calibration.recomputed")
+    return Calibration(value=cal.value, steps=pred.steps + cal.steps + again.steps[-1:],
+                       uncertainty=cal.uncertainty, predicted_frequency=pred.value,
+                       title="Calibrated dynamic modulus from a strut resonance")
+
+
+def resonance(frf: Transmissibility, *, lowest, highest) -> CalcResult:
+    """Frequency of the largest |H1| in [lowest, highest] [frequency], with u(f) = Δf/√12 (bin quantisation)."""
+    f = frf.value["frequency"].to("Hz").m
+    lo = check_dimension(lowest, name="lowest", expected="frequency").to("Hz").m
+    hi = check_dimension(highest, name="highest", expected="frequency").to("Hz").m
+    sel = np.flatnonzero((f >= lo) & (f <= hi))
+    if sel.size == 0:
+        raise InputError("no bins in the search range", input_name="lowest", expected="a range inside the estimate",
+                         got=f"{lo:g}–{hi:g} Hz")
+    k = sel[int(np.argmax(frf.value["magnitude"].m[sel]))]
+    df = float(frf.resolution.to("Hz").m)
+    u = df / np.sqrt(12.0)
+    step = quantity_step(id="frf.resonance", description="Measured resonance (largest transmissibility in range)",
+                         value=Q_(float(f[k]), "Hz"), unit="Hz",
+                         method=f"bin maximum; standard uncertainty Δf/√12 = {u:.3g} Hz")
+    return CalcResult(value={"frequency": Q_(float(f[k]), "Hz"), "uncertainty": Q_(u, "Hz")}, steps=(step,),
+                      title="Measured resonance")

@@ -18,6 +18,7 @@ from latticecalc.physics.cells import (
     SlendernessWarning,
     build_cell,
     cell_from_lists,
+    describe_cell,
     maxwell_number,
     periodic_pairs,
 )
@@ -197,3 +198,14 @@ def test_custom_validation():
     cell = build_cell("custom", cell_width=A, strut_diameter=D, nodes=Q_(np.array(ok_nodes) * 40, "mm"),
                       struts=[(0, 1)])
     assert_quantity_close(cell.strut_lengths[0], Q_(0.6 * 40 * math.sqrt(3), "mm"), rtol=RTOL_GEOMETRY)
+
+
+def test_describe_cell_steps():
+    cell = build_cell("bcc", cell_width=A, strut_diameter=D, frame_diameter=Q_(5, "mm"))
+    res = describe_cell(cell)
+    assert_quantity_close(res.step("cell.lattice.strut-length").result, Q_(40 * math.sqrt(3) / 2, "mm"),
+                          rtol=RTOL_GEOMETRY)
+    assert res.step("cell.lattice.struts-per-cell").result.magnitude == 8
+    assert res.step("cell.frame.struts-per-cell").result.magnitude == 3
+    assert res.step("cell.connectivity").result.magnitude == pytest.approx(11.0, rel=RTOL_GEOMETRY)
+    assert "bending-dominated" in res.step("cell.connectivity").note

@@ -49,7 +49,7 @@ import numpy as np
 import pint
 
 from latticecalc.errors import InputError
-from latticecalc.sheet import Source
+from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Source, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
 #: Built-in lattice kinds (plus ``"custom"`` for a user's node and strut lists).
@@ -626,3 +626,55 @@ def cell_from_lists(*, nodes: Any, struts: Any, cell_width: Any, diameters: Mapp
         dia[g] = _check_size(diameters[g], name=f"{g} diameter")
     df = None if frame_diameter is None else _check_size(frame_diameter, name="frame_diameter")
     return _assemble(kind=kind, a=a, frac=xyz, struts=idx, groups=groups, diameters=dia, frame_diameter=df)
+
+
+def describe_cell(cell: Cell, *, id_prefix: str = "cell") -> CalcResult:
+    """The cell's geometry as sheet steps: strut lengths, counts per cell, connectivity and Maxwell number.
+
+    Parameters
+    ----------
+    cell:
+        The cell.
+    id_prefix:
+        Prefix of the step ids.
+    """
+    p = id_prefix
+    geometry = Source(author="derived", title=f"{cell.kind} cell geometry in latticecalc.physics.cells",
+                      tag="derived")
+    steps = [quantity_step(id=f"{p}.width", description="Cell width a (cube edge)", value=cell.cell_width,
+                           unit="mm", method="input")]
+    for g in cell.group_names:
+        mask = cell.group_mask(g)
+        lengths = cell.strut_lengths[mask].to("mm")
+        lo, hi = lengths.min(), lengths.max()
+        text = "" if np.isclose(lo.magnitude, hi.magnitude) else f" (shortest {format_quantity(lo)})"
+        steps += [
+            quantity_step(id=f"{p}.{g}.strut-length", description=f"Longest {g} strut between nodes{text}",
+                          value=hi, unit="mm", method="from the node coordinates", source=geometry),
+            quantity_step(id=f"{p}.{g}.struts-per-cell", description=f"{g.capitalize()} struts per cell of "
+                          "the infinite lattice (face struts 1/2, edge struts 1/4)",
+                          value=Q_(float(cell.weights[mask].sum()), ""), method="Σ of strut shares",
+                          source=geometry),
+            quantity_step(id=f"{p}.{g}.slenderness", description=f"Slenderness of the shortest {g} strut, "
+                          "length over diameter", value=Q_(cell.slenderness(g), ""),
+                          method=f"error below {MIN_SLENDERNESS:g}, warning below {WARN_SLENDERNESS:g}",
+                          source=COMMON_PRACTICE),
+        ]
+    steps += [
+        quantity_step(id=f"{p}.joints-per-cell", description="Joints per cell of the infinite lattice",
+                      value=Q_(cell.nodes_per_cell, ""), method="nodes weighted by their share", source=geometry),
+        quantity_step(id=f"{p}.connectivity", description="Mean nodal connectivity Z = 2b/j (struts per joint)",
+                      value=Q_(cell.connectivity, ""), method="all groups, infinite lattice",
+                      source=DESHPANDE_ASHBY_FLECK_2001,
+                      note=f"{cell.regime}: Z ≥ {STRETCH_CONNECTIVITY:g} is stretch-dominated, "
+                           "Z < 12 bending-dominated (Z = 6 is Maxwell's minimum for rigidity)."),
+        quantity_step(id=f"{p}.maxwell", description="Maxwell's number b − 3j + 6 of the cell drawn as a "
+                      "finite pin-jointed frame", value=Q_(cell.maxwell_number, ""),
+                      method=f"b = {len(cell.struts)}, j = {np.unique(cell.struts).size}", source=MAXWELL_1864,
+                      sig=3),
+        quantity_step(id=f"{p}.maxwell-per-cell", description="Maxwell count per cell of the infinite "
+                      "lattice, b − 3j with periodic shares (negative: mechanisms, bending carries load)",
+                      value=Q_(cell.maxwell_number_per_cell, ""), method="struts and joints per cell",
+                      source=MAXWELL_1864),
+    ]
+    return CalcResult(value=cell, steps=tuple(steps), title=f"Lattice cell: {cell.kind}")

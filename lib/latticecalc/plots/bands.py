@@ -31,8 +31,9 @@ def band_figure(estimate, *, measured=None):
     for _, mode, fix, f in estimate.cluster:
         ax.plot(f.to("Hz").magnitude, ys[fix], marker="o^s"[min(mode, 3) - 1], color="k", linestyle="none",
                 markersize=5)
-    ax.text(0.01, 0.78, "strut modes, clamped", transform=ax.transAxes, fontsize=7)
-    ax.text(0.01, 0.38, "strut modes, pinned", transform=ax.transAxes, fontsize=7)
+    ax.text(0.01, 0.80, "strut modes, clamped ends", transform=ax.transAxes, fontsize=7)
+    ax.text(0.01, 0.40, "strut modes, pinned ends", transform=ax.transAxes, fontsize=7)
+    ax.text(0.01, 0.05, "● mode 1   ▲ mode 2   ■ mode 3", transform=ax.transAxes, fontsize=7)
     ax.axvline(v["f_bragg"], color="#b33", linestyle="--", label="Bragg c/(2a)")
     if measured is not None:
         for i, f in enumerate(np.atleast_1d(measured.to("Hz").magnitude)):

@@ -77,6 +77,11 @@ def test_frame_and_lattice_share_the_base_stress():
     assert_quantity_close(res.frame_stress, n_f / (math.pi * Q_(4, "mm") ** 2 / 4), rtol=RTOL_EXACT)
     assert res.shortening["with-frame"] < res.shortening["lattice-alone"]
     assert res.value == res.shortening["with-frame"]
+    # the strut force never falls below one cell's own lattice weight hung on the frame nodes
+    local = res.step("selfweight.with-frame.lattice-local-stress").result
+    assert_quantity_close(local, relative_density(cell).value * PU.density * GRAVITY * A, rtol=RTOL_EXACT)
+    used = res.step("selfweight.with-frame.lattice-stress-used").result
+    assert_quantity_close(used, max(local, sigma_l), rtol=RTOL_EXACT)
 
 
 def test_octet_strut_force_by_statics():

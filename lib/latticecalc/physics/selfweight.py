@@ -100,6 +100,7 @@ SMEARED_DENSITY = Formula("rho_p", _rho * _rbar, _LATEX)
 BASE_STRESS = Formula("sigma", _rho * _g * _H, _LATEX)
 FRAME_FORCE = Formula("N_f", _sig * _a**2 * sp.Symbol("E_fs") / _Ec, _LATEX)
 LATTICE_STRESS_SHARE = Formula("sigma_l", _sig * _El / _Ec, {**_LATEX, "sigma_l": r"\sigma_l"})
+LOCAL_LATTICE_STRESS = Formula("sigma_loc", _rho * _g * _a, {**_LATEX, "sigma_loc": r"\sigma_\mathrm{loc}"})
 FRAME_STRESS = Formula("sigma_f", sp.Symbol("N_f") / _A, _LATEX)
 STRUT_FORCE = Formula("N_s", _sig * _a**3 * _A * _t2 / _S, _LATEX)
 EULER_LOAD = Formula("P_cr", sp.pi**2 * _E * _I / (_K * _L) ** 2, _LATEX)
@@ -436,8 +437,15 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
                                                                                     "E_l": e_l.result,
                                                                                     "E_c": e_case},
                              unit="kPa", source=DERIVED)
-            steps.append(share)
-            sigma_l = share.result
+            local = evaluate(LOCAL_LATTICE_STRESS, id=f"{cp}.lattice-local-stress", description="Vertical "
+                             "stress from one cell's own lattice weight, hung on the frame at the cell's "
+                             "nodes", values={"rho": rho_p["lattice"], "g": GRAVITY, "a": a}, unit="kPa",
+                             source=DERIVED)
+            sigma_l = max(share.result, local.result)
+            governing = quantity_step(id=f"{cp}.lattice-stress-used", description="Lattice stress used for "
+                                      "the strut force (larger of the stiffness share and the local weight)",
+                                      value=sigma_l, unit="kPa", method="maximum of the two")
+            steps += [share, local, governing]
             n_f = evaluate(FRAME_FORCE, id=f"{cp}.frame-force", description="Axial force in a vertical frame "
                            "member at the base (its stiffness share of one cell's plan area)",
                            values={"sigma": sig.result, "a": a, "E_fs": frame_parts["E_fs"].result,

@@ -1,0 +1,748 @@
+"""Finite-element model of a strut frame: 3D Timoshenko beam elements, 6 DOF per node.
+
+Each strut of a cell is divided into ``n`` two-node elements.  The element uses the
+interdependent interpolation of Timoshenko beam theory (cubic transverse displacement, quadratic
+rotation, constant shear strain), which gives the exact static stiffness of a shear-deformable
+beam and a consistent mass matrix with translational and rotary inertia:
+
+* Reddy, J. N., "On locking-free shear deformable beam finite elements", *Comput. Methods Appl.
+  Mech. Engrg.* 149 (1997) 113–132 (the interpolation);
+* Friedman, Z. & Kosmatka, J. B., "An improved two-node Timoshenko beam finite element",
+  *Comput. Struct.* 47 (1993) 473–481 (the same element; stiffness and consistent mass);
+* Przemieniecki, J. S., *Theory of Matrix Structural Analysis* (1968), §5.6 (the closed-form
+  stiffness with the shear parameter Φ = 12 E I / (κ G A L²)), §11 (consistent mass);
+* Cowper, G. R., "The shear coefficient in Timoshenko's beam theory", *J. Appl. Mech.* 33 (1966)
+  335–340: κ = 6(1 + ν)/(7 + 6ν) for a solid circle.
+
+``theory="euler-bernoulli"`` sets Φ = 0 and drops the rotary inertia of bending (the classical
+Hermite-cubic element).  Element matrices are integrated by 4-point Gauss quadrature, exact for
+these polynomials, vectorised over all elements, and assembled into sparse matrices.
+
+The struts can also be reduced one at a time (Craig–Bampton with the strut's two end nodes as
+the interface: static constraint modes plus the lowest fixed–fixed modes of the strut interior),
+which :mod:`latticecalc.physics.bloch` and :mod:`latticecalc.physics.panel` use to keep the
+Bloch and frequency-response problems small.  Craig, R. R. & Bampton, M. C. C., "Coupling of
+substructures for dynamic analyses", *AIAA J.* 6 (1968) 1313–1319.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import scipy.linalg as sla
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from latticecalc.errors import InputError, ModelError
+from latticecalc.sheet import CalcResult, Source, quantity_step
+from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
+
+THEORIES = ("timoshenko", "euler-bernoulli")
+
+REDDY_1997 = Source(author="Reddy, J. N.",
+                    title="On locking-free shear deformable beam finite elements, "
+                          "Comput. Methods Appl. Mech. Engrg. 149, 113-132", year=1997,
+                    locator="interdependent interpolation element")
+PRZEMIENIECKI_1968 = Source(author="Przemieniecki, J. S.", title="Theory of Matrix Structural Analysis",
+                            year=1968, locator="§5.6 (stiffness with shear), §11 (consistent mass)")
+COWPER_1966 = Source(author="Cowper, G. R.",
+                     title="The shear coefficient in Timoshenko's beam theory, J. Appl. Mech. 33, 335-340",
+                     year=1966, locator="solid circle: κ = 6(1+ν)/(7+6ν)")
+CRAIG_BAMPTON_1968 = Source(author="Craig, R. R. & Bampton, M. C. C.",
+                            title="Coupling of substructures for dynamic analyses, AIAA J. 6, 1313-1319",
+                            year=1968)
+
+_GAUSS_X, _GAUSS_W = np.polynomial.legendre.leggauss(4)
+_XI = 0.5 * (_GAUSS_X + 1.0)          # Gauss points on [0, 1]
+_WXI = 0.5 * _GAUSS_W
+_ZERO_TOL = 1e-9                      # relative size of a "zero" eigenvalue / pivot
+
+
+# --------------------------------------------------------------------------------------------
+# sections and materials (plain SI floats inside)
+# --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Section:
+    """Properties of one strut group, SI floats: E, G (Pa), ρ (kg/m³), d (m), loss factor η."""
+
+    E: float
+    G: float
+    rho: float
+    d: float
+    nu: float
+    eta: float = 0.0
+
+    @property
+    def A(self) -> float:  # noqa: N802 - engineering symbol
+        """Area, m²."""
+        return np.pi * self.d**2 / 4.0
+
+    @property
+    def I(self) -> float:  # noqa: N802, E743 - engineering symbol
+        """Second moment of area, m⁴."""
+        return np.pi * self.d**4 / 64.0
+
+    @property
+    def J(self) -> float:  # noqa: N802 - engineering symbol
+        """Polar second moment (torsion constant of a solid circle), m⁴."""
+        return np.pi * self.d**4 / 32.0
+
+    @property
+    def kappa(self) -> float:
+        """Cowper (1966) shear coefficient of a solid circle."""
+        return 6.0 * (1.0 + self.nu) / (7.0 + 6.0 * self.nu)
+
+
+def _material_value(material: Any, attr: str, *, group: str, expected: str, unit: str) -> float:
+    if not hasattr(material, attr):
+        raise InputError("material is missing a property", input_name=f"materials[{group!r}]",
+                         expected=f"an object with .{attr} ({expected})", got=type(material).__name__)
+    q = check_dimension(getattr(material, attr), name=f"materials[{group!r}].{attr}", expected=expected)
+    return float(q.to(unit).magnitude)
+
+
+def sections_for(cell: Any, materials: Mapping[str, Any]) -> dict[str, Section]:
+    """Section of every strut group of ``cell``, from ``cell.diameters`` and ``materials``.
+
+    Parameters
+    ----------
+    cell:
+        Anything with ``.groups`` (group name per strut) and ``.diameters`` (group -> diameter
+        [length]).
+    materials:
+        Mapping of group name to a material with ``youngs_modulus`` [pressure],
+        ``poissons_ratio`` [-], ``density`` [density] and optionally ``loss_factor`` [-].
+    """
+    if not isinstance(materials, Mapping):
+        raise InputError("materials must map each strut group to a material", input_name="materials",
+                         expected="a dict such as {'lattice': tpu, 'frame': pla}",
+                         got=type(materials).__name__)
+    out: dict[str, Section] = {}
+    for g in sorted(set(np.asarray(cell.groups).tolist())):
+        if g not in materials:
+            raise InputError("no material for a strut group", input_name="materials",
+                             expected=f"a material for group {g!r}", got=", ".join(map(repr, materials)))
+        if g not in cell.diameters:
+            raise InputError("no diameter for a strut group", input_name="cell.diameters",
+                             expected=f"a diameter for group {g!r}", got=", ".join(map(repr, cell.diameters)))
+        m = materials[g]
+        d_q = check_positive(check_dimension(cell.diameters[g], name=f"diameters[{g!r}]", expected="length"),
+                             name=f"diameters[{g!r}]")
+        E = _material_value(m, "youngs_modulus", group=g, expected="pressure", unit="Pa")
+        rho = _material_value(m, "density", group=g, expected="density", unit="kg/m^3")
+        nu = float(check_dimension(getattr(m, "poissons_ratio", None),
+                                   name=f"materials[{g!r}].poissons_ratio",
+                                   expected="dimensionless").to("").magnitude)
+        eta_q = getattr(m, "loss_factor", 0.0)
+        eta = float(check_dimension(eta_q, name=f"materials[{g!r}].loss_factor",
+                                    expected="dimensionless").to("").magnitude)
+        if not (E > 0 and rho > 0):
+            raise InputError("Young's modulus and density must be positive", input_name=f"materials[{g!r}]",
+                             expected="> 0", got=f"E = {E} Pa, ρ = {rho} kg/m³")
+        if not (-1.0 < nu < 0.5):
+            raise InputError("Poisson's ratio out of range", input_name=f"materials[{g!r}].poissons_ratio",
+                             expected="-1 < ν < 0.5", got=f"{nu}")
+        if not (0.0 <= eta < 1.0):
+            raise InputError("loss factor out of range", input_name=f"materials[{g!r}].loss_factor",
+                             expected="0 <= η < 1", got=f"{eta}")
+        out[g] = Section(E=E, G=E / (2.0 * (1.0 + nu)), rho=rho, d=float(d_q.to("m").magnitude), nu=nu,
+                         eta=eta)
+    return out
+
+
+# --------------------------------------------------------------------------------------------
+# element matrices
+# --------------------------------------------------------------------------------------------
+def _plane_shapes(L: np.ndarray, phi: np.ndarray):
+    """Shape functions of the interdependent interpolation, (ne, ng, 4), and their x-derivatives.
+
+    DOFs (w1, θ1, w2, θ2) with θ = dw/dx in the slender limit; ξ = x/L at the Gauss points.
+    """
+    x = _XI[None, :]
+    L_ = L[:, None]
+    p = phi[:, None]
+    mu = 1.0 / (1.0 + p)
+    N = np.stack([mu * (1 - 3 * x**2 + 2 * x**3 + p * (1 - x)),
+                  mu * L_ * (x - 2 * x**2 + x**3 + p * (x - x**2) / 2),
+                  mu * (3 * x**2 - 2 * x**3 + p * x),
+                  mu * L_ * (-x**2 + x**3 - p * (x - x**2) / 2)], axis=-1)
+    dN = np.stack([mu * (-6 * x + 6 * x**2 - p) / L_,
+                   mu * (1 - 4 * x + 3 * x**2 + p * (1 - 2 * x) / 2),
+                   mu * (6 * x - 6 * x**2 + p) / L_,
+                   mu * (-2 * x + 3 * x**2 - p * (1 - 2 * x) / 2)], axis=-1)
+    R = np.stack([mu * 6 * (x**2 - x) / L_,
+                  mu * (1 - 4 * x + 3 * x**2 + p * (1 - x)),
+                  -mu * 6 * (x**2 - x) / L_,
+                  mu * (-2 * x + 3 * x**2 + p * x)], axis=-1)
+    dR = np.stack([mu * 6 * (2 * x - 1) / L_**2,
+                   mu * (-4 + 6 * x - p) / L_,
+                   -mu * 6 * (2 * x - 1) / L_**2,
+                   mu * (-2 + 6 * x + p) / L_], axis=-1)
+    return N, dN, R, dR
+
+
+def plane_bending_matrices(*, L, EI, kGA, rhoA, rhoI, theory: str = "timoshenko"):
+    """Bending stiffness and consistent mass in one plane, (ne, 4, 4), DOFs (w1, θ1, w2, θ2).
+
+    All arguments are arrays over elements in SI units.  ``kGA`` is κ G A; ``rhoI`` the rotary
+    inertia per length (dropped for Euler–Bernoulli).
+    """
+    L = np.asarray(L, float)
+    if theory == "timoshenko":
+        phi = 12.0 * EI / (kGA * L**2)
+        rot = rhoI
+    else:
+        phi = np.zeros_like(L)
+        rot = np.zeros_like(L)
+        kGA = np.zeros_like(L)
+    N, dN, R, dR = _plane_shapes(L, phi)
+    wL = _WXI[None, :] * L[:, None]                      # (ne, ng) integration weights in x
+    gamma = dN - R                                       # shear strain; zero when Φ = 0
+    K = (np.einsum("eg,egi,egj->eij", wL * np.asarray(EI, float)[:, None], dR, dR)
+         + np.einsum("eg,egi,egj->eij", wL * np.asarray(kGA, float)[:, None], gamma, gamma))
+    M = (np.einsum("eg,egi,egj->eij", wL * np.asarray(rhoA, float)[:, None], N, N)
+         + np.einsum("eg,egi,egj->eij", wL * np.asarray(rot, float)[:, None], R, R))
+    return K, M
+
+
+def local_element_matrices(L: np.ndarray, sec: Sequence[Section], theory: str):
+    """Local 12×12 stiffness and mass of each element, (ne, 12, 12).
+
+    Local DOFs per node (u, v, w, θx, θy, θz); x along the element.
+    """
+    L = np.asarray(L, float)
+    ne = L.size
+    E = np.array([s.E for s in sec])
+    G = np.array([s.G for s in sec])
+    rho = np.array([s.rho for s in sec])
+    A = np.array([s.A for s in sec])
+    In = np.array([s.I for s in sec])
+    J = np.array([s.J for s in sec])
+    kap = np.array([s.kappa for s in sec])
+    Kb, Mb = plane_bending_matrices(L=L, EI=E * In, kGA=kap * G * A, rhoA=rho * A, rhoI=rho * In,
+                                    theory=theory)
+    K = np.zeros((ne, 12, 12))
+    M = np.zeros((ne, 12, 12))
+    bar = np.array([[1.0, -1.0], [-1.0, 1.0]])
+    cons = np.array([[2.0, 1.0], [1.0, 2.0]]) / 6.0
+    K[:, 0:12:6, 0:12:6] = (E * A / L)[:, None, None] * bar
+    M[:, 0:12:6, 0:12:6] = (rho * A * L)[:, None, None] * cons
+    K[:, 3:12:6, 3:12:6] = (G * J / L)[:, None, None] * bar
+    M[:, 3:12:6, 3:12:6] = (rho * J * L)[:, None, None] * cons
+    xy = np.array([1, 5, 7, 11])                 # v, θz: θz = dv/dx
+    xz = np.array([2, 4, 8, 10])                 # w, θy: θy = -dw/dx
+    sgn = np.array([1.0, -1.0, 1.0, -1.0])
+    K[:, xy[:, None], xy[None, :]] += Kb
+    M[:, xy[:, None], xy[None, :]] += Mb
+    K[:, xz[:, None], xz[None, :]] += Kb * sgn[:, None] * sgn[None, :]
+    M[:, xz[:, None], xz[None, :]] += Mb * sgn[:, None] * sgn[None, :]
+    return K, M
+
+
+def rotations(p1: np.ndarray, p2: np.ndarray) -> np.ndarray:
+    """Direction-cosine matrices Λ (ne, 3, 3), rows = local x, y, z in global coordinates."""
+    d = np.asarray(p2, float) - np.asarray(p1, float)
+    L = np.linalg.norm(d, axis=1)
+    ex = d / L[:, None]
+    ref = np.where((np.abs(ex[:, 2]) > 0.9)[:, None], np.array([0.0, 1.0, 0.0]), np.array([0.0, 0.0, 1.0]))
+    ey = np.cross(ref, ex)
+    ey /= np.linalg.norm(ey, axis=1)[:, None]
+    ez = np.cross(ex, ey)
+    return np.stack([ex, ey, ez], axis=1)
+
+
+def _transform(lam: np.ndarray, n_nodes: int = 2) -> np.ndarray:
+    ne = lam.shape[0]
+    T = np.zeros((ne, 6 * n_nodes, 6 * n_nodes))
+    for b in range(2 * n_nodes):
+        T[:, 3 * b:3 * b + 3, 3 * b:3 * b + 3] = lam
+    return T
+
+
+# --------------------------------------------------------------------------------------------
+# mesh
+# --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class FrameMesh:
+    """A strut frame divided into elements (SI floats).
+
+    ``nodes[:n_joints]`` are the joints (the cell's own nodes); the rest are the interior nodes
+    of the struts, ``n_elements - 1`` per strut in strut order.
+    """
+
+    nodes: np.ndarray
+    n_joints: int
+    struts: np.ndarray
+    strut_groups: tuple[str, ...]
+    n_elements: int
+    elements: np.ndarray = field(repr=False)
+    element_strut: np.ndarray = field(repr=False)
+
+    @property
+    def n_dofs(self) -> int:
+        """Six per node."""
+        return 6 * self.nodes.shape[0]
+
+    def strut_nodes(self, s: int) -> np.ndarray:
+        """Node indices along strut ``s``, end to end."""
+        n = self.n_elements
+        inner = self.n_joints + s * (n - 1) + np.arange(n - 1)
+        return np.concatenate([[self.struts[s, 0]], inner, [self.struts[s, 1]]])
+
+
+def check_n_elements(n_elements: Any) -> int:
+    """Validate a mesh density (elements per strut)."""
+    if isinstance(n_elements, bool) or not isinstance(n_elements, (int, np.integer)) or n_elements < 1:
+        raise InputError("mesh density must be a whole number of elements per strut, at least 1",
+                         input_name="n_elements", expected="an integer >= 1", got=repr(n_elements))
+    return int(n_elements)
+
+
+def cell_geometry(cell: Any) -> tuple[np.ndarray, np.ndarray, tuple[str, ...]]:
+    """Joints (m), struts and groups of ``cell`` as plain arrays, with the geometry checked."""
+    for attr in ("nodes", "struts", "groups", "diameters"):
+        if not hasattr(cell, attr):
+            raise InputError("not a cell", input_name="cell",
+                             expected="an object with .nodes, .struts, .groups, .diameters",
+                             got=f"{type(cell).__name__} without .{attr}")
+    nodes_q = check_dimension(cell.nodes, name="cell.nodes", expected="length")
+    nodes = np.asarray(nodes_q.to("m").magnitude, float)
+    struts = np.asarray(cell.struts)
+    groups = tuple(str(g) for g in np.asarray(cell.groups).tolist())
+    if nodes.ndim != 2 or nodes.shape[1] != 3:
+        raise ModelError("node coordinates must be an N×3 array", input_name="cell.nodes",
+                         expected="shape (N, 3)", got=f"shape {nodes.shape}")
+    if struts.ndim != 2 or struts.shape[1] != 2 or not np.issubdtype(struts.dtype, np.integer):
+        raise ModelError("struts must be an M×2 integer array", input_name="cell.struts",
+                         expected="shape (M, 2) of node indices", got=f"shape {struts.shape}, {struts.dtype}")
+    if len(groups) != struts.shape[0]:
+        raise ModelError("one group per strut", input_name="cell.groups",
+                         expected=f"{struts.shape[0]} names", got=f"{len(groups)}")
+    if struts.size and (struts.min() < 0 or struts.max() >= nodes.shape[0]):
+        raise ModelError("a strut refers to a node that does not exist", input_name="cell.struts",
+                         expected=f"indices 0..{nodes.shape[0] - 1}", got=f"{struts.min()}..{struts.max()}")
+    lengths = np.linalg.norm(nodes[struts[:, 1]] - nodes[struts[:, 0]], axis=1)
+    scale = float(np.ptp(nodes, axis=0).max()) if nodes.size else 1.0
+    short = np.flatnonzero(lengths <= 1e-9 * max(scale, 1e-300))
+    if short.size:
+        s = int(short[0])
+        raise ModelError("a strut has zero length", input_name=f"cell.struts[{s}]",
+                         expected="two distinct node positions",
+                         got=f"nodes {struts[s, 0]} and {struts[s, 1]} at the same point")
+    return nodes, struts.astype(int), groups
+
+
+def mesh_frame(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str], n_elements: int) -> FrameMesh:
+    """Divide every strut into ``n_elements`` equal elements (plain arrays, metres)."""
+    n = check_n_elements(n_elements)
+    nodes = np.asarray(nodes, float)
+    struts = np.asarray(struts, int)
+    n0, ns = nodes.shape[0], struts.shape[0]
+    t = np.arange(1, n) / n
+    p1, p2 = nodes[struts[:, 0]], nodes[struts[:, 1]]
+    inner = (p1[:, None, :] + (p2 - p1)[:, None, :] * t[None, :, None]).reshape(-1, 3)
+    all_nodes = np.vstack([nodes, inner])
+    chain = np.empty((ns, n + 1), int)
+    chain[:, 0] = struts[:, 0]
+    chain[:, -1] = struts[:, 1]
+    chain[:, 1:-1] = n0 + np.arange(ns)[:, None] * (n - 1) + np.arange(n - 1)[None, :]
+    elements = np.stack([chain[:, :-1], chain[:, 1:]], axis=-1).reshape(-1, 2)
+    element_strut = np.repeat(np.arange(ns), n)
+    return FrameMesh(nodes=all_nodes, n_joints=n0, struts=struts, strut_groups=tuple(groups),
+                     n_elements=n, elements=elements, element_strut=element_strut)
+
+
+# --------------------------------------------------------------------------------------------
+# assembly
+# --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class Assembled:
+    """Sparse global matrices (CSR, N·m and kg), total and by strut group."""
+
+    K: sp.csr_matrix
+    M: sp.csr_matrix
+    K_by_group: dict[str, sp.csr_matrix]
+    M_by_group: dict[str, sp.csr_matrix]
+
+    def damped_stiffness(self, sections: Mapping[str, Section]) -> sp.csr_matrix:
+        """K(1 + iη) summed over groups (structural damping by a loss factor per material)."""
+        out = None
+        for g, Kg in self.K_by_group.items():
+            term = Kg * (1.0 + 1j * sections[g].eta)
+            out = term if out is None else out + term
+        return out.tocsr()
+
+
+def global_element_matrices(mesh: FrameMesh, sections: Mapping[str, Section], theory: str):
+    """Element stiffness and mass in global axes, (ne, 12, 12), and the element groups."""
+    el = mesh.elements
+    p1, p2 = mesh.nodes[el[:, 0]], mesh.nodes[el[:, 1]]
+    L = np.linalg.norm(p2 - p1, axis=1)
+    egroups = [mesh.strut_groups[s] for s in mesh.element_strut]
+    Kl, Ml = local_element_matrices(L, [sections[g] for g in egroups], theory)
+    T = _transform(rotations(p1, p2))
+    K = np.einsum("eki,ekl,elj->eij", T, Kl, T)
+    M = np.einsum("eki,ekl,elj->eij", T, Ml, T)
+    return K, M, np.array(egroups)
+
+
+def _element_dofs(elements: np.ndarray) -> np.ndarray:
+    return (6 * elements[:, :, None] + np.arange(6)[None, None, :]).reshape(len(elements), 12)
+
+
+def assemble(mesh: FrameMesh, sections: Mapping[str, Section], *, theory: str = "timoshenko") -> Assembled:
+    """Assemble the sparse stiffness and consistent mass matrices of ``mesh``."""
+    K, M, egroups = global_element_matrices(mesh, sections, theory)
+    dofs = _element_dofs(mesh.elements)
+    rows = np.repeat(dofs, 12, axis=1)
+    cols = np.tile(dofs, (1, 12))
+    n = mesh.n_dofs
+    Kg, Mg = {}, {}
+    for g in sorted(set(egroups.tolist())):
+        sel = egroups == g
+        Kg[g] = sp.csr_matrix((K[sel].ravel(), (rows[sel].ravel(), cols[sel].ravel())), shape=(n, n))
+        Mg[g] = sp.csr_matrix((M[sel].ravel(), (rows[sel].ravel(), cols[sel].ravel())), shape=(n, n))
+    return Assembled(K=sum(Kg.values()).tocsr(), M=sum(Mg.values()).tocsr(), K_by_group=Kg, M_by_group=Mg)
+
+
+def used_dofs(mesh: FrameMesh) -> np.ndarray:
+    """DOF indices of nodes that belong to at least one element (free-standing joints dropped)."""
+    used = np.zeros(mesh.nodes.shape[0], bool)
+    used[mesh.elements.ravel()] = True
+    return (6 * np.flatnonzero(used)[:, None] + np.arange(6)).ravel()
+
+
+# --------------------------------------------------------------------------------------------
+# eigen and static solvers
+# --------------------------------------------------------------------------------------------
+def lowest_modes(K, M, n_modes: int, *, hermitian_dense_limit: int = 1200, shift: float | None = None):
+    """Lowest ``n_modes`` eigenpairs of K x = ω² M x (ω² ascending, clipped at 0).
+
+    Dense LAPACK below ``hermitian_dense_limit`` DOFs; otherwise ARPACK shift-invert with a small
+    negative shift, which keeps the factorisation regular when there are zero (rigid or Γ-point)
+    modes.
+    """
+    n = K.shape[0]
+    k = min(n_modes, n)
+    if n <= hermitian_dense_limit:
+        Kd = K.toarray() if sp.issparse(K) else np.asarray(K)
+        Md = M.toarray() if sp.issparse(M) else np.asarray(M)
+        w, v = sla.eigh(Kd, Md, subset_by_index=[0, k - 1])
+    else:
+        if shift is None:
+            diag = np.abs(K.diagonal()).mean() / max(np.abs(M.diagonal()).mean(), 1e-300)
+            shift = -1e-4 * diag
+        k = min(k, n - 2)
+        w, v = spla.eigsh(K, k=k, M=M, sigma=shift, which="LM")
+        order = np.argsort(w.real)
+        w, v = w[order].real, v[:, order]
+    return np.clip(np.real(w), 0.0, None), v
+
+
+def _raise_if_mechanism(w2: np.ndarray, *, expected_zero: int, scale: float, where: str):
+    zero = int(np.sum(w2 <= _ZERO_TOL * scale))
+    if zero > expected_zero:
+        raise ModelError("the frame is a mechanism: it has more zero-frequency modes than rigid-body motions",
+                         input_name=where, expected=f"{expected_zero} zero-frequency modes",
+                         got=f"{zero}",
+                         hint="Check that every strut is connected and that fixed nodes restrain the frame")
+
+
+def _frequency_scale(K, M) -> float:
+    kd = np.abs(K.diagonal())
+    md = np.abs(M.diagonal())
+    return float(np.median(kd[kd > 0]) / max(np.median(md[md > 0]), 1e-300))
+
+
+# --------------------------------------------------------------------------------------------
+# public: a model, its modes, a static solve
+# --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class FrameModel:
+    """A meshed and assembled frame (SI floats inside)."""
+
+    mesh: FrameMesh
+    sections: dict[str, Section]
+    matrices: Assembled
+    theory: str
+
+    @property
+    def n_dofs(self) -> int:
+        """Degrees of freedom of the assembled model (six per node)."""
+        return self.mesh.n_dofs
+
+
+def _check_theory(theory: str) -> str:
+    if theory not in THEORIES:
+        raise InputError("unknown beam theory", input_name="theory",
+                         expected=" or ".join(map(repr, THEORIES)), got=repr(theory))
+    return theory
+
+
+def build_frame(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
+                sections: Mapping[str, Section], n_elements: int, theory: str = "timoshenko") -> FrameModel:
+    """Mesh and assemble a frame from plain arrays (metres) and :class:`Section` objects."""
+    mesh = mesh_frame(nodes=nodes, struts=struts, groups=groups, n_elements=n_elements)
+    return FrameModel(mesh=mesh, sections=dict(sections), matrices=assemble(mesh, sections, theory=theory),
+                      theory=_check_theory(theory))
+
+
+def frame_model(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8,
+                theory: str = "timoshenko") -> FrameModel:
+    """Mesh and assemble ``cell`` (duck-typed: ``.nodes``, ``.struts``, ``.groups``, ``.diameters``)."""
+    _check_theory(theory)
+    nodes, struts, groups = cell_geometry(cell)
+    sections = sections_for(cell, materials)
+    return build_frame(nodes=nodes, struts=struts, groups=groups, sections=sections,
+                       n_elements=n_elements, theory=theory)
+
+
+def _free_dofs(model: FrameModel, fixed: Sequence[int]) -> np.ndarray:
+    fixed = np.asarray(list(fixed), int)
+    n_j = model.mesh.n_joints
+    if fixed.size and (fixed.min() < 0 or fixed.max() >= n_j):
+        raise InputError("a fixed node does not exist", input_name="fixed",
+                         expected=f"node indices 0..{n_j - 1}", got=repr(fixed.tolist()))
+    dofs = used_dofs(model.mesh)
+    fixed_dofs = (6 * fixed[:, None] + np.arange(6)).ravel()
+    return np.setdiff1d(dofs, fixed_dofs)
+
+
+@dataclass(frozen=True, kw_only=True)
+class FrameModes(CalcResult):
+    """Result of :func:`frame_modes`; ``value``: natural frequencies (Hz), lowest first."""
+
+    shapes: np.ndarray
+    n_dofs: int
+    n_elements: int
+    theory: str
+    model: FrameModel
+
+
+def frame_modes(cell: Any, *, materials: Mapping[str, Any], fixed: Sequence[int] = (), n_elements: int = 8,
+                n_modes: int = 10, theory: str = "timoshenko", id_prefix: str = "frame") -> FrameModes:
+    """Natural frequencies of ``cell`` taken as a free-standing frame (no periodicity).
+
+    Parameters
+    ----------
+    cell:
+        A cell from :mod:`latticecalc.physics.cells` (``.nodes`` [length] N×3, ``.struts`` M×2,
+        ``.groups`` per strut, ``.diameters`` group -> [length]).
+    materials:
+        Group name -> material (``youngs_modulus`` [pressure], ``poissons_ratio`` [-],
+        ``density`` [density]).
+    fixed:
+        Indices of nodes fixed in all six DOFs; empty for a free-free frame (six zero modes).
+    n_elements:
+        Elements per strut, >= 1.
+    n_modes:
+        Number of frequencies returned (rigid-body zeros included for a free frame).
+    theory:
+        ``"timoshenko"`` (shear deformation and rotary inertia) or ``"euler-bernoulli"``.
+    id_prefix:
+        Prefix of the step ids.
+
+    Returns
+    -------
+    FrameModes
+        ``.value`` natural frequencies [Hz], ascending; ``.shapes`` mode shapes on all DOFs
+        (columns, zero at fixed DOFs).
+    """
+    if isinstance(n_modes, bool) or not isinstance(n_modes, (int, np.integer)) or n_modes < 1:
+        raise InputError("number of modes must be a whole number >= 1", input_name="n_modes",
+                         expected="an integer >= 1", got=repr(n_modes))
+    model = frame_model(cell, materials=materials, n_elements=n_elements, theory=theory)
+    free = _free_dofs(model, fixed)
+    K = model.matrices.K[free][:, free]
+    M = model.matrices.M[free][:, free]
+    w2, v = lowest_modes(K, M, int(n_modes))
+    _raise_if_mechanism(w2, expected_zero=0 if len(fixed) else 6, scale=_frequency_scale(K, M), where="cell")
+    shapes = np.zeros((model.n_dofs, v.shape[1]), dtype=v.dtype)
+    shapes[free] = v
+    f = Q_(np.sqrt(w2) / (2 * np.pi), "Hz")
+    steps = (
+        quantity_step(id=f"{id_prefix}.dofs", description="Degrees of freedom of the frame model",
+                      value=Q_(len(free), ""), method=f"{n_elements} {theory} beam elements per strut, "
+                      "6 DOF per node, fixed and unconnected nodes removed", source=REDDY_1997, sig=6),
+        quantity_step(id=f"{id_prefix}.f-lowest", description="Lowest non-zero natural frequency",
+                      value=f[f.magnitude > 1e-6 * max(f.magnitude.max(), 1e-300)][:1].sum()
+                      if np.any(f.magnitude > 0) else Q_(0.0, "Hz"),
+                      unit="Hz", method="FE modal analysis, consistent mass", source=REDDY_1997),
+    )
+    return FrameModes(value=f, steps=steps, shapes=shapes, n_dofs=len(free), n_elements=model.mesh.n_elements,
+                      theory=theory, model=model, title="Natural frequencies of the free-standing cell frame")
+
+
+@dataclass(frozen=True, kw_only=True)
+class StaticSolution(CalcResult):
+    """Result of :func:`static_solve`; ``value``: nodal displacements (m), shape (nodes, 6)."""
+
+    displacements: np.ndarray
+
+
+def static_solve(model: FrameModel, *, fixed_dofs: np.ndarray, loads: np.ndarray) -> np.ndarray:
+    """Displacements (m, rad) on all DOFs for ``loads`` (N, N·m, length n_dofs), fixed DOFs zero.
+
+    Raises ModelError when the stiffness of the free DOFs is singular (a mechanism).
+    """
+    n = model.n_dofs
+    free = np.setdiff1d(used_dofs(model.mesh), np.asarray(fixed_dofs, int))
+    K = model.matrices.K[free][:, free].tocsc()
+    try:
+        lu = spla.splu(K)
+    except RuntimeError as exc:
+        raise ModelError("the frame is a mechanism: its stiffness matrix is singular", input_name="fixed",
+                         expected="supports that stop every rigid-body motion", got=str(exc)) from None
+    u_free = lu.solve(np.asarray(loads, float)[free])
+    scale = np.abs(K.diagonal()).max()
+    resid = np.abs(K @ u_free - np.asarray(loads, float)[free]).max()
+    if not np.all(np.isfinite(u_free)) or resid > 1e-6 * max(np.abs(loads).max(), 1e-30) + 1e-12 * scale:
+        raise ModelError("the frame is a mechanism: the static solve did not converge", input_name="fixed",
+                         expected="supports that stop every rigid-body motion", got=f"residual {resid:.3g}")
+    u = np.zeros(n)
+    u[free] = u_free
+    return u
+
+
+# --------------------------------------------------------------------------------------------
+# strut-level Craig–Bampton reduction
+# --------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class StrutReduction:
+    """Craig–Bampton reduction of each strut to its two end nodes plus fixed–fixed modes.
+
+    Arrays over struts ``s`` (global axes): ``K_bb``, ``M_bb`` (s, 12, 12) for the end DOFs,
+    ``C`` (s, m, 12) the mass coupling of the modal coordinates to the end DOFs,
+    ``omega2`` (s, m) the fixed–fixed modal stiffnesses (modes mass-normalised), and the
+    recovery ``psi`` (s, ni, 12), ``phi`` (s, ni, m) of the interior DOFs.
+    """
+
+    K_bb: np.ndarray
+    M_bb: np.ndarray
+    C: np.ndarray
+    omega2: np.ndarray
+    psi: np.ndarray
+    phi: np.ndarray
+    struts: np.ndarray
+    groups: tuple[str, ...]
+    n_modes: int
+
+
+def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
+                  sections: Mapping[str, Section], n_elements: int, n_modes: int,
+                  theory: str = "timoshenko") -> StrutReduction:
+    """Reduce every strut to its end nodes and ``n_modes`` fixed-interface modes.
+
+    Struts of equal length and group share one reduction in local axes, rotated to each strut.
+    ``n_modes`` is capped at the strut's interior DOFs (6 (n − 1)); with all of them kept the
+    reduction is exact.
+    """
+    n = check_n_elements(n_elements)
+    nodes = np.asarray(nodes, float)
+    struts = np.asarray(struts, int)
+    p1, p2 = nodes[struts[:, 0]], nodes[struts[:, 1]]
+    L = np.linalg.norm(p2 - p1, axis=1)
+    ni = 6 * (n - 1)
+    m = int(min(max(n_modes, 0), ni))
+    ns = struts.shape[0]
+    keys: dict[tuple, list[int]] = {}
+    for s in range(ns):
+        keys.setdefault((round(L[s] / max(L.max(), 1e-300), 10), groups[s]), []).append(s)
+    Kbb_l = np.zeros((ns, 12, 12))
+    Mbb_l = np.zeros((ns, 12, 12))
+    C_l = np.zeros((ns, m, 12))
+    om2 = np.zeros((ns, m))
+    psi_l = np.zeros((ns, ni, 12))
+    phi_l = np.zeros((ns, ni, m))
+    bnd = np.r_[0:6, 6 * n:6 * n + 6]
+    inn = np.arange(6, 6 * n)
+    for (_, g), members in keys.items():
+        s0 = members[0]
+        Le = L[s0] / n
+        Ke, Me = local_element_matrices(np.full(n, Le), [sections[g]] * n, theory)
+        N = 6 * (n + 1)
+        Ks = np.zeros((N, N))
+        Ms = np.zeros((N, N))
+        for e in range(n):
+            sl = slice(6 * e, 6 * e + 12)
+            Ks[sl, sl] += Ke[e]
+            Ms[sl, sl] += Me[e]
+        if n > 1:
+            Kii = Ks[np.ix_(inn, inn)]
+            Kib = Ks[np.ix_(inn, bnd)]
+            psi = -np.linalg.solve(Kii, Kib)
+            w2, phi = sla.eigh(Kii, Ms[np.ix_(inn, inn)])
+            w2, phi = w2[:m], phi[:, :m]
+        else:
+            psi = np.zeros((0, 12))
+            w2, phi = np.zeros(0), np.zeros((0, 0))
+        Tb = np.vstack([np.eye(12), psi])          # ordering: bnd then inn
+        order = np.r_[bnd, inn]
+        Ko = Ks[np.ix_(order, order)]
+        Mo = Ms[np.ix_(order, order)]
+        Kbb = Tb.T @ Ko @ Tb
+        Mbb = Tb.T @ Mo @ Tb
+        C = phi.T @ (Mo[12:, :12] + Mo[12:, 12:] @ psi) if n > 1 else np.zeros((0, 12))
+        idx = np.asarray(members)
+        Kbb_l[idx] = 0.5 * (Kbb + Kbb.T)
+        Mbb_l[idx] = 0.5 * (Mbb + Mbb.T)
+        if m:
+            C_l[idx] = C
+            om2[idx] = w2
+            phi_l[idx] = phi
+        psi_l[idx] = psi
+    lam = rotations(p1, p2)
+    T = _transform(lam)
+    K_bb = np.einsum("eki,ekl,elj->eij", T, Kbb_l, T)
+    M_bb = np.einsum("eki,ekl,elj->eij", T, Mbb_l, T)
+    C = np.einsum("emk,ekj->emj", C_l, T)
+    Ti = _transform(lam, n_nodes=max(n - 1, 1))[:, :ni, :ni] if n > 1 else np.zeros((ns, 0, 0))
+    # interior displacement in global axes: Ti^T (psi T u_b + phi q)
+    psi_g = np.einsum("eki,ekl,elj->eij", Ti, psi_l, T) if n > 1 else psi_l
+    phi_g = np.einsum("eki,ekm->eim", Ti, phi_l) if n > 1 else phi_l
+    return StrutReduction(K_bb=K_bb, M_bb=M_bb, C=C, omega2=om2, psi=psi_g, phi=phi_g, struts=struts,
+                          groups=tuple(groups), n_modes=m)
+
+
+def reduced_matrices(red: StrutReduction, *, n_joints: int, group: str | None = None,
+                     stiffness_factor: Mapping[str, complex] | None = None):
+    """Assemble the reduced stiffness and mass (joint DOFs first, then strut modal DOFs), dense.
+
+    ``group`` keeps only the struts of one group (for energy fractions); ``stiffness_factor``
+    multiplies each group's stiffness (``1 + iη`` for structural damping).
+    """
+    ns, m = red.omega2.shape
+    nj = 6 * n_joints
+    n = nj + ns * m
+    dt = complex if stiffness_factor else float
+    K = np.zeros((n, n), dtype=dt)
+    M = np.zeros((n, n))
+    dofs = _element_dofs(red.struts)
+    for s in range(ns):
+        g = red.groups[s]
+        if group is not None and g != group:
+            continue
+        f = stiffness_factor.get(g, 1.0) if stiffness_factor else 1.0
+        d = dofs[s]
+        K[np.ix_(d, d)] += f * red.K_bb[s]
+        M[np.ix_(d, d)] += red.M_bb[s]
+        if m:
+            q = nj + s * m + np.arange(m)
+            K[q, q] += f * red.omega2[s]
+            M[q, q] += 1.0
+            M[np.ix_(q, d)] += red.C[s]
+            M[np.ix_(d, q)] += red.C[s].T
+    return K, M
+
+
+def describe_mesh(n_elements: int, theory: str) -> str:
+    """Method text for the sheet."""
+    return f"{n_elements} two-node {theory} beam elements per strut, 6 DOF per node, consistent mass"
+
+
+def format_frequencies(f) -> str:
+    """Short text of a frequency array for notes."""
+    return format_quantity(f)

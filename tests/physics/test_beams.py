@@ -159,3 +159,17 @@ def test_timoshenko_table_compares_with_euler_bernoulli():
         assert (t.value[s] < e.value[s]).all()
     with pytest.raises(InputError, match="theory"):
         e.comparison_rows()
+
+
+@pytest.mark.parametrize("supports", beams.SUPPORTS)
+def test_effective_modal_masses_sum_to_the_total_mass(supports):
+    # sum rule: the effective masses of all modes add up to the total mass (ECSS glossary,
+    # "effective modal mass", note 2); the tail after N modes falls as 1/N (μ_n ~ 1/λ_n²) [derived]
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        mu = [float(beams.modal_mass_fraction(supports=supports, mode=n).value) for n in range(1, 61)]
+    tail30, tail60 = 1 - sum(mu[:30]), 1 - sum(mu)
+    assert 0 < tail60 < tail30 < 0.03
+    assert tail30 / tail60 == pytest.approx(2.0, rel=0.03)

@@ -629,7 +629,9 @@ def mode_shape(xi, *, supports: str, mode: int = 1):
 
     Clamped–clamped and clamped–pinned: φ = cosh λξ − cos λξ − σ(sinh λξ − sin λξ) with
     σ = (cosh λ − cos λ)/(sinh λ − sin λ); clamped–free: σ = (cosh λ + cos λ)/(sinh λ + sin λ);
-    pinned–pinned: φ = sin nπξ.
+    pinned–pinned: φ = sin nπξ.  The hyperbolic part is evaluated as
+    ½(1 + σ) e^{−λξ} + ½(1 − σ) e^{λξ} with 1 − σ formed without cancellation, so high modes
+    stay accurate.
     """
     _check_supports(supports)
     n = _check_mode(mode)
@@ -638,18 +640,24 @@ def mode_shape(xi, *, supports: str, mode: int = 1):
     if supports == "pinned-pinned":
         return np.sin(lam * xi)
     if supports == "clamped-free":
-        sigma = (math.cosh(lam) + math.cos(lam)) / (math.sinh(lam) + math.sin(lam))
+        den = math.sinh(lam) + math.sin(lam)
+        sigma = (math.cosh(lam) + math.cos(lam)) / den
+        one_minus = (-math.exp(-lam) + math.sin(lam) - math.cos(lam)) / den
     else:
-        sigma = (math.cosh(lam) - math.cos(lam)) / (math.sinh(lam) - math.sin(lam))
-    return np.cosh(lam * xi) - np.cos(lam * xi) - sigma * (np.sinh(lam * xi) - np.sin(lam * xi))
+        den = math.sinh(lam) - math.sin(lam)
+        sigma = (math.cosh(lam) - math.cos(lam)) / den
+        one_minus = (-math.exp(-lam) - math.sin(lam) + math.cos(lam)) / den
+    x = lam * xi
+    hyperbolic = 0.5 * (1.0 + sigma) * np.exp(-x) + 0.5 * one_minus * np.exp(x)
+    return hyperbolic - np.cos(x) + sigma * np.sin(x)
 
 
 @cache
 def _modal_mass_fraction(supports: str, mode: int) -> float:
     def phi(x):
         return float(mode_shape(x, supports=supports, mode=mode))
-    first, _ = quad(phi, 0.0, 1.0, epsabs=1e-14, epsrel=1e-13, limit=200)
-    second, _ = quad(lambda x: phi(x) ** 2, 0.0, 1.0, epsabs=1e-14, epsrel=1e-13, limit=200)
+    first, _ = quad(phi, 0.0, 1.0, epsabs=1e-12, epsrel=1e-11, limit=400)
+    second, _ = quad(lambda x: phi(x) ** 2, 0.0, 1.0, epsabs=1e-12, epsrel=1e-11, limit=400)
     return first**2 / second
 
 

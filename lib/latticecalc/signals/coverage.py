@@ -11,12 +11,14 @@ every factor in the range (above the highest lower edge and below the lowest upp
 
 from __future__ import annotations
 
+import json
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
 import sympy as sp
 
-from latticecalc.errors import InputError
+from latticecalc.errors import InputError, RecordError
 from latticecalc.physics.beams import RAO_2017
 from latticecalc.sheet import CalcResult, Formula, check, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive
@@ -113,3 +115,33 @@ def band_coverage(*, lower, upper, peaks, scatter_low: float = 1.0, scatter_high
                            "upper": Q_(f2, "Hz"), "lower_worst": Q_(lo_w, "Hz"), "upper_worst": Q_(hi_w, "Hz")},
                     steps=tuple(steps), all_covered=all(s == "covered" for s in status),
                     title="Band coverage of the measured peaks")
+
+
+def survey_from_export(path) -> dict:
+    """Target peaks (and the max-hold band spectrum, when present) from a site-survey export JSON.
+
+    Reads the ``results`` rows of ``out/<calc>.json`` written by ``latticecalc export`` for a
+    ``site-survey`` project: ``peaks.target-frequencies`` (Hz), and if shown there
+    ``bands.midband`` with ``maxhold.velocity-rms``.  Returns a dict with ``targets`` [Hz] and
+    optionally ``centre`` [Hz] and ``velocity_rms`` [m/s].
+    """
+    p = Path(path)
+    if not p.is_file():
+        raise RecordError("survey export not found", input_name="coverage.survey_results",
+                          expected="the JSON written by 'latticecalc export' for a site-survey project",
+                          got=str(p), file=str(p))
+    try:
+        data = json.loads(p.read_text(encoding="utf-8"))
+        rows = {r["id"]: r for r in data["results"]}
+    except (ValueError, KeyError, TypeError) as exc:
+        raise RecordError(f"not a calc package JSON ({exc})", file=str(p)) from None
+    if "peaks.target-frequencies" not in rows:
+        raise RecordError("no peaks to target in this export", input_name="peaks.target-frequencies",
+                          expected="a site-survey export", got=", ".join(list(rows)[:5]) + " ...", file=str(p))
+    r = rows["peaks.target-frequencies"]
+    out = {"targets": Q_(np.atleast_1d(np.asarray(r["value"], dtype=float)), r["unit"] or "Hz").to("Hz")}
+    if "bands.midband" in rows and "maxhold.velocity-rms" in rows:
+        c, v = rows["bands.midband"], rows["maxhold.velocity-rms"]
+        out["centre"] = Q_(np.asarray(c["value"], dtype=float), c["unit"]).to("Hz")
+        out["velocity_rms"] = Q_(np.asarray(v["value"], dtype=float), v["unit"].replace("µ", "u")).to("m/s")
+    return out

@@ -160,10 +160,15 @@ def criterion_curve(*, criterion: str, centre) -> CriterionCurve:
         base = base_curve(frequency=Q_(f, "Hz"))
         a = base.value.m
         ok = np.isfinite(a)
-        lim = evaluate(VELOCITY_LIMIT, id=f"criterion.{c.id}", description=f"{c.title}, as band velocity",
-                       values={"k": Q_(c.value, ""), "a": Q_(np.where(ok, a, 1.0), "m/s^2"), "f": Q_(f, "Hz")},
+        if not ok.any():
+            raise InputError("the ISO 2631-2 curve is defined from 1 to 80 Hz only", input_name="centre",
+                             expected="band frequencies between 1 and 80 Hz", got=f"{f.min():g}–{f.max():g} Hz")
+        lim = evaluate(VELOCITY_LIMIT, id=f"criterion.{c.id}", description=f"{c.title}, as band velocity "
+                       "(bands from 1 to 80 Hz)", values={"k": Q_(c.value, ""), "a": Q_(a[ok], "m/s^2"),
+                                                          "f": Q_(f[ok], "Hz")},
                        unit="um/s", source=c.source, note=c.note)
-        v = np.where(ok, lim.result.to("m/s").m, np.nan)
+        v = np.full(f.shape, np.nan)
+        v[ok] = lim.result.to("m/s").m
         steps = base.steps + (lim,)
     else:
         conv = velocity_from_level(Q_(c.value, "dB"), reference="1 microinch/s", id=f"criterion.{c.id}")
@@ -221,29 +226,31 @@ def assess(*, levels, criterion: str, margin=None, overall=None) -> Assessment:
     lim = curve.value["velocity_rms"].m
     vv = v.to("m/s").m
     ok = np.isfinite(lim) & (vv > 0)
+    if not ok.any():
+        raise InputError("the criterion is not defined in any of the bands given", input_name="criterion",
+                         expected="bands inside the criterion's frequency range", got=str(criterion))
+    inside = [str(nominal[i]) for i in np.flatnonzero(ok)]
+    where = f"bands {inside[0]} Hz to {inside[-1]} Hz (where the criterion is defined)"
     exc = np.full(vv.shape, np.nan)
-    step_e = evaluate(EXCEEDANCE, id="criterion.exceedance", description="Exceedance of the criterion per band",
-                      values={"v": Q_(np.where(ok, vv, 1.0), "m/s"),
-                              "v_lim": Q_(np.where(ok, lim, 1.0), "m/s")}, unit="", source=curve.criterion.source)
-    exc[ok] = step_e.result.m[ok]
-    step_e = _db(step_e, np.where(ok, exc, np.nan))
+    req = np.full(vv.shape, np.nan)
+    step_e = evaluate(EXCEEDANCE, id="criterion.exceedance", description=f"Exceedance of the criterion, {where}",
+                      values={"v": Q_(vv[ok], "m/s"), "v_lim": Q_(lim[ok], "m/s")}, unit="",
+                      source=curve.criterion.source)
+    exc[ok] = step_e.result.m
+    step_e = _db(step_e, exc[ok])
     step_r = evaluate(REQUIRED_LOSS, id="criterion.required-loss",
-                      description="Insertion loss required per band (exceedance plus margin; none where the "
-                      "band is below the criterion)", values={"Delta_L": Q_(np.where(ok, exc, 0.0), ""),
-                                                              "m": Q_(m, "")}, unit="",
-                      source=Source(author="common practice", title="required insertion loss = exceedance "
-                                    "+ design margin", tag="common practice"))
-    req = np.where(ok, np.maximum(step_r.result.m, 0.0), np.nan)
-    step_r = _db(step_r, req)
+                      description=f"Insertion loss required, {where} (exceedance plus margin; none where the "
+                      "band is below the criterion)", values={"Delta_L": Q_(exc[ok], ""), "m": Q_(m, "")},
+                      unit="", source=Source(author="common practice", title="required insertion loss = "
+                                             "exceedance + design margin", tag="common practice"))
+    req[ok] = np.maximum(step_r.result.m, 0.0)
+    step_r = _db(step_r, req[ok])
     steps = list(curve.steps) + [step_e, step_r]
-    if ok.any():
-        k = int(np.nanargmax(np.where(ok, exc, -np.inf)))
-        steps.append(check(id="criterion.worst-band", description=f"Worst band ({nominal[k]} Hz) against "
-                           f"{curve.criterion.title}", demand=Q_(vv[k], "m/s").to("um/s"),
-                           limit=Q_(lim[k], "m/s").to("um/s"), source=curve.criterion.source))
-        worst, worst_exc = str(nominal[k]), float(exc[k])
-    else:
-        worst, worst_exc = "", float("nan")
+    k = int(np.nanargmax(np.where(ok, exc, -np.inf)))
+    steps.append(check(id="criterion.worst-band", description=f"Worst band ({nominal[k]} Hz) against "
+                       f"{curve.criterion.title}", demand=Q_(vv[k], "m/s").to("um/s"),
+                       limit=Q_(lim[k], "m/s").to("um/s"), source=curve.criterion.source))
+    worst, worst_exc = str(nominal[k]), float(exc[k])
     if curve.criterion.kind == "overall":
         ov = (check_dimension(overall, name="overall", expected="velocity").to("m/s").m if overall is not None
               else float(np.sqrt(np.sum(vv ** 2))))

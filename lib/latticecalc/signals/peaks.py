@@ -133,6 +133,12 @@ def rank_targets(*, peaks: Peaks, assessment) -> Targets:
                          f"{assessment.criterion.title})", value=Q_(int(target.sum()), ""),
                          method="band of each peak compared with the criterion; ranked by exceedance",
                          source=assessment.criterion.source)
+    freqs = quantity_step(id="peaks.target-frequencies", description="Frequencies of the peaks to target, "
+                          "largest exceedance first", value=Q_(f[order][target], "Hz"), unit="Hz",
+                          method="peaks whose band needs insertion loss", source=assessment.criterion.source)
+    losses = quantity_step(id="peaks.target-losses", description="Insertion loss required at each peak to target",
+                           value=Q_(req[order][target], "dB"), method="required loss of the peak's band",
+                           source=assessment.criterion.source)
     return Targets(value={"frequency": Q_(f[order], "Hz"), "band": labels, "exceedance": Q_(exc[order], "dB"),
                           "required_loss": Q_(req[order], "dB"), "target": target},
-                   steps=(step,), title="Peaks to target")
+                   steps=(step, freqs, losses), title="Peaks to target")

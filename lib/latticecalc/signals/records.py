@@ -529,3 +529,24 @@ def bt_product(*, bandwidth, duration) -> float:
 def random_error(*, bandwidth, duration) -> float:
     """Normalized random error of a band mean-square estimate, 1/sqrt(B·T) (Bendat & Piersol 2010)."""
     return 1.0 / math.sqrt(bt_product(bandwidth=bandwidth, duration=duration))
+
+
+def read_record(path, *, sample_rate=None, unit: str | None = None, full_scale=None,
+                demo_seed: int | None = None) -> Record:
+    """Read a CSV or ``.npy`` record by its suffix (see :func:`read_csv`, :func:`read_npy`).
+
+    ``demo_seed``: when given and the file does not exist, the invented demo site record
+    (:func:`latticecalc.signals.synthetic.ensure_demo_record`) is written there first.
+    """
+    p = Path(path)
+    if demo_seed is not None and not p.exists():
+        from latticecalc.signals.synthetic import ensure_demo_record
+
+        ensure_demo_record(p, seed=int(demo_seed))
+    if p.suffix.lower() == ".npy":
+        if sample_rate is None or unit is None:
+            raise RecordError("a .npy record needs its sample rate and unit", input_name="record.sample_rate",
+                              expected="record.sample_rate and record.unit in the inputs", got="missing",
+                              file=str(p))
+        return read_npy(p, sample_rate=sample_rate, unit=unit, full_scale=full_scale)
+    return read_csv(p, sample_rate=sample_rate, unit=unit, full_scale=full_scale)

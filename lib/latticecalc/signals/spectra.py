@@ -435,7 +435,8 @@ def velocity_level(v_rms, *, reference="1e-9 m/s", id: str = "level.velocity") -
     check_positive(v, name="v_rms")
     vdb = abs(float((v0 / Q_(1.0, "microinch/s")).to("").m) - 1) < 1e-9
     src = FTA_VDB if vdb else VELOCITY_REFERENCE_SOURCE
-    step = evaluate(VELOCITY_LEVEL, id=id, description=f"Velocity level re {format_quantity(v0, sig=3)}"
+    ref_text = reference.strip() if isinstance(reference, str) else format_quantity(v0, sig=3)
+    step = evaluate(VELOCITY_LEVEL, id=id, description=f"Velocity level re {ref_text}"
                     + (" (VdB)" if vdb else ""), values={"v": v, "v_0": v0}, unit="", source=src)
     step = _as_db(step)
     return Level(value=step.result, steps=(step,), reference=v0, title="Velocity level")
@@ -590,7 +591,8 @@ def running_rms(signal, *, sample_rate, time_constant=SLOW, output_rate=RMS_OUTP
                          name="time_constant")
     out_fs = float(check_positive(check_dimension(output_rate, name="output_rate", expected="frequency"),
                                   name="output_rate").to("Hz").m)
-    coeff = evaluate(EXPONENTIAL_COEFFICIENT, id=f"rms.alpha-{float(tau.to('s').m):g}s".replace(".", "_"),
+    tag = f"{float(tau.to('s').m):g}".replace(".", "_")
+    coeff = evaluate(EXPONENTIAL_COEFFICIENT, id=f"rms.alpha-{tag}s",
                      description="Exponential averaging coefficient per sample",
                      values={"tau": tau.to("s"), "f_s": Q_(fs, "Hz")}, unit="", source=IEC_61672_1, sig=6)
     alpha = float(coeff.result.m)
@@ -611,7 +613,7 @@ def running_rms(signal, *, sample_rate, time_constant=SLOW, output_rate=RMS_OUTP
     peak = float(rms.max())
     label = {1.0: " (S)", 0.125: " (F)"}.get(round(float(tau.to("s").m), 6), "")
     steps = (coeff, quantity_step(
-        id=f"rms.max-{float(tau.to('s').m):g}s".replace(".", "_"),
+        id=f"rms.max-{tag}s",
         description=f"Maximum running RMS, τ = {float(tau.to('s').m):g} s{label}", value=Q_(peak, unit),
         unit="mm/s" if kind == "velocity" else "m/s^2", source=ISO_2631_1,
         method="recursive exponential averaging of the squared signal, y[n] = α y[n−1] + (1 − α) x[n]²"))
@@ -676,7 +678,8 @@ def find_events(rms: RunningRms, *, threshold=None, factor: float = 3.0, min_dur
     peaks = np.array([x[(t >= a) & (t <= b)].max() for a, b in zip(st, en)]) if spans else np.array([])
     steps = (
         quantity_step(id="events.threshold", description="Event threshold on the running RMS",
-                      value=Q_(thr, unit), method=how, source=COMMON_PRACTICE),
+                      value=Q_(thr, unit), unit="mm/s" if Q_(1, unit).check("[velocity]") else "m/s^2",
+                      method=how, source=COMMON_PRACTICE),
         quantity_step(id="events.count", description="Events found", value=Q_(len(spans), ""),
                       method=f"exceedances >= {md:g} s, merged when < {gap:g} s apart, padded ±{padding:g} s",
                       source=COMMON_PRACTICE),

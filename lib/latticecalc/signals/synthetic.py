@@ -84,6 +84,7 @@ def site_channel(*, n: int, fs: float, rng: np.random.Generator, starts: np.ndar
 
 _SITE_DURATION = Q_(600.0, "s")
 _SITE_RATE = Q_(1000.0, "Hz")
+_DEMO_DURATION = Q_(240.0, "s")
 _TEST_RESONANCE = Q_(40.0, "Hz")
 _TEST_DURATION = Q_(120.0, "s")
 _TEST_RATE = Q_(2000.0, "Hz")
@@ -137,7 +138,8 @@ def write_csv(record: Record, path, *, digits: int = 6) -> Path:
     header = ",".join(["time [s]"] + [f"{c} [{record.unit.replace(' ', '')}]" for c in record.channels])
     header = header.replace("meter / second ** 2", "m/s^2").replace("meter/second**2", "m/s^2")
     table = np.column_stack([t, np.asarray(record.data)])
-    np.savetxt(p, table, delimiter=",", header=header, comments="", fmt=f"%.{digits}g")
+    fmt = ["%.6f"] + [f"%.{digits}g"] * len(record.channels)   # time to 1 µs, samples to `digits` figures
+    np.savetxt(p, table, delimiter=",", header=header, comments="", fmt=fmt)
     return p
 
 
@@ -249,3 +251,31 @@ def prototype_test(*, resonance=_TEST_RESONANCE, mass_ratio: float = 1.0, cells:
 def as_quantity(record: Record, channel: str) -> pint.Quantity:
     """Shorthand for ``record.channel(channel)``."""
     return record.channel(channel)
+
+
+def ensure_demo_record(path, *, seed: int, duration=_DEMO_DURATION, passbys: int = 4) -> Path:
+    """Write the invented site's record to ``path`` (CSV) unless the file exists; return the path.
+
+    Used by the demo survey project so that no record data need be committed: the record is made
+    from ``seed`` at the first run.
+    """
+    p = Path(path)
+    if not p.exists():
+        p.parent.mkdir(parents=True, exist_ok=True)
+        rec = site_record(duration=duration, sample_rate=_SITE_RATE, passbys=passbys, seed=seed,
+                          name=p.name)
+        write_csv(rec, p, digits=5)
+    return p
+
+
+def ensure_demo_test(input_path, output_path, *, seed: int, resonance=_TEST_RESONANCE,
+                     duration=_TEST_DURATION) -> tuple[Path, Path]:
+    """Write the synthetic prototype test's input and output records (CSV) unless both exist."""
+    pi, po = Path(input_path), Path(output_path)
+    if not (pi.exists() and po.exists()):
+        pi.parent.mkdir(parents=True, exist_ok=True)
+        po.parent.mkdir(parents=True, exist_ok=True)
+        test = prototype_test(resonance=resonance, duration=duration, seed=seed)
+        write_csv(test.value["input"], pi, digits=6)
+        write_csv(test.value["output"], po, digits=6)
+    return pi, po

@@ -11,9 +11,14 @@ import tomllib
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
+from typing import Any
+
+import tomlkit
 
 from latticecalc.errors import ProjectError
+from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.export import export_project
+from latticecalc.project.inputs import INPUTS_FILE
 from latticecalc.project.runner import run_project
 from latticecalc.project.templates import demo_root, new_project
 
@@ -49,12 +54,32 @@ def demo_projects() -> list[DemoProject]:
             for p in index["project"]]
 
 
+def _merge_tables(base: Any, changes: Any) -> None:
+    for key, value in changes.items():
+        if isinstance(value, dict) and not ({"value", "source"} >= set(value) and "value" in value) \
+                and isinstance(base.get(key), dict):
+            _merge_tables(base[key], value)
+        else:
+            base[key] = value
+
+
 def _overlay(source: Path, dest: Path) -> None:
-    """Copy the demo's own files (inputs, project identity, data) over the fresh template copy."""
+    """Put the demo's own files over the fresh template copy.
+
+    ``inputs.toml`` is merged: the demo gives only the values that differ from the template's
+    defaults (the template's comments and any input added later stay). Other files are copied.
+    """
     for item in source.rglob("*"):
-        if item.is_file() and "__pycache__" not in item.parts and "out" not in item.relative_to(source).parts:
-            target = dest / item.relative_to(source)
-            target.parent.mkdir(parents=True, exist_ok=True)
+        rel = item.relative_to(source)
+        if not item.is_file() or "__pycache__" in item.parts or "out" in rel.parts:
+            continue
+        target = dest / rel
+        target.parent.mkdir(parents=True, exist_ok=True)
+        if rel.as_posix() == INPUTS_FILE and target.is_file():
+            doc = tomlkit.parse(target.read_text(encoding="utf-8"))
+            _merge_tables(doc, tomlkit.parse(item.read_text(encoding="utf-8")))
+            write_text_atomic(target, tomlkit.dumps(doc))
+        else:
             shutil.copy2(item, target)
 
 

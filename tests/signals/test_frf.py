@@ -81,3 +81,14 @@ def test_calibration_from_strut_reproduces_the_measured_frequency():
     ratio = (900.0 / cal.predicted_frequency.to("Hz").m) ** 2
     assert_quantity_close(cal.value, 15 * ratio, unit="MPa", rtol=1e-12)
     assert math.isclose(cal.step("calibration.recomputed.f1-cc").result.to("Hz").m, 900.0, rel_tol=1e-10)
+
+
+def test_antiresonance_of_synthetic_chain_is_the_local_resonance():
+    # at the resonators' frequency their effective mass is unbounded and the chain stops moving
+    # (Huang, Sun & Huang 2009); with light damping the minimum stays within one bin of it
+    test = synthetic.prototype_test(resonance=Q_(38, "Hz"), duration=Q_(60, "s"), seed=5)
+    res = F.transmissibility(input=test["input"].channel("input"), output=test["output"].channel("output"),
+                             sample_rate=test["input"].sample_rate, resolution=Q_(0.5, "Hz"))
+    dip = F.resonance(res, lowest=Q_(20, "Hz"), highest=Q_(100, "Hz"), extremum="min")
+    assert_quantity_close(dip.value["frequency"], 38.0, unit="Hz", atol=0.5, rtol=0)
+    assert_quantity_close(dip.value["uncertainty"], 0.5 / math.sqrt(12), unit="Hz", rtol=1e-3)

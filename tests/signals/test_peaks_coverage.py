@@ -77,3 +77,25 @@ def test_frequency_factors_from_modulus_range():
     res = V.frequency_factors(nominal_modulus=Q_(10, "MPa"), low_modulus=Q_(8.1, "MPa"),
                               high_modulus=Q_(12.1, "MPa"))
     assert res.value == pytest.approx((0.9, 1.1), rel=1e-12)
+
+
+def test_scaled_band_moves_with_root_modulus():
+    res = V.scaled_band(lower=Q_(40, "Hz"), upper=Q_(60, "Hz"), nominal_modulus=Q_(10, "MPa"),
+                        modulus=Q_(12.1, "MPa"))
+    assert_quantity_close(res.value["lower"], 44.0, unit="Hz", rtol=1e-12)   # 40 × √1.21
+    assert_quantity_close(res.value["upper"], 66.0, unit="Hz", rtol=1e-12)
+
+
+def test_survey_targets_read_back_from_an_export(tmp_path):
+    import json
+
+    doc = {"results": [{"id": "peaks.target-frequencies", "value": [15.75, 30.5], "unit": "Hz"},
+                       {"id": "bands.midband", "value": [16.0, 31.6], "unit": "Hz"},
+                       {"id": "maxhold.velocity-rms", "value": [0.131, 0.06], "unit": "mm/s"}]}
+    p = tmp_path / "survey.json"
+    p.write_text(json.dumps(doc))
+    got = V.survey_from_export(p)
+    assert_quantity_close(got["targets"], [15.75, 30.5], unit="Hz", rtol=0)
+    assert_quantity_close(got["velocity_rms"], [131.0, 60.0], unit="um/s", rtol=1e-12)
+    with pytest.raises(ValueError, match="not found"):
+        V.survey_from_export(tmp_path / "missing.json")

@@ -26,6 +26,9 @@ from latticecalc.units import Q_, check_dimension, check_positive
 _E, _En = sp.symbols("E E_nom")
 #: Frequency factor of a modulus change at fixed geometry and density (f ∝ √E).
 FREQUENCY_FACTOR = Formula("s", sp.sqrt(_E / _En), {"E_nom": r"E_{\mathrm{nom}}"})
+_s, _f = sp.symbols("s f")
+#: A band edge moved by a frequency factor.
+SCALED_EDGE = Formula("f_new", _s * _f, {"f_new": r"f_{\mathrm{new}}"})
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -145,3 +148,23 @@ def survey_from_export(path) -> dict:
         out["centre"] = Q_(np.asarray(c["value"], dtype=float), c["unit"]).to("Hz")
         out["velocity_rms"] = Q_(np.asarray(v["value"], dtype=float), v["unit"].replace("µ", "u")).to("m/s")
     return out
+
+
+def scaled_band(*, lower, upper, nominal_modulus, modulus, id_prefix: str = "band.updated") -> CalcResult:
+    """Band edges [frequency] moved from ``nominal_modulus`` to ``modulus`` [pressure] (f ∝ √E).
+
+    ``value`` maps ``lower``, ``upper`` (Hz) and ``factor``.
+    """
+    f1 = check_positive(check_dimension(lower, name="lower", expected="frequency"), name="lower")
+    f2 = check_positive(check_dimension(upper, name="upper", expected="frequency"), name="upper")
+    en = check_positive(check_dimension(nominal_modulus, name="nominal_modulus", expected="pressure"),
+                        name="nominal_modulus")
+    e = check_positive(check_dimension(modulus, name="modulus", expected="pressure"), name="modulus")
+    s = evaluate(FREQUENCY_FACTOR, id=f"{id_prefix}.factor", description="Frequency factor of the modulus change",
+                 values={"E": e, "E_nom": en}, unit="", source=RAO_2017, sig=4)
+    lo = evaluate(SCALED_EDGE, id=f"{id_prefix}.lower", description="Updated lower band edge",
+                  values={"s": s.result, "f": f1}, unit="Hz", source=RAO_2017)
+    hi = evaluate(SCALED_EDGE, id=f"{id_prefix}.upper", description="Updated upper band edge",
+                  values={"s": s.result, "f": f2}, unit="Hz", source=RAO_2017)
+    return CalcResult(value={"lower": lo.result, "upper": hi.result, "factor": float(s.result.m)},
+                      steps=(s, lo, hi), title="Band moved to the calibrated modulus")

@@ -228,8 +228,8 @@ def calibrate_modulus(*, nominal_modulus, measured_frequency, predicted_frequenc
                  "(frequencies scale with √E at fixed geometry and density)",
                  values={"E_nom": en, "f_meas": fm, "f_pred": fp}, unit="MPa", source=beams.RAO_2017)
     u = evaluate(MODULUS_UNCERTAINTY, id=f"{id_prefix}.uncertainty", description="Standard uncertainty of the "
-                 "calibrated modulus from the frequency's", values={"E_cal": e.result, "u_f": uf, "f_meas": fm},
-                 unit="MPa", source=GUM_2008)
+                 "calibrated modulus, propagated from the measured frequency's",
+                 values={"E_cal": e.result, "u_f": uf, "f_meas": fm}, unit="MPa", source=GUM_2008)
     return Calibration(value=e.result, steps=(e, u), uncertainty=u.result, predicted_frequency=fp,
                        title="Calibrated dynamic modulus")
 
@@ -252,8 +252,15 @@ def calibrate_from_strut(*, measured_frequency, length, diameter, nominal_modulu
                        title="Calibrated dynamic modulus from a strut resonance")
 
 
-def resonance(frf: Transmissibility, *, lowest, highest) -> CalcResult:
-    """Frequency of the largest |H1| in [lowest, highest] [frequency], with u(f) = Δf/√12 (bin quantisation)."""
+def resonance(frf: Transmissibility, *, lowest, highest, extremum: str = "max") -> CalcResult:
+    """Frequency of the largest (``extremum="max"``) or smallest (``"min"``, an anti-resonance) |H1|.
+
+    Searched in [lowest, highest] [frequency]; standard uncertainty u(f) = Δf/√12 (bin quantisation).
+    In a base-excited chain with local resonators the transmissibility minimum lies at the
+    resonators' own frequency, where their effective mass grows without bound (Huang et al. 2009).
+    """
+    if extremum not in ("max", "min"):
+        raise InputError("unknown extremum", input_name="extremum", expected="'max' or 'min'", got=repr(extremum))
     f = frf.value["frequency"].to("Hz").m
     lo = check_dimension(lowest, name="lowest", expected="frequency").to("Hz").m
     hi = check_dimension(highest, name="highest", expected="frequency").to("Hz").m
@@ -261,10 +268,14 @@ def resonance(frf: Transmissibility, *, lowest, highest) -> CalcResult:
     if sel.size == 0:
         raise InputError("no bins in the search range", input_name="lowest", expected="a range inside the estimate",
                          got=f"{lo:g}–{hi:g} Hz")
-    k = sel[int(np.argmax(frf.value["magnitude"].m[sel]))]
+    mags = frf.value["magnitude"].m[sel]
+    k = sel[int(np.argmax(mags) if extremum == "max" else np.argmin(mags))]
     df = float(frf.resolution.to("Hz").m)
     u = df / np.sqrt(12.0)
-    step = quantity_step(id="frf.resonance", description="Measured resonance (largest transmissibility in range)",
+    what = "largest" if extremum == "max" else "smallest"
+    step = quantity_step(id=f"frf.{'resonance' if extremum == 'max' else 'antiresonance'}",
+                         description=f"Measured {'resonance' if extremum == 'max' else 'anti-resonance'} "
+                         f"({what} transmissibility in {lo:g}–{hi:g} Hz)",
                          value=Q_(float(f[k]), "Hz"), unit="Hz",
                          method=f"bin maximum; standard uncertainty Δf/√12 = {u:.3g} Hz")
     return CalcResult(value={"frequency": Q_(float(f[k]), "Hz"), "uncertainty": Q_(u, "Hz")}, steps=(step,),

@@ -20,7 +20,8 @@ def band_spectrum_figure(levels, *, criterion=None, band=None, band_held=None, p
     Parameters
     ----------
     levels:
-        Band levels (mapping with ``centre`` and ``velocity_rms``).
+        Band levels (mapping with ``centre`` and ``velocity_rms``), or ``None`` to draw only the band
+        and the peaks.
     criterion:
         A :class:`~latticecalc.signals.criteria.CriterionCurve` to draw, or ``None``.
     band:
@@ -42,8 +43,11 @@ def band_spectrum_figure(levels, *, criterion=None, band=None, band_held=None, p
         ax.axvspan(*(float(_hz(b)[0]) for b in band), color="#dde8f3", label="designed band (nominal)")
     if band_held is not None and band_held[1] > band_held[0]:
         ax.axvspan(*(float(_hz(b)[0]) for b in band_held), color="#a9c4e0", label="band held under scatter")
-    f = _hz(levels["centre"])
-    ax.step(f, levels["velocity_rms"].to("um/s").magnitude, where="mid", color="k", label=label)
+    if levels is not None:
+        ax.step(_hz(levels["centre"]), levels["velocity_rms"].to("um/s").magnitude, where="mid", color="k",
+                label=label)
+    else:
+        ax.set_yticks([])
     for other, text in (extra or []):
         ax.step(_hz(other["centre"]), other["velocity_rms"].to("um/s").magnitude, where="mid", color="#777",
                 linestyle="--", label=text)
@@ -54,9 +58,10 @@ def band_spectrum_figure(levels, *, criterion=None, band=None, band_held=None, p
         for i, fp in enumerate(_hz(peaks)):
             ax.axvline(fp, color="#393", linestyle=":", label="peaks to target" if i == 0 else None)
     ax.set_xscale("log")
-    ax.set_yscale("log")
-    ax.set_xlabel("one-third-octave band midband frequency (Hz)")
-    ax.set_ylabel("RMS velocity (µm/s)")
+    if levels is not None:
+        ax.set_yscale("log")
+        ax.set_ylabel("RMS velocity (µm/s)")
+    ax.set_xlabel("one-third-octave band midband frequency (Hz)" if levels is not None else "frequency (Hz)")
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(fontsize=7, frameon=False, loc="lower left")
     fig.tight_layout()

@@ -168,3 +168,22 @@ def scaled_band(*, lower, upper, nominal_modulus, modulus, id_prefix: str = "ban
                   values={"s": s.result, "f": f2}, unit="Hz", source=RAO_2017)
     return CalcResult(value={"lower": lo.result, "upper": hi.result, "factor": float(s.result.m)},
                       steps=(s, lo, hi), title="Band moved to the calibrated modulus")
+
+
+def scatter_factors(*, lower, lower_min, lower_max, upper, upper_min, upper_max) -> CalcResult:
+    """Frequency factors (low, high) of a band estimate's scatter range [frequency inputs].
+
+    The smaller of lower_min/lower and upper_min/upper, and the larger of lower_max/lower and
+    upper_max/upper: the band is taken to move as a whole within these factors.
+    """
+    vals = {}
+    for name, q in (("lower", lower), ("lower_min", lower_min), ("lower_max", lower_max), ("upper", upper),
+                    ("upper_min", upper_min), ("upper_max", upper_max)):
+        vals[name] = float(check_positive(check_dimension(q, name=name, expected="frequency"), name=name).to("Hz").m)
+    s_lo = min(vals["lower_min"] / vals["lower"], vals["upper_min"] / vals["upper"], 1.0)
+    s_hi = max(vals["lower_max"] / vals["lower"], vals["upper_max"] / vals["upper"], 1.0)
+    step = quantity_step(id="coverage.scatter", description="Band frequency factors under the scatter range",
+                         value=Q_([s_lo, s_hi], ""), sig=3,
+                         method="ratios of the band estimate's edge ranges to its nominal edges (widest of the two "
+                                "edges); the band is moved as a whole")
+    return CalcResult(value=(s_lo, s_hi), steps=(step,), title="Band scatter factors")

@@ -87,7 +87,7 @@ def _title_block(meta: dict, extras: PackageExtras, prepared_date: str) -> str:
 
 def _inputs_table(inputs: list[dict]) -> str:
     rows = "".join(
-        f"<tr><td><code>{escape(i['id'])}</code></td><td>{escape(i['description'])}</td>"
+        f"<tr id=\"input-{escape(i['id'])}\"><td><code>{escape(i['id'])}</code></td><td>{escape(i['description'])}</td>"
         f"<td>{escape(i['text'])}</td><td>{escape(i['unit'])}</td><td>{escape(i['source']) or '—'}</td></tr>"
         for i in inputs)
     return ('<table class="lc-inputs"><thead><tr><th>Input</th><th>Description</th><th>Value</th>'

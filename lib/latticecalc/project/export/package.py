@@ -100,6 +100,24 @@ def _extras(project: Project, data: dict, doc: SheetDocument) -> PackageExtras:
     return package_extras(project, data, doc)
 
 
+def _seal(html: str) -> str:
+    """Seal the rendered package (document hash for ``latticecalc verify``) when sign-off is present."""
+    try:
+        from latticecalc.project.signoff import seal_package
+    except ImportError:
+        return html
+    return seal_package(html)
+
+
+def _after_export(project: Project, data: dict, doc: SheetDocument) -> None:
+    """Keep the revision record of this export (after the package is written)."""
+    try:
+        from latticecalc.project.signoff import after_export
+    except ImportError:
+        return
+    after_export(project, data, doc)
+
+
 def export_project(folder: str | Path, *, run: bool = False, with_code: bool = False,
                    pdf: bool = False, progress=None) -> ExportReport:
     """Write ``out/<calc-id>-rev<rev>.html`` and ``.json`` for the project in ``folder``.
@@ -143,6 +161,7 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
     html = render_package(meta=data["project"], doc=doc, inputs=inputs_rows(project),
                           references=references(doc), extras=extras, generated=generated,
                           with_code=with_code)
+    html = _seal(html)
     stem = project.meta.package_stem
     html_path = project.out / f"{stem}.html"
     json_path = project.out / f"{stem}.json"
@@ -150,6 +169,7 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
     # Render everything first; then two atomic replaces: a failure leaves the old package intact.
     write_text_atomic(json_path, text)
     write_text_atomic(html_path, html)
+    _after_export(project, data, doc)
     pdf_path = None
     if pdf:
         from latticecalc.project.pdf import print_pdf

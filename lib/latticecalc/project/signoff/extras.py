@@ -1,0 +1,118 @@
+"""What sign-off, review and revisions add to an exported package (``package_extras``)."""
+
+from __future__ import annotations
+
+from html import escape
+
+from latticecalc.project.export.html import PackageExtras, SignRow
+from latticecalc.project.project import Project
+from latticecalc.project.signoff.fingerprint import fingerprint_content, fingerprint_of
+from latticecalc.project.signoff.records import ROLES, SignoffState, judge, load_records, status_of
+from latticecalc.project.signoff.review import ReviewComment, load_comments
+from latticecalc.project.signoff.revisions import history_html, load_revisions, record_export, revision_record
+from latticecalc.project.signoff.verify import EMBED_FORMAT, SEAL_PLACEHOLDER
+
+#: Longest "what changed" text shown in the title block (the sign-off table shows all of it).
+TITLE_REASON_CHARS = 240
+
+
+def _when(time: str) -> str:
+    return time.replace("T", " ")[:16] + " UTC" if time else ""
+
+
+def _sign_rows(states: list[SignoffState]) -> list[SignRow]:
+    latest: dict[str, SignoffState] = {}
+    for s in states:
+        latest[s.record.get("role", "")] = s
+    rows = []
+    for role in ROLES:
+        s = latest.get(role)
+        if s is None:
+            continue
+        reason = s.reason
+        if len(reason) > TITLE_REASON_CHARS:
+            reason = reason[:TITLE_REASON_CHARS - 1] + "…"
+        sig = s.record.get("signature") or {}
+        rows.append(SignRow(role=role, name=s.record.get("name", ""), date=_when(s.record.get("time", "")),
+                            void=not s.valid, void_reason=reason, signature=sig.get("key_id", "")))
+    return rows
+
+
+def _signature_block(states: list[SignoffState]) -> str:
+    if not states:
+        return ('<section id="signoffs"><h2>Sign-off record</h2><p>Not signed off: this package is '
+                "preliminary.</p></section>")
+    rows = []
+    for s in states:
+        r = s.record
+        sig = r.get("signature") or {}
+        verdict = ('<strong class="lc-verdict-ok">current</strong>' if s.valid else
+                   f'<strong class="lc-verdict-notok">VOID</strong> {escape(s.reason)}')
+        rows.append(f'<tr id="signoff-{int(r.get("seq", 0))}"><td>{int(r.get("seq", 0))}</td>'
+                    f"<td>{escape(str(r.get('role', '')))}</td><td>{escape(str(r.get('name', '')))}</td>"
+                    f"<td>{escape(_when(str(r.get('time', ''))))}</td>"
+                    f'<td class="lc-fingerprint">{escape(str(r.get("fingerprint", ""))[:16])}…</td>'
+                    f"<td>{escape(sig.get('key_id', '')) or 'no key'}</td><td>{verdict}</td>"
+                    f"<td>{escape(str(r.get('comment', ''))) or '—'}</td></tr>")
+    return ('<section id="signoffs"><h2>Sign-off record</h2>'
+            '<table class="lc-signoffs"><thead><tr><th>#</th><th>Role</th><th>Name</th><th>Date</th>'
+            "<th>Fingerprint</th><th>Key</th><th>State</th><th>Comment</th></tr></thead><tbody>"
+            + "".join(rows) + "</tbody></table>"
+            "<p>A sign-off is current while the package's fingerprint equals the one it signed; "
+            "check with <code>latticecalc verify</code>.</p></section>")
+
+
+def _comments_html(comments: list[ReviewComment]) -> str:
+    if not comments:
+        return ""
+    rows = []
+    for c in comments:
+        replies = "".join(f"<br>↳ {escape(r['author'])}: {escape(r['text'])}" for r in c.replies)
+        cls = "lc-verdict-notok" if c.status == "open" else "lc-verdict-ok"
+        rows.append(f'<tr id="review-{escape(c.id)}"><td>{escape(c.id)}</td>'
+                    f'<td><a href="#step-{escape(c.step)}">{escape(c.step)}</a></td>'
+                    f'<td class="{cls}">{escape(c.status)}</td><td>{escape(c.author)}: {escape(c.text)}{replies}</td>'
+                    f"</tr>")
+    return ('<table class="lc-review"><thead><tr><th>Id</th><th>Step</th><th>Status</th><th>Comment and replies'
+            "</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
+
+
+def signoff_view(project: Project, data: dict, doc) -> tuple[str, dict, list[SignoffState], str]:
+    """Fingerprint, its content, the judged sign-offs and the status, for package ``data``."""
+    content = fingerprint_content(project, data, doc)
+    fp = fingerprint_of(content)
+    states = judge(load_records(project), fp, content)
+    return fp, content, states, status_of(states)
+
+
+def package_extras(project: Project, data: dict, doc) -> PackageExtras:
+    """Title-block status, fingerprint, sign-offs, review comments, revision history, embedded data."""
+    from latticecalc.project.export.package import embed_json
+
+    fp, content, states, status = signoff_view(project, data, doc)
+    comments = load_comments(project)
+    by_step: dict[str, list[dict]] = {}
+    for c in comments:
+        by_step.setdefault(c.step, []).append(c.to_dict())
+    stored = load_revisions(project)
+    previous = next((r for r in stored if r.get("revision") == project.meta.revision), None)
+    current = revision_record(data=data, fingerprint=fp, content=content, status=status, previous=previous)
+    frozen = bool(previous and previous.get("status") == "approved" and previous.get("fingerprint") != fp)
+    embedded = {"format": EMBED_FORMAT, "fingerprint": fp, "fingerprint_content": content, "status": status,
+                "open_comments": sum(c.status == "open" for c in comments),
+                "signoffs": [{k: v for k, v in s.record.items() if k != "content"} | {"state": s.reason or "current"}
+                             for s in states],
+                "seal": SEAL_PLACEHOLDER}
+    return PackageExtras(status=status, fingerprint=fp, signatures=_sign_rows(states), comments_by_step=by_step,
+                         comments_html=_comments_html(comments), open_comments=embedded["open_comments"],
+                         revision_history_html=history_html(stored, current, frozen=frozen),
+                         signature_block_html=_signature_block(states), embedded_json=embed_json(embedded))
+
+
+def after_export(project: Project, data: dict, doc) -> None:
+    """Keep this export's JSON as the current revision's record (once the package is written)."""
+    fp, content, _states, status = signoff_view(project, data, doc)
+    stored = load_revisions(project)
+    previous = next((r for r in stored if r.get("revision") == project.meta.revision), None)
+    record_export(project, revision_record(data=data, fingerprint=fp, content=content, status=status,
+                                          previous=previous))

@@ -1,0 +1,188 @@
+"""The fingerprint of a calculation: what a sign-off binds to.
+
+The fingerprint is the SHA-256 (hex) of the canonical JSON (keys sorted, no whitespace, UTF-8)
+of the *fingerprint content*:
+
+``project``
+    The identity in ``project.toml`` (name, number, client, calc id, title, revision, preparer,
+    description): a sign-off of revision A does not carry over to revision B.
+``inputs``
+    ``Inputs.canonical()``: every input parsed and normalised to SI base units.
+``inputs_shown``
+    Each input as the package shows it (value text and unit), so a visible edit is caught.
+``notebooks``
+    The code of each notebook in run order (``state.notebook_code``: cell sources, no outputs).
+``results``
+    The key results of the package JSON: id, unit, the text shown, and the value rounded to
+    :data:`RESULT_SIG_FIGS` significant figures (checks also carry their verdict), so that float
+    noise in the last bits, which a rerun on another machine may produce, does not void a
+    signature, while any change a reader could see does.
+``shown``
+    The text of every step and check as the package shows it (formula, substituted values,
+    result, source), so that an edited figure on the page no longer matches.
+``kit_version``
+    The latticecalc version that produced the results.
+
+Input values are rounded the same way. The content is embedded in the package beside the
+fingerprint, so anyone can recompute it from the HTML alone (``latticecalc verify``).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from latticecalc.project.project import Project
+
+#: Significant figures kept of every number in the fingerprint content.
+RESULT_SIG_FIGS = 10
+
+CONTENT_FORMAT = "latticecalc-fingerprint-content/1"
+
+
+def round_sig(value: Any, sig: int = RESULT_SIG_FIGS) -> Any:
+    """Round every float in ``value`` (recursively) to ``sig`` significant figures.
+
+    Non-finite floats become the strings ``"nan"``, ``"inf"``, ``"-inf"`` so the JSON stays
+    canonical; integers, booleans and text are kept as they are.
+    """
+    if isinstance(value, bool) or value is None or isinstance(value, (int, str)):
+        return value
+    if isinstance(value, float):
+        if not math.isfinite(value):
+            return "nan" if math.isnan(value) else ("inf" if value > 0 else "-inf")
+        return float(f"{value:.{sig}g}")
+    if isinstance(value, dict):
+        return {str(k): round_sig(v, sig) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [round_sig(v, sig) for v in value]
+    return str(value)
+
+
+def canonical_json(value: Any) -> str:
+    """Canonical JSON text: sorted keys, no whitespace, non-ASCII kept (hashed as UTF-8)."""
+    return json.dumps(value, sort_keys=True, separators=(",", ":"), ensure_ascii=False, allow_nan=False)
+
+
+def fingerprint_of(content: dict) -> str:
+    """SHA-256 (hex) of the canonical JSON of ``content``."""
+    return hashlib.sha256(canonical_json(content).encode("utf-8")).hexdigest()
+
+
+def _result_entry(row: dict) -> dict:
+    entry = {"id": row["id"], "value": row["value"], "unit": row.get("unit", ""), "text": row.get("text", "")}
+    if "verdict" in row:
+        entry["verdict"] = row["verdict"]
+        entry["ok"] = row.get("ok")
+    return entry
+
+
+def shown_steps(doc) -> dict[str, str]:
+    """Step id -> the text the package shows for that step (description, formula, values, source).
+
+    Made with the package's own renderer and the same text extraction ``verify`` applies to the
+    HTML, so a visible figure edited in the package no longer matches.
+    """
+    from latticecalc.project.signoff.verify import block_texts
+    from latticecalc.sheet.render import record_html
+
+    html = "".join(record_html(r) for r in doc.records() if r["kind"] in ("step", "check"))
+    return {k[len("step-"):]: v for k, v in block_texts(html).items() if k.startswith("step-")}
+
+
+def fingerprint_content(project: Project, data: dict, doc) -> dict:
+    """The content the fingerprint covers, from the project, its package JSON ``data`` and sheet ``doc``."""
+    from latticecalc.project.state import notebook_code
+
+    meta = {k: v for k, v in data["project"].items() if k not in ("template", "kit_version")}
+    return round_sig({
+        "format": CONTENT_FORMAT,
+        "project": meta,
+        "inputs": project.inputs.canonical(),
+        "inputs_shown": {i["id"]: f"{i['text']} {i['unit']}".strip() for i in data["inputs"]},
+        "notebooks": [{"name": nb.name, "code": notebook_code(nb)} for nb in project.notebooks],
+        "results": [_result_entry(r) for r in data["results"]],
+        "shown": shown_steps(doc),
+        "kit_version": data["project"]["kit_version"],
+    })
+
+
+@dataclass(frozen=True, kw_only=True)
+class ContentChanges:
+    """What differs between two fingerprint contents (old -> new)."""
+
+    inputs: list[str] = field(default_factory=list)
+    results: list[str] = field(default_factory=list)
+    notebooks: list[str] = field(default_factory=list)
+    project: list[str] = field(default_factory=list)
+    kit_version: str = ""
+
+    @property
+    def empty(self) -> bool:
+        """True when nothing changed."""
+        return not (self.inputs or self.results or self.notebooks or self.project or self.kit_version)
+
+    def describe(self) -> str:
+        """One line naming what changed, e.g. ``inputs changed: cell.width (0.12 m -> 0.1 m)``."""
+        parts = []
+        for label, items in (("inputs changed", self.inputs), ("results changed", self.results),
+                             ("notebook code changed", self.notebooks), ("project details changed", self.project)):
+            if items:
+                parts.append(f"{label}: " + ", ".join(items))
+        if self.kit_version:
+            parts.append(f"kit version changed: {self.kit_version}")
+        return "; ".join(parts) if parts else "no change"
+
+
+def _value_text(entry: Any) -> str:
+    if isinstance(entry, dict) and "value" in entry:
+        v, u = entry["value"], entry.get("unit", "")
+        if isinstance(v, float):
+            v = f"{v:.6g}"
+        return f"{v} {u}".strip()
+    return str(entry)
+
+
+def diff_content(old: dict, new: dict) -> ContentChanges:
+    """Name the inputs, results, notebooks and project fields that differ between two contents."""
+    oi, ni = old.get("inputs", {}), new.get("inputs", {})
+    inputs = []
+    for k in sorted(set(oi) | set(ni)):
+        if oi.get(k) != ni.get(k):
+            if k not in oi:
+                inputs.append(f"{k} (added: {_value_text(ni[k])})")
+            elif k not in ni:
+                inputs.append(f"{k} (removed)")
+            else:
+                inputs.append(f"{k} ({_value_text(oi[k])} -> {_value_text(ni[k])})")
+    orr = {r["id"]: r for r in old.get("results", [])}
+    nr = {r["id"]: r for r in new.get("results", [])}
+    results = []
+    for k in list(orr) + [k for k in nr if k not in orr]:
+        a, b = orr.get(k), nr.get(k)
+        if a == b:
+            continue
+        if a is None:
+            results.append(f"{k} (new: {b.get('text', '')})")
+        elif b is None:
+            results.append(f"{k} (no longer computed)")
+        else:
+            results.append(f"{k} ({a.get('text', '')} -> {b.get('text', '')})")
+    onb = {n["name"]: n["code"] for n in old.get("notebooks", [])}
+    nnb = {n["name"]: n["code"] for n in new.get("notebooks", [])}
+    notebooks = sorted(k for k in set(onb) | set(nnb) if onb.get(k) != nnb.get(k))
+    op, np_ = old.get("project", {}), new.get("project", {})
+    project = [f"{k} ({op.get(k, '')!s} -> {np_.get(k, '')!s})" for k in sorted(set(op) | set(np_))
+               if op.get(k) != np_.get(k)]
+    kit = ""
+    if old.get("kit_version") != new.get("kit_version"):
+        kit = f"{old.get('kit_version')} -> {new.get('kit_version')}"
+    return ContentChanges(inputs=inputs, results=results, notebooks=notebooks, project=project, kit_version=kit)
+
+
+__all__ = ["RESULT_SIG_FIGS", "ContentChanges", "canonical_json", "diff_content", "fingerprint_content",
+           "fingerprint_of", "round_sig"]

@@ -1,0 +1,157 @@
+"""Ed25519 key pairs for keyed sign-offs (the ``cryptography`` library).
+
+``generate_keypair`` writes ``<name>.key`` (PKCS#8 PEM, file mode 0600) and ``<name>.pub``
+(SubjectPublicKeyInfo PEM) and never replaces an existing file. A signature is made over the
+canonical JSON of the sign-off record's signed fields; the record carries the raw public key
+(base64) and its key id (the first 16 hex digits of the SHA-256 of the raw public key), so a
+package can be checked on its own, and against a folder of trusted public keys.
+"""
+
+from __future__ import annotations
+
+import base64
+import hashlib
+import os
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+
+from cryptography.exceptions import InvalidSignature
+from cryptography.hazmat.primitives import serialization
+from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey, Ed25519PublicKey
+
+from latticecalc.errors import InputError
+from latticecalc.project.signoff.fingerprint import canonical_json
+
+PRIVATE_SUFFIX = ".key"
+PUBLIC_SUFFIX = ".pub"
+ALGORITHM = "ed25519"
+#: The fields of a sign-off record a signature covers (the fingerprint binds it to the content).
+SIGNED_FIELDS = ("seq", "role", "name", "time", "fingerprint", "comment", "calc_id", "revision")
+
+
+@dataclass(frozen=True, kw_only=True)
+class KeyPairFiles:
+    """Where ``generate_keypair`` put the two halves, and the key id."""
+
+    private: Path
+    public: Path
+    key_id: str
+
+
+def key_id(public_raw: bytes) -> str:
+    """Short id of a public key: first 16 hex digits of SHA-256 of its 32 raw bytes."""
+    return hashlib.sha256(public_raw).hexdigest()[:16]
+
+
+def _raw(public: Ed25519PublicKey) -> bytes:
+    return public.public_bytes(serialization.Encoding.Raw, serialization.PublicFormat.Raw)
+
+
+def _write_new(path: Path, data: bytes, mode: int) -> None:
+    """Write a file that must not exist yet: temp file, fsync, then hard-link (fails if it exists)."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    try:
+        os.fchmod(fd, mode)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        try:
+            os.link(tmp, path)
+        except FileExistsError:
+            raise InputError("a key file of that name exists already and is never replaced",
+                             input_name="--out", got=str(path),
+                             hint="Choose another --name or folder") from None
+    finally:
+        Path(tmp).unlink(missing_ok=True)
+
+
+def generate_keypair(out: str | Path, *, name: str = "signing") -> KeyPairFiles:
+    """Make an Ed25519 key pair in folder ``out`` as ``<name>.key`` (mode 0600) and ``<name>.pub``.
+
+    Raises
+    ------
+    InputError
+        If either file exists already (keys are never overwritten) or ``name`` is unsafe.
+    """
+    if not name or any(c in name for c in "/\\") or name.startswith("."):
+        raise InputError("key name must be a plain file name", input_name="--name", got=repr(name))
+    folder = Path(out)
+    folder.mkdir(parents=True, exist_ok=True)
+    priv_path, pub_path = folder / f"{name}{PRIVATE_SUFFIX}", folder / f"{name}{PUBLIC_SUFFIX}"
+    for p in (priv_path, pub_path):
+        if p.exists():
+            raise InputError("a key file of that name exists already and is never replaced",
+                             input_name="--out", got=str(p), hint="Choose another --name or folder")
+    private = Ed25519PrivateKey.generate()
+    priv_pem = private.private_bytes(serialization.Encoding.PEM, serialization.PrivateFormat.PKCS8,
+                                     serialization.NoEncryption())
+    pub_pem = private.public_key().public_bytes(serialization.Encoding.PEM,
+                                                serialization.PublicFormat.SubjectPublicKeyInfo)
+    _write_new(priv_path, priv_pem, 0o600)
+    _write_new(pub_path, pub_pem, 0o644)
+    return KeyPairFiles(private=priv_path, public=pub_path, key_id=key_id(_raw(private.public_key())))
+
+
+def load_private_key(path: str | Path) -> Ed25519PrivateKey:
+    """Read an Ed25519 private key written by :func:`generate_keypair`."""
+    path = Path(path)
+    try:
+        key = serialization.load_pem_private_key(path.read_bytes(), password=None)
+    except FileNotFoundError:
+        raise InputError("key file not found", input_name="--key", got=str(path)) from None
+    except (ValueError, TypeError) as exc:
+        raise InputError(f"not a readable private key ({exc})", input_name="--key", got=str(path),
+                         expected="an Ed25519 PEM private key made by 'latticecalc keygen'") from None
+    if not isinstance(key, Ed25519PrivateKey):
+        raise InputError("wrong key type", input_name="--key", got=type(key).__name__, expected="Ed25519")
+    return key
+
+
+def load_public_keys(folder: str | Path) -> dict[str, Path]:
+    """Trusted public keys in ``folder`` (``*.pub``): key id -> file."""
+    folder = Path(folder)
+    if not folder.is_dir():
+        raise InputError("not a folder of public keys", input_name="--keys", got=str(folder))
+    keys = {}
+    for p in sorted(folder.glob(f"*{PUBLIC_SUFFIX}")):
+        try:
+            pub = serialization.load_pem_public_key(p.read_bytes())
+        except ValueError as exc:
+            raise InputError(f"not a readable public key ({exc})", input_name="--keys", got=str(p)) from None
+        if isinstance(pub, Ed25519PublicKey):
+            keys[key_id(_raw(pub))] = p
+    return keys
+
+
+def signed_message(record: dict) -> bytes:
+    """The bytes an Ed25519 signature covers: canonical JSON of the record's signed fields."""
+    return canonical_json({k: record.get(k) for k in SIGNED_FIELDS}).encode("utf-8")
+
+
+def sign_bytes(private: Ed25519PrivateKey, message: bytes) -> dict:
+    """Signature dict for a record: algorithm, public key (base64 raw), key id, signature (base64)."""
+    raw = _raw(private.public_key())
+    return {"algorithm": ALGORITHM, "public_key": base64.b64encode(raw).decode("ascii"),
+            "key_id": key_id(raw), "value": base64.b64encode(private.sign(message)).decode("ascii")}
+
+
+def check_signature(signature: dict, message: bytes) -> str:
+    """Empty string if ``signature`` is a valid Ed25519 signature of ``message``, else why not."""
+    try:
+        if signature.get("algorithm") != ALGORITHM:
+            return f"unknown signature algorithm {signature.get('algorithm')!r}"
+        raw = base64.b64decode(signature["public_key"], validate=True)
+        if key_id(raw) != signature.get("key_id"):
+            return "key id does not match the public key carried with the signature"
+        Ed25519PublicKey.from_public_bytes(raw).verify(base64.b64decode(signature["value"], validate=True), message)
+    except InvalidSignature:
+        return "signature does not match the signed content"
+    except (KeyError, ValueError, TypeError) as exc:
+        return f"malformed signature ({exc})"
+    return ""
+
+
+__all__ = ["SIGNED_FIELDS", "KeyPairFiles", "check_signature", "generate_keypair", "key_id", "load_private_key",
+           "load_public_keys", "sign_bytes", "signed_message"]

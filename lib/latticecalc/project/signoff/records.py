@@ -1,0 +1,186 @@
+"""Sign-off records (``signoff/signatures.jsonl``, append-only) and the status they give.
+
+A record holds the role (prepared, checked, approved), the name, the UTC time, the fingerprint
+signed, a comment, the revision, and the fingerprint content itself, so that a later export can
+say exactly what changed when a sign-off no longer matches (it is then VOID). With a key, the
+record also carries an Ed25519 signature of its signed fields (``keys.SIGNED_FIELDS``).
+
+Rules ``sign_project`` enforces:
+
+* the project must have a valid run that matches its current inputs and notebooks (not stale,
+  not failed, not never run);
+* ``checked`` is refused while review comments are open, and when the checker is the preparer;
+* ``approved`` needs a current ``checked`` sign-off;
+* ``checked`` or ``approved`` with a NOT OK check needs a comment saying how it was resolved.
+
+Status: ``approved`` if a current approved and a current checked sign-off exist, ``checked`` if a
+current checked one does, else ``preliminary``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import UTC, datetime
+from pathlib import Path
+
+from latticecalc.errors import InputError, ProjectError
+from latticecalc.project.project import Project, open_project
+from latticecalc.project.signoff.fingerprint import (
+    ContentChanges,
+    diff_content,
+    fingerprint_content,
+    fingerprint_of,
+)
+from latticecalc.project.signoff.journal import SIGNOFF_DIR, append_line, read_lines
+from latticecalc.project.signoff.keys import check_signature, load_private_key, sign_bytes, signed_message
+from latticecalc.project.signoff.review import load_comments
+from latticecalc.project.state import EXECUTED_DIR, stale_files
+
+SIGNATURES_FILE = "signatures.jsonl"
+ROLES = ("prepared", "checked", "approved")
+MAX_NAME = 200
+
+
+def signatures_path(project: Project) -> Path:
+    """Where the project's sign-off records are kept."""
+    return project.folder / SIGNOFF_DIR / SIGNATURES_FILE
+
+
+def current_package(project: Project) -> tuple[dict, object]:
+    """The package JSON and sheet of the project's last run (as an export now would make them)."""
+    from latticecalc.project.export.collect import collect
+    from latticecalc.project.export.package import build_package_data
+
+    doc = collect([project.out / EXECUTED_DIR / nb.name for nb in project.notebooks])
+    return build_package_data(project, doc, ""), doc
+
+
+def current_fingerprint(project: Project) -> tuple[str, dict]:
+    """Fingerprint and its content for the project's last run (raises if the run is stale)."""
+    changed = stale_files(project)
+    if changed:
+        raise ProjectError("has no valid run matching its current inputs and notebooks (changed: "
+                           + ", ".join(changed) + ")", input_name=str(project.folder),
+                           hint="Run it ('latticecalc run DIR') and check the results before signing")
+    data, doc = current_package(project)
+    content = fingerprint_content(project, data, doc)
+    return fingerprint_of(content), content
+
+
+@dataclass(frozen=True, kw_only=True)
+class SignoffState:
+    """A sign-off record judged against the current content."""
+
+    record: dict
+    void: bool
+    changes: ContentChanges | None
+    signature_problem: str = ""
+
+    @property
+    def valid(self) -> bool:
+        """Current and (if signed with a key) correctly signed."""
+        return not self.void and not self.signature_problem
+
+    @property
+    def reason(self) -> str:
+        """Why it is void or invalid (empty when valid)."""
+        if self.signature_problem:
+            return f"signature invalid: {self.signature_problem}"
+        if self.void:
+            return self.changes.describe() if self.changes else "fingerprint differs"
+        return ""
+
+
+def judge(records: list[dict], fingerprint: str, content: dict) -> list[SignoffState]:
+    """Each record: void when its fingerprint differs from ``fingerprint`` (with what changed)."""
+    states = []
+    for rec in records:
+        void = rec.get("fingerprint") != fingerprint
+        changes = diff_content(rec.get("content", {}), content) if void else None
+        problem = check_signature(rec["signature"], signed_message(rec)) if rec.get("signature") else ""
+        states.append(SignoffState(record=rec, void=void, changes=changes, signature_problem=problem))
+    return states
+
+
+def status_of(states: list[SignoffState]) -> str:
+    """``preliminary``, ``checked`` or ``approved`` from the current, valid sign-offs."""
+    roles = {s.record.get("role") for s in states if s.valid}
+    if "checked" in roles and "approved" in roles:
+        return "approved"
+    if "checked" in roles:
+        return "checked"
+    return "preliminary"
+
+
+def load_records(project: Project) -> list[dict]:
+    """All sign-off records of the project, oldest first."""
+    return read_lines(signatures_path(project))
+
+
+def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
+                 key: str | Path | None = None) -> dict:
+    """Add a sign-off record for the project's current run; returns the record.
+
+    Parameters
+    ----------
+    folder:
+        The project folder.
+    role:
+        ``prepared``, ``checked`` or ``approved``.
+    name:
+        Who signs.
+    comment:
+        Free text (required when signing checked/approved with a NOT OK check).
+    key:
+        Optional Ed25519 private key file (``latticecalc keygen``); the record is then signed.
+
+    Raises
+    ------
+    InputError
+        Unknown role, empty name, missing comment, unreadable key.
+    ProjectError
+        Stale, failed or never-run project; open review comments (``checked``); no current
+        ``checked`` sign-off (``approved``); checker is the preparer.
+    """
+    if role not in ROLES:
+        raise InputError("unknown role", input_name="--role", expected=" or ".join(ROLES), got=repr(role))
+    if not isinstance(name, str) or not name.strip() or len(name) > MAX_NAME:
+        raise InputError("must be a name", input_name="--name", expected=f"1 to {MAX_NAME} characters",
+                         got=repr(name))
+    name, comment = name.strip(), (comment or "").strip()
+    private = load_private_key(key) if key is not None else None
+    project = open_project(folder)
+    fingerprint, content = current_fingerprint(project)
+    states = judge(load_records(project), fingerprint, content)
+    current = [s for s in states if s.valid]
+    if role == "checked":
+        open_ids = [c.id for c in load_comments(project) if c.status == "open"]
+        if open_ids:
+            raise ProjectError("cannot be marked checked while review comments are open: " + ", ".join(open_ids),
+                               input_name=str(project.folder), hint="Reply to and close them first")
+        preparers = {s.record["name"].casefold() for s in current if s.record.get("role") == "prepared"}
+        preparers.add(project.meta.prepared_by.casefold())
+        if name.casefold() in preparers:
+            raise ProjectError("the checker must not be the preparer", input_name="--name", got=repr(name))
+    if role == "approved" and not any(s.record.get("role") == "checked" for s in current):
+        raise ProjectError("cannot be approved before a current 'checked' sign-off exists",
+                           input_name=str(project.folder))
+    failing = [r["id"] for r in content["results"] if r.get("ok") is False]
+    if role in ("checked", "approved") and failing and not comment:
+        raise InputError("checks are NOT OK (" + ", ".join(failing) + "): say in a comment how this was resolved",
+                         input_name="--comment")
+    record = {"role": role, "name": name, "time": datetime.now(UTC).isoformat(timespec="seconds"),
+              "fingerprint": fingerprint, "comment": comment, "calc_id": project.meta.calc_id,
+              "revision": project.meta.revision, "content": content}
+
+    def complete(existing: list[dict], rec: dict) -> dict:
+        rec = rec | {"seq": len(existing) + 1}
+        if private is not None:
+            rec["signature"] = sign_bytes(private, signed_message(rec))
+        return rec
+
+    return append_line(signatures_path(project), record, prepare=complete)
+
+
+__all__ = ["ROLES", "SignoffState", "current_fingerprint", "judge", "load_records", "sign_project",
+           "signed_message", "status_of"]

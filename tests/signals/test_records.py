@@ -140,3 +140,29 @@ def test_npy_memory_mapped_and_checked(tmp_path):
     empty.write_bytes(b"")
     with pytest.raises(RecordError, match="empty file"):
         R.read_npy(empty, sample_rate=Q_(1000, "Hz"), unit="m/s^2")
+
+
+def test_full_scale_clipping_and_read_record_by_suffix(tmp_path):
+    data = np.zeros((2000, 1))
+    data[::100, 0] = 0.5
+    data[700:705, 0] = 2.0            # at full scale
+    p = tmp_path / "clip.npy"
+    np.save(p, data)
+    with pytest.warns(R.RecordWarning, match="full scale"):
+        rec = R.read_record(p, sample_rate=Q_(1000, "Hz"), unit="m/s^2", full_scale=Q_(2, "m/s^2"))
+    assert "line 701" in rec.warnings[0]
+    with pytest.raises(RecordError, match="needs its sample rate and unit"):
+        R.read_record(p)
+
+
+def test_demo_record_is_reproducible_and_written_once(tmp_path):
+    a = synthetic.site_record(duration=Q_(20, "s"), passbys=1, seed=9)
+    b = synthetic.site_record(duration=Q_(20, "s"), passbys=1, seed=9)
+    np.testing.assert_array_equal(a.data, b.data)
+    p = synthetic.ensure_demo_record(tmp_path / "records" / "demo.csv", seed=9, duration=Q_(20, "s"), passbys=1)
+    stamp = p.stat().st_mtime_ns
+    synthetic.ensure_demo_record(p, seed=9, duration=Q_(20, "s"), passbys=1)
+    assert p.stat().st_mtime_ns == stamp
+    rec = R.read_record(p)
+    assert rec.channels == ("x", "y", "z")
+    np.testing.assert_allclose(rec.data, a.data, rtol=1e-4, atol=1e-8)   # 5 significant figures in the CSV

@@ -166,11 +166,15 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
 
                 parts.append(figure_html(rec, number=fig_no))
                 continue
+            if rec["kind"] == "result":  # each step followed by its review comments
+                title = f'<div class="lc-result-title">{escape(rec["title"])}</div>' if rec.get("title") else ""
+                parts.append('<div class="lc-calc">' + title + "".join(
+                    record_html(st) + (_comments_for(st["id"], extras) if "id" in st else "")
+                    for st in rec["steps"]) + "</div>")
+                continue
             parts.append(record_html(rec))
-            steps = rec["steps"] if rec["kind"] == "result" else [rec]
-            for st in steps:
-                if "id" in st:
-                    parts.append(_comments_for(st["id"], extras))
+            if "id" in rec:
+                parts.append(_comments_for(rec["id"], extras))
         parts.append("</section>")
         body.append("".join(parts))
 

@@ -1,0 +1,225 @@
+"""The review cycle: comments, sign-off rules, VOID after a change, revisions, atomic export.
+
+The rules tested (checker independent of the preparer, no 'checked' with open comments,
+approval after a check) are `common practice` for engineering calculation sign-off; the issue
+that asks for them is the project's own. Nothing here asserts a physical value.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+from html import unescape
+from pathlib import Path
+
+import pytest
+import tomlkit
+
+from latticecalc.cli import main
+from latticecalc.errors import InputError, LatticeCalcError, ProjectError
+from latticecalc.project import atomic, open_project
+from latticecalc.project.export import export_project
+from latticecalc.project.runner import run_project
+from latticecalc.project.signoff import (
+    add_comment,
+    close_comment,
+    compare_revisions,
+    list_comments,
+    reply_comment,
+    sign_project,
+    verify_package,
+)
+from latticecalc.project.signoff.records import load_records
+from latticecalc.project.signoff.verify import read_embedded
+
+PREPARER = "Pat Preparer"
+CHECKER = "Chris Checker"
+APPROVER = "Alex Approver"
+RESOLVED = "NOT OK checks reviewed: accepted for this test"
+INPUT = "lattice.strut_diameter"
+
+
+def package_of(folder: Path) -> Path:
+    return folder / "out" / f"{open_project(folder).meta.package_stem}.html"
+
+
+def set_input(folder: Path, dotted: str, value: str) -> None:
+    path = folder / "inputs.toml"
+    doc = tomlkit.parse(path.read_text(encoding="utf-8"))
+    table, key = dotted.split(".")
+    doc[table][key] = value
+    path.write_text(tomlkit.dumps(doc), encoding="utf-8")
+
+
+def set_meta(folder: Path, table: str, key: str, value: str) -> None:
+    path = folder / "project.toml"
+    doc = tomlkit.parse(path.read_text(encoding="utf-8"))
+    doc[table][key] = value
+    path.write_text(tomlkit.dumps(doc), encoding="utf-8")
+
+
+def a_step(folder: Path) -> str:
+    data = json.loads(package_of(folder).with_suffix(".json").read_text(encoding="utf-8"))
+    return data["results"][0]["id"]
+
+
+def test_review_comments_block_checked_until_closed_and_show_beside_their_step(project):
+    step = a_step(project)
+    with pytest.raises(InputError, match="no such step"):
+        add_comment(project, step="no.such-step", author=CHECKER, text="?")
+    c = add_comment(project, step=step, author=CHECKER, text="Where does the end fixity come from?")
+    assert c.id == "R1" and c.status == "open"
+    with pytest.raises(ProjectError, match="review comments are open: R1"):
+        sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    export_project(project)
+    html = package_of(project).read_text(encoding="utf-8")
+    title = html.split('id="title-block"', 1)[1].split("</table>", 1)[0]
+    assert "<th>Open comments</th><td>1</td>" in title
+    after_step = html.split(f'id="step-{step}"', 1)[1]
+    assert after_step.index("lc-comment-open") < after_step.index('class="lc-step"')  # beside its own step
+    reply_comment(project, "R1", author=PREPARER, text="Node detail N3, see drawing")
+    close_comment(project, "R1", author=CHECKER, text="Agreed")
+    with pytest.raises(InputError, match="closed already"):
+        close_comment(project, "R1", author=CHECKER)
+    [c] = list_comments(project)
+    assert c.status == "closed" and [r["author"] for r in c.replies] == [PREPARER, CHECKER]
+    assert list_comments(project, include_closed=False) == []
+    sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    export_project(project)
+    html = package_of(project).read_text(encoding="utf-8")
+    assert "<th>Open comments</th><td>0</td>" in html
+    assert read_embedded(html)["status"] == "checked"
+
+
+def test_status_follows_preliminary_checked_approved(project):
+    pkg = package_of(project)
+    assert read_embedded(pkg.read_text(encoding="utf-8"))["status"] == "preliminary"
+    with pytest.raises(ProjectError, match="before a current 'checked'"):
+        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+    sign_project(project, role="prepared", name=PREPARER)
+    with pytest.raises(ProjectError, match="must not be the preparer"):
+        sign_project(project, role="checked", name=PREPARER, comment=RESOLVED)
+    failing = [r["id"] for r in json.loads(pkg.with_suffix(".json").read_text())["results"] if r.get("ok") is False]
+    if failing:  # a NOT OK check needs the checker's word on it
+        with pytest.raises(InputError, match="NOT OK"):
+            sign_project(project, role="checked", name=CHECKER)
+    sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+    export_project(project)
+    html = pkg.read_text(encoding="utf-8")
+    assert read_embedded(html)["status"] == "approved"
+    assert 'lc-status-approved">approved<' in html
+    assert verify_package(pkg).ok
+
+
+def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(project):
+    sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    set_input(project, INPUT, "3.2 mm")
+    with pytest.raises(ProjectError, match="inputs.toml"):  # stale: refuses to sign
+        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+    with pytest.raises(ProjectError, match="changed since the last run"):
+        export_project(project)
+    run_project(project, progress=None)
+    export_project(project)
+    html = package_of(project).read_text(encoding="utf-8")
+    title = unescape(html.split('id="title-block"', 1)[1].split("</table>", 1)[0])
+    assert "VOID" in title
+    assert f"inputs changed: {INPUT} (0.003 m -> 0.0032 m)" in title
+    assert "results changed:" in title
+    data = read_embedded(html)
+    assert data["status"] == "preliminary"
+    assert verify_package(package_of(project)).ok  # the package is honest about the void sign-off
+
+
+def test_records_are_append_only(project):
+    sign_project(project, role="prepared", name=PREPARER)
+    path = project / "signoff" / "signatures.jsonl"
+    first = path.read_bytes()
+    sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    second = path.read_bytes()
+    assert second.startswith(first) and len(second.splitlines()) == 2
+    assert [r["seq"] for r in load_records(open_project(project))] == [1, 2]
+
+
+def test_failing_or_never_run_project_cannot_be_signed(project):
+    (project / "out" / "run-record.json").unlink()
+    with pytest.raises(ProjectError, match="never run"):
+        sign_project(project, role="prepared", name=PREPARER)
+    assert main(["sign", str(project), "--role", "prepared", "--name", PREPARER]) == 2
+
+
+def test_interrupted_export_leaves_the_previous_package_intact(project, monkeypatch):
+    pkg = package_of(project)
+    before = pkg.read_bytes()
+    sign_project(project, role="prepared", name=PREPARER)  # so the new package would differ
+    real_fdopen = atomic.os.fdopen
+
+    class HalfWriter:
+        def __init__(self, fh):
+            self.fh = fh
+
+        def __enter__(self):
+            return self
+
+        def __exit__(self, *exc):
+            self.fh.close()
+
+        def write(self, data):
+            self.fh.write(data[: len(data) // 2])
+            raise OSError("disk full (simulated)")
+
+    def failing_fdopen(fd, mode="r", *a, **k):
+        return HalfWriter(real_fdopen(fd, mode, *a, **k))
+
+    monkeypatch.setattr(atomic.os, "fdopen", failing_fdopen)
+    with pytest.raises(OSError, match="simulated"):
+        export_project(project)
+    monkeypatch.undo()
+    assert pkg.read_bytes() == before
+    assert not list((project / "out").glob(".*.part"))
+    assert verify_package(pkg).ok
+
+
+def test_revisions_are_kept_and_compared(project, capsys):
+    export_project(project)
+    set_meta(project, "calc", "revision", "B")
+    set_input(project, INPUT, "3.5 mm")
+    run_project(project, progress=None)
+    export_project(project)
+    revs = sorted(p.name for p in (project / "out" / "revisions").glob("*.json"))
+    assert revs == ["A.json", "B.json"]
+    comp = compare_revisions(project, a="A", b="B")
+    assert any(s.startswith(INPUT) for s in comp.changes.inputs)
+    assert comp.changes.results and "revision (A -> B)" in comp.changes.project
+    assert main(["compare", str(project), "--from", "A", "--to", "B"]) == 0
+    out = capsys.readouterr().out
+    assert f"input    {INPUT} (0.003 m -> 0.0035 m)" in out
+    assert "result   " in out
+    html = package_of(project).read_text(encoding="utf-8")
+    history = html.split('id="revisions"', 1)[1].split("</section>", 1)[0]
+    assert re.search(r"<td>A</td>.*<td>B</td>", history, re.DOTALL)
+    assert INPUT in history
+    with pytest.raises(LatticeCalcError, match="no exported record"):
+        compare_revisions(project, a="A", b="Z")
+
+
+HOSTILE = '<script>alert("x")</script><img src=x onerror=alert(1)>"\'&</td></table>'
+
+
+def test_hostile_user_strings_are_escaped_in_the_package(project):
+    for key in ("name", "number", "client"):
+        set_meta(project, "project", key, f"{key} {HOSTILE}")
+    for key in ("title", "prepared_by"):
+        set_meta(project, "calc", key, f"{key} {HOSTILE}")
+    run_project(project, progress=None)
+    export_project(project)
+    step = a_step(project)
+    add_comment(project, step=step, author=f"author {HOSTILE}", text=f"comment {HOSTILE}")
+    reply_comment(project, "R1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
+    sign_project(project, role="prepared", name=f"signer {HOSTILE}", comment=f"remark {HOSTILE}")
+    export_project(project)
+    html = package_of(project).read_text(encoding="utf-8")
+    assert "<script>alert" not in html and "<img src=x" not in html
+    assert html.count("<script") == 1  # only the embedded JSON data element
+    assert "&lt;script&gt;alert(&quot;x&quot;)&lt;/script&gt;" in html
+    assert verify_package(package_of(project)).ok

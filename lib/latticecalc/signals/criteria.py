@@ -14,6 +14,9 @@ Three families, each selectable by id (see :data:`CRITERIA`):
   Table 6-3.  These limit the overall (1 s, slow) level, not a band; bands are screened against
   the same value (necessary, not sufficient) and the overall level is checked.
 
+Optionally, the **DIN 4150-3** structural damage guideline: peak particle velocity at the foundation
+against a value interpolated linearly in frequency between the table's corner values.
+
 Values marked ``from memory`` could not be checked against the primary document here.
 """
 
@@ -268,3 +271,55 @@ def _db(step, values):
     from dataclasses import replace
 
     return replace(step, result=Q_(np.asarray(values, dtype=float), "dB"))
+
+
+# --- structural damage guideline (DIN 4150-3) ----------------------------------------------------
+DIN_4150_3 = Source(author="DIN", title="DIN 4150-3:2016 Vibrations in buildings – Part 3: Effects on structures",
+                    year=2016, locator="Table 1 (short-term vibration, foundation), Figure 1",
+                    tag="from memory; values seen in a secondary source")
+
+#: Guideline peak particle velocity at the foundation (mm/s) at 1–10 Hz, 10 → 50 Hz, 50 → 100 Hz.
+DIN_4150_3_TABLE = {
+    "commercial": ((1.0, 20.0), (10.0, 20.0), (50.0, 40.0), (100.0, 50.0)),
+    "dwelling": ((1.0, 5.0), (10.0, 5.0), (50.0, 15.0), (100.0, 20.0)),
+    "sensitive": ((1.0, 3.0), (10.0, 3.0), (50.0, 8.0), (100.0, 10.0)),
+}
+_v1, _v2, _f1, _f2 = sp.symbols("v_1 v_2 f_1 f_2")
+#: Linear interpolation between two corner values of the guideline (the straight lines of its Figure 1).
+GUIDELINE_INTERPOLATION = Formula("v_lim", _v1 + (_v2 - _v1) * (_f - _f1) / (_f2 - _f1), {"v_lim": r"v_{\mathrm{lim}}"})
+
+
+def din_4150_3_limit(*, building: str, frequency) -> CalcResult:
+    """DIN 4150-3 guideline PPV at the foundation [velocity] for a dominant ``frequency`` [frequency].
+
+    Linear interpolation in frequency between the table's corner values (1–10 Hz constant, then
+    straight lines to 50 Hz and to 100 Hz); above 100 Hz the 100 Hz value.  ``building`` is
+    ``"commercial"``, ``"dwelling"`` or ``"sensitive"``.
+    """
+    if building not in DIN_4150_3_TABLE:
+        raise InputError("unknown building class", input_name="building",
+                         expected="one of " + ", ".join(DIN_4150_3_TABLE), got=repr(building))
+    f = float(check_dimension(frequency, name="frequency", expected="frequency").to("Hz").m)
+    if not f > 0:
+        raise InputError("the dominant frequency must be positive", input_name="frequency", expected="> 0 Hz",
+                         got=f"{f:g} Hz")
+    pts = DIN_4150_3_TABLE[building]
+    fc = min(max(f, pts[0][0]), pts[-1][0])
+    k = next(i for i in range(1, len(pts)) if fc <= pts[i][0])
+    (fa, va), (fb, vb) = pts[k - 1], pts[k]
+    step = evaluate(GUIDELINE_INTERPOLATION, id="criterion.din-4150-3", description=f"DIN 4150-3 guideline PPV, "
+                    f"{building}, at {f:.3g} Hz", values={"v_1": Q_(va, "mm/s"), "v_2": Q_(vb, "mm/s"),
+                                                          "f": Q_(fc, "Hz"), "f_1": Q_(fa, "Hz"),
+                                                          "f_2": Q_(fb, "Hz")},
+                    unit="mm/s", source=DIN_4150_3,
+                    note="frequency held at 1 Hz / 100 Hz outside the table" if fc != f else "")
+    return CalcResult(value=step.result, steps=(step,), title="DIN 4150-3 guideline value")
+
+
+def din_4150_3_assessment(*, ppv, frequency, building: str) -> CalcResult:
+    """A measured peak particle velocity [velocity] at its dominant ``frequency`` against DIN 4150-3."""
+    v = check_dimension(ppv, name="ppv", expected="velocity")
+    lim = din_4150_3_limit(building=building, frequency=frequency)
+    chk = check(id="criterion.din-4150-3-check", description=f"Peak particle velocity against DIN 4150-3 "
+                f"({building})", demand=v.to("mm/s"), limit=lim.value, source=DIN_4150_3)
+    return CalcResult(value=lim.value, steps=lim.steps + (chk,), title="Structural damage guideline (DIN 4150-3)")

@@ -728,3 +728,25 @@ def event_spectra(signal, *, sample_rate, events: Events, quantity: str = "accel
                                "velocity_rms": Q_(hold, "m/s"), "level": lev.value,
                                "per_event": Q_(per_arr, "m/s")},
                         steps=band_steps + (step,) + lev.steps, title="Event band spectra (max-hold)")
+
+
+def peak_particle_velocity(signal, *, sample_rate, quantity: str = "acceleration", highpass=DEFAULT_HIGHPASS,
+                           resolution=NARROWBAND_RESOLUTION) -> CalcResult:
+    """Peak particle velocity (largest |v|) and the dominant frequency (maximum of the velocity PSD).
+
+    ``value`` maps ``ppv`` [velocity] and ``frequency`` [frequency].  An acceleration is integrated
+    first (:func:`to_velocity`, with ``highpass``).
+    """
+    q, kind = _signal(signal, quantity=quantity)
+    v = to_velocity(q, sample_rate=sample_rate, highpass=highpass).value if kind == "acceleration" else q
+    ppv = float(np.max(np.abs(np.asarray(v.to("m/s").m))))
+    nb = narrowband_spectrum(v, sample_rate=sample_rate, resolution=resolution, quantity="velocity",
+                             highpass=highpass)
+    fdom = float(nb.value["frequency"].m[int(np.argmax(nb.value["psd"].m))])
+    steps = (quantity_step(id="ppv.value", description="Peak particle velocity", value=Q_(ppv, "m/s"), unit="mm/s",
+                           method="largest absolute velocity sample", source=COMMON_PRACTICE),
+             quantity_step(id="ppv.frequency", description="Dominant frequency (maximum of the velocity PSD)",
+                           value=Q_(fdom, "Hz"), unit="Hz", method=f"narrowband, Δf = {nb.resolution.m:.3g} Hz",
+                           source=COMMON_PRACTICE))
+    return CalcResult(value={"ppv": Q_(ppv, "m/s"), "frequency": Q_(fdom, "Hz")}, steps=steps,
+                      title="Peak particle velocity")

@@ -68,6 +68,8 @@ NARROWBAND_RESOLUTION = Q_(0.25, "Hz")
 EVENT_MIN_DURATION = Q_(2.0, "s")
 EVENT_MERGE_GAP = Q_(2.0, "s")
 EVENT_PAD = Q_(1.0, "s")
+#: Frequency bins per chunk when a whole-record spectrum is converted.
+FFT_CHUNK = 1 << 17
 #: Segments per FFT batch in the Welch accumulator.
 WELCH_BATCH = 32
 
@@ -287,12 +289,14 @@ def to_velocity(signal, *, sample_rate, highpass=DEFAULT_HIGHPASS) -> SignalResu
     spec = sfft.rfft(a)
     freq = sfft.rfftfreq(n, 1.0 / fs)
     w = _highpass_weights(freq, f_hp)
-    keep = w > 0
-    v_spec = np.zeros_like(spec)
-    v_spec[keep] = VELOCITY_FROM_ACCELERATION.evaluate(
-        {"A": Q_(spec[keep] * w[keep], "m/s^2"), "f": Q_(freq[keep], "Hz")}).to("m/s").magnitude
+    first = int(np.argmax(w > 0)) if np.any(w > 0) else spec.size
+    spec[:first] = 0.0
+    for b0 in range(first, spec.size, FFT_CHUNK):     # in place, chunk by chunk, to bound temporaries
+        sl = slice(b0, min(b0 + FFT_CHUNK, spec.size))
+        spec[sl] = VELOCITY_FROM_ACCELERATION.evaluate(
+            {"A": Q_(spec[sl] * w[sl], "m/s^2"), "f": Q_(freq[sl], "Hz")}).to("m/s").magnitude
+    v = sfft.irfft(spec, n=n)
     del spec
-    v = sfft.irfft(v_spec, n=n)
     steps = (
         Step(id="signal.integration", description="Acceleration to velocity, frequency domain",
              result=Q_(f_hp, "Hz"), formula=VELOCITY_FROM_ACCELERATION,

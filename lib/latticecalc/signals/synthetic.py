@@ -29,13 +29,13 @@ HUANG_2009 = Source(author="Huang, H. H., Sun, C. T. & Huang, G. L.", title="On 
                     locator="pp. 610–617, mass-in-mass lattice")
 
 #: Invented tonal components of the demo pass-bys (Hz) and their relative amplitudes.
-DEMO_TONES = ((16.0, 1.0), (31.0, 0.6), (47.0, 0.45))
+DEMO_TONES = ((40.0, 1.0), (25.0, 0.15), (12.5, 0.04))
 #: Sensor noise floor of the demo accelerometer, m/s² per √Hz (about 0.5 µg/√Hz).
 SENSOR_NOISE_DENSITY = 0.5e-6 * 9.80665
 #: RMS of the broadband background (1–100 Hz), m/s².
 BACKGROUND_RMS = 3e-4
 #: Peak tonal amplitude of the strongest pass-by component, m/s² (vertical channel).
-PASSBY_AMPLITUDE = 0.02
+PASSBY_AMPLITUDE = 0.05
 #: Relative channel scaling (x, y, z).
 CHANNEL_SCALE = (0.45, 0.35, 1.0)
 
@@ -68,7 +68,7 @@ def site_channel(*, n: int, fs: float, rng: np.random.Generator, starts: np.ndar
     x = ssig.sosfilt(sos_bg, rng.standard_normal(n))
     x *= BACKGROUND_RMS * scale / max(float(np.std(x)), 1e-30)
     x += rng.standard_normal(n) * SENSOR_NOISE_DENSITY * math.sqrt(fs / 2)
-    sos_ev = ssig.butter(2, [8.0, min(80.0, 0.45 * fs)], btype="bandpass", fs=fs, output="sos")
+    sos_ev = ssig.butter(2, [16.0, min(80.0, 0.45 * fs)], btype="bandpass", fs=fs, output="sos")
     for t0, length, speed in zip(starts, lengths, speeds):
         i0, i1 = int(t0 * fs), min(n, int((t0 + length) * fs))
         t = t_all[i0:i1] - t0
@@ -77,7 +77,7 @@ def site_channel(*, n: int, fs: float, rng: np.random.Generator, starts: np.ndar
         for f, rel in DEMO_TONES:
             sig += rel * np.sin(2 * np.pi * f * speed * t + rng.uniform(0, 2 * np.pi))
         noise = ssig.sosfilt(sos_ev, rng.standard_normal(i1 - i0))
-        sig += 0.5 * noise / max(float(np.std(noise)), 1e-30)
+        sig += 0.3 * noise / max(float(np.std(noise)), 1e-30)
         x[i0:i1] += PASSBY_AMPLITUDE * scale * env * sig
     return x
 

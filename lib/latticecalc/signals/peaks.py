@@ -116,7 +116,8 @@ def rank_targets(*, peaks: Peaks, assessment) -> Targets:
     assessment:
         A :class:`~latticecalc.signals.criteria.Assessment` of the band spectrum.
 
-    A peak is a *target* when its band exceeds the criterion (required insertion loss > 0).
+    A peak is a *target* when its band needs insertion loss: exceedance plus the assessment's
+    design margin above 0 dB (so a band just below the criterion can be a target).
     """
     if not isinstance(peaks, Peaks):
         raise InputError("needs a Peaks result", input_name="peaks", expected="Peaks", got=type(peaks).__name__)
@@ -129,8 +130,8 @@ def rank_targets(*, peaks: Peaks, assessment) -> Targets:
     order = np.argsort(np.where(np.isfinite(exc), -exc, np.inf), kind="stable")
     labels = [assessment.value["nominal"][i] for i in k[order]]
     target = np.isfinite(req[order]) & (req[order] > 0)
-    step = quantity_step(id="peaks.targets", description="Peaks to target (their band exceeds "
-                         f"{assessment.criterion.title})", value=Q_(int(target.sum()), ""),
+    step = quantity_step(id="peaks.targets", description="Peaks to target (their band needs insertion loss "
+                         f"against {assessment.criterion.title}, margin included)", value=Q_(int(target.sum()), ""),
                          method="band of each peak compared with the criterion; ranked by exceedance",
                          source=assessment.criterion.source)
     freqs = quantity_step(id="peaks.target-frequencies", description="Frequencies of the peaks to target, "

@@ -1,4 +1,4 @@
-"""A small column-panel project, made and run once per test module; tests work on copies."""
+"""A column-panel project, made and run once per session for the sign-off tests; tests work on copies."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from latticecalc.project.runner import run_project
 from latticecalc.project.templates import new_project
 
 
-@pytest.fixture(scope="module")
+@pytest.fixture(scope="session")
 def ran_project(tmp_path_factory) -> Path:
     """A column-panel project that has been run and exported once (do not modify: copy it)."""
     folder = new_project(tmp_path_factory.mktemp("proj") / "panel", template="column-panel")

@@ -112,8 +112,10 @@ def test_status_follows_preliminary_checked_approved(project):
     assert verify_package(pkg).ok
 
 
-def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(project):
+def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(project, capsys):
+    """Also the revision cycle: rev A signed, rev B with a new input, A and B compared."""
     sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    export_project(project)
     set_input(project, INPUT, "3.2 mm")
     with pytest.raises(ProjectError, match="inputs.toml"):  # stale: refuses to sign
         sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
@@ -126,9 +128,29 @@ def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(p
     assert "VOID" in title
     assert f"inputs changed: {INPUT} (0.003 m -> 0.0032 m)" in title
     assert "results changed:" in title
-    data = read_embedded(html)
-    assert data["status"] == "preliminary"
+    assert read_embedded(html)["status"] == "preliminary"
     assert verify_package(package_of(project)).ok  # the package is honest about the void sign-off
+
+    # a further change issued as revision B: both revisions kept, compared, and in the history
+    # (revision A's record was refreshed by the export above: it is not approved)
+    set_meta(project, "calc", "revision", "B")
+    set_input(project, INPUT, "3.5 mm")
+    run_project(project, progress=None)
+    export_project(project)
+    revs = sorted(p.name for p in (project / "out" / "revisions").glob("*.json"))
+    assert revs == ["A.json", "B.json"]
+    comp = compare_revisions(project, a="A", b="B")
+    assert any(s.startswith(INPUT) for s in comp.changes.inputs)
+    assert comp.changes.results and "revision (A -> B)" in comp.changes.project
+    assert main(["compare", str(project), "--from", "A", "--to", "B"]) == 0
+    out = capsys.readouterr().out
+    assert f"input    {INPUT} (0.0032 m -> 0.0035 m)" in out
+    assert "result   " in out
+    history = package_of(project).read_text(encoding="utf-8").split('id="revisions"', 1)[1].split("</section>")[0]
+    assert re.search(r"<td>A</td>.*<td>preliminary</td>.*<td>B</td>", history, re.DOTALL)
+    assert INPUT in history
+    with pytest.raises(LatticeCalcError, match="no exported record"):
+        compare_revisions(project, a="A", b="Z")
 
 
 def test_records_are_append_only(project):
@@ -180,29 +202,6 @@ def test_interrupted_export_leaves_the_previous_package_intact(project, monkeypa
     assert verify_package(pkg).ok
 
 
-def test_revisions_are_kept_and_compared(project, capsys):
-    export_project(project)
-    set_meta(project, "calc", "revision", "B")
-    set_input(project, INPUT, "3.5 mm")
-    run_project(project, progress=None)
-    export_project(project)
-    revs = sorted(p.name for p in (project / "out" / "revisions").glob("*.json"))
-    assert revs == ["A.json", "B.json"]
-    comp = compare_revisions(project, a="A", b="B")
-    assert any(s.startswith(INPUT) for s in comp.changes.inputs)
-    assert comp.changes.results and "revision (A -> B)" in comp.changes.project
-    assert main(["compare", str(project), "--from", "A", "--to", "B"]) == 0
-    out = capsys.readouterr().out
-    assert f"input    {INPUT} (0.003 m -> 0.0035 m)" in out
-    assert "result   " in out
-    html = package_of(project).read_text(encoding="utf-8")
-    history = html.split('id="revisions"', 1)[1].split("</section>", 1)[0]
-    assert re.search(r"<td>A</td>.*<td>B</td>", history, re.DOTALL)
-    assert INPUT in history
-    with pytest.raises(LatticeCalcError, match="no exported record"):
-        compare_revisions(project, a="A", b="Z")
-
-
 HOSTILE = '<script>alert("x")</script><img src=x onerror=alert(1)>"\'&</td></table>'
 
 
@@ -223,3 +222,18 @@ def test_hostile_user_strings_are_escaped_in_the_package(project):
     assert html.count("<script") == 1  # only the embedded JSON data element
     assert "&lt;script&gt;alert(&quot;x&quot;)&lt;/script&gt;" in html
     assert verify_package(package_of(project)).ok
+
+
+def test_an_approved_revision_record_is_frozen(project):
+    from latticecalc.project.signoff.revisions import record_export, revisions_dir
+
+    proj = open_project(project)
+    data = {"project": {"revision": "A"}, "generated": "2026-01-01T00:00:00+00:00"}
+    approved = {"revision": "A", "first_exported": data["generated"], "exported": data["generated"],
+                "fingerprint": "f" * 64, "status": "approved", "content": {}, "package": data}
+    assert record_export(proj, approved)
+    path = revisions_dir(proj) / "A.json"
+    frozen = path.read_bytes()
+    assert not record_export(proj, approved | {"fingerprint": "0" * 64, "status": "preliminary"})
+    assert path.read_bytes() == frozen
+    assert record_export(proj, approved | {"exported": "2026-01-02T00:00:00+00:00"})  # same content: refreshed

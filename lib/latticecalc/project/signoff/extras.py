@@ -13,7 +13,7 @@ from latticecalc.project.signoff.revisions import history_html, load_revisions, 
 from latticecalc.project.signoff.verify import EMBED_FORMAT, SEAL_PLACEHOLDER
 
 #: Longest "what changed" text shown in the title block (the sign-off table shows all of it).
-TITLE_REASON_CHARS = 240
+TITLE_REASON_CHARS = 160
 
 
 def _when(time: str) -> str:
@@ -52,7 +52,7 @@ def _signature_block(states: list[SignoffState]) -> str:
                     f"<td>{escape(str(r.get('role', '')))}</td><td>{escape(str(r.get('name', '')))}</td>"
                     f"<td>{escape(_when(str(r.get('time', ''))))}</td>"
                     f'<td class="lc-fingerprint">{escape(str(r.get("fingerprint", ""))[:16])}…</td>'
-                    f"<td>{escape(sig.get('key_id', '')) or 'no key'}</td><td>{verdict}</td>"
+                    f'<td class="lc-fingerprint">{escape(sig.get("key_id", "")) or "no key"}</td><td>{verdict}</td>'
                     f"<td>{escape(str(r.get('comment', ''))) or '—'}</td></tr>")
     return ('<section id="signoffs"><h2>Sign-off record</h2>'
             '<table class="lc-signoffs"><thead><tr><th>#</th><th>Role</th><th>Name</th><th>Date</th>'

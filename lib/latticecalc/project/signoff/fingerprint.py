@@ -126,13 +126,18 @@ class ContentChanges:
         """True when nothing changed."""
         return not (self.inputs or self.results or self.notebooks or self.project or self.kit_version)
 
-    def describe(self) -> str:
-        """One line naming what changed, e.g. ``inputs changed: cell.width (0.12 m -> 0.1 m)``."""
+    def describe(self, max_items: int | None = None) -> str:
+        """One line naming what changed, e.g. ``inputs changed: cell.width (0.12 m -> 0.1 m)``.
+
+        ``max_items`` shortens each list to that many names plus "and N more".
+        """
         parts = []
         for label, items in (("inputs changed", self.inputs), ("results changed", self.results),
                              ("notebook code changed", self.notebooks), ("project details changed", self.project)):
             if items:
-                parts.append(f"{label}: " + ", ".join(items))
+                shown = items if max_items is None or len(items) <= max_items else [
+                    *items[:max_items], f"and {len(items) - max_items} more"]
+                parts.append(f"{label}: " + ", ".join(shown))
         if self.kit_version:
             parts.append(f"kit version changed: {self.kit_version}")
         return "; ".join(parts) if parts else "no change"

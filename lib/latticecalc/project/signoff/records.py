@@ -83,11 +83,11 @@ class SignoffState:
 
     @property
     def reason(self) -> str:
-        """Why it is void or invalid (empty when valid)."""
+        """Why it is void or invalid (empty when valid); each list of changes cut at 8 names."""
         if self.signature_problem:
             return f"signature invalid: {self.signature_problem}"
         if self.void:
-            return self.changes.describe() if self.changes else "fingerprint differs"
+            return self.changes.describe(max_items=8) if self.changes else "fingerprint differs"
         return ""
 
 

@@ -70,7 +70,8 @@ class Comparison:
     def lines(self) -> list[str]:
         """Human-readable lines, one per changed item."""
         c = self.changes
-        out = [f"Changes from revision {self.a} to revision {self.b}:"]
+        out = [f"Changes from revision {self.a} to revision {self.b}: {len(c.inputs)} input(s), "
+               f"{len(c.results)} key result(s), {len(c.notebooks)} notebook(s), {len(c.project)} project field(s)"]
         if c.empty:
             return out + ["  no inputs or key results changed"]
         for label, items in (("input", c.inputs), ("result", c.results), ("notebook", c.notebooks),
@@ -105,7 +106,7 @@ def history_html(stored: list[dict], current: dict, *, frozen: bool) -> str:
             what = "first issue"
         else:
             ch = diff_content(prev["content"], r["content"])
-            what = "no change to inputs or results" if ch.empty else ch.describe()
+            what = "no change to inputs or results" if ch.empty else ch.describe(max_items=6)
         html.append(f"<tr><td>{escape(r['revision'])}</td><td>{escape(r.get('first_exported', '')[:10])}</td>"
                     f"<td>{escape(r.get('exported', '')[:19])}</td><td>{escape(r.get('status', ''))}</td>"
                     f'<td class="lc-fingerprint">{escape(r.get("fingerprint", "")[:16])}</td>'

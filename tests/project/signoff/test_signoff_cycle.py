@@ -190,13 +190,18 @@ def test_interrupted_export_leaves_the_previous_package_intact(project, monkeypa
             self.fh.write(data[: len(data) // 2])
             raise OSError("disk full (simulated)")
 
-    def failing_fdopen(fd, mode="r", *a, **k):
-        return HalfWriter(real_fdopen(fd, mode, *a, **k))
+    calls = []
+
+    def failing_fdopen(fd, mode="r", *a, **k):  # export writes the JSON, then the HTML: fail the HTML
+        calls.append(fd)
+        fh = real_fdopen(fd, mode, *a, **k)
+        return HalfWriter(fh) if len(calls) == 2 else fh
 
     monkeypatch.setattr(atomic.os, "fdopen", failing_fdopen)
     with pytest.raises(OSError, match="simulated"):
         export_project(project)
     monkeypatch.undo()
+    assert len(calls) == 2
     assert pkg.read_bytes() == before
     assert not list((project / "out").glob(".*.part"))
     assert verify_package(pkg).ok

@@ -155,3 +155,20 @@ def test_embedded_data_cannot_break_out_of_its_script_element(project):
     script = html.split('id="lc-package-data">', 1)[1].split("</script>", 1)[0]
     assert "<" not in script and ">" not in script
     json.loads(script)
+
+
+def test_title_block_shows_the_current_signoff_of_a_role_before_a_void_later_one():
+    from latticecalc.project.signoff.extras import _sign_rows
+    from latticecalc.project.signoff.records import judge
+
+    content = {"inputs": {"a": {"value": 1.0, "unit": "m"}}, "results": []}
+    other = {"inputs": {"a": {"value": 2.0, "unit": "m"}}, "results": []}
+    fp, fp_other = fingerprint_of(content), fingerprint_of(other)
+    records = [{"seq": 1, "role": "checked", "name": "First", "time": "2026-01-01T00:00:00+00:00",
+                "fingerprint": fp, "content": content},
+               {"seq": 2, "role": "checked", "name": "Second", "time": "2026-01-02T00:00:00+00:00",
+                "fingerprint": fp_other, "content": other}]
+    [row] = _sign_rows(judge(records, fp, content))
+    assert (row.name, row.void) == ("First", False)
+    [row] = _sign_rows(judge(records[:1], fp_other, other))
+    assert row.void and row.void_reason == "inputs changed: a (1 m -> 2 m)"

@@ -21,9 +21,11 @@ def _when(time: str) -> str:
 
 
 def _sign_rows(states: list[SignoffState]) -> list[SignRow]:
-    latest: dict[str, SignoffState] = {}
+    latest: dict[str, SignoffState] = {}  # per role: the latest valid sign-off, else the latest one
     for s in states:
-        latest[s.record.get("role", "")] = s
+        role = s.record.get("role", "")
+        if s.valid or role not in latest or not latest[role].valid:
+            latest[role] = s
     rows = []
     for role in ROLES:
         s = latest.get(role)

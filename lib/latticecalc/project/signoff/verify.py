@@ -94,10 +94,11 @@ def _embed(value) -> str:
 def seal_package(html: str) -> str:
     """Put the document hash and block texts in place of the seal placeholder of the embedded data."""
     token = json.dumps(SEAL_PLACEHOLDER)
-    if token not in html:
+    m = _SCRIPT.search(html)
+    if m is None or token not in m.group(2):
         return html
     seal = {"document_sha256": document_hash(html), "blocks": block_texts(html)}
-    return html.replace(token, _embed(seal), 1)
+    return html[:m.start(2)] + m.group(2).replace(token, _embed(seal), 1) + html[m.end(2):]
 
 
 @dataclass(kw_only=True)

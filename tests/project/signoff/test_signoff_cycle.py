@@ -242,3 +242,20 @@ def test_an_approved_revision_record_is_frozen(project):
     assert not record_export(proj, approved | {"fingerprint": "0" * 64, "status": "preliminary"})
     assert path.read_bytes() == frozen
     assert record_export(proj, approved | {"exported": "2026-01-02T00:00:00+00:00"})  # same content: refreshed
+
+
+def test_a_removed_signoff_record_breaks_the_chain(project):
+    sign_project(project, role="prepared", name=PREPARER)
+    sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+    path = project / "signoff" / "signatures.jsonl"
+    lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
+    path.write_text(lines[0] + lines[2], encoding="utf-8")  # someone deletes the 'checked' record
+    with pytest.raises(ProjectError, match="chain of sign-offs is broken"):
+        sign_project(project, role="prepared", name=PREPARER)
+    export_project(project)
+    html = package_of(project).read_text(encoding="utf-8")
+    assert read_embedded(html)["status"] == "preliminary"
+    report = verify_package(package_of(project))
+    assert any("sign-off 3 (approved, Alex Approver): the record before it is missing" in p
+               for p in report.problems), report.text()

@@ -7,6 +7,7 @@ from html import escape
 from latticecalc.project.export.html import PackageExtras, SignRow
 from latticecalc.project.project import Project
 from latticecalc.project.signoff.fingerprint import fingerprint_content, fingerprint_of
+from latticecalc.project.signoff.keys import chain_problems
 from latticecalc.project.signoff.records import ROLES, SignoffState, judge, load_records, status_of
 from latticecalc.project.signoff.review import ReviewComment, load_comments
 from latticecalc.project.signoff.revisions import history_html, load_revisions, record_export, revision_record
@@ -41,6 +42,8 @@ def _sign_rows(states: list[SignoffState]) -> list[SignRow]:
 
 
 def _signature_block(states: list[SignoffState]) -> str:
+    broken = chain_problems([s.record for s in states])
+    warning = "".join(f'<p class="lc-verdict-notok"><strong>{escape(p)}</strong></p>' for p in broken)
     if not states:
         return ('<section id="signoffs"><h2>Sign-off record</h2><p>Not signed off: this package is '
                 "preliminary.</p></section>")
@@ -56,8 +59,8 @@ def _signature_block(states: list[SignoffState]) -> str:
                     f'<td class="lc-fingerprint">{escape(str(r.get("fingerprint", ""))[:16])}…</td>'
                     f'<td class="lc-fingerprint">{escape(sig.get("key_id", "")) or "no key"}</td><td>{verdict}</td>'
                     f"<td>{escape(str(r.get('comment', ''))) or '—'}</td></tr>")
-    return ('<section id="signoffs"><h2>Sign-off record</h2>'
-            '<table class="lc-signoffs"><thead><tr><th>#</th><th>Role</th><th>Name</th><th>Date</th>'
+    return ('<section id="signoffs"><h2>Sign-off record</h2>' + warning
+            + '<table class="lc-signoffs"><thead><tr><th>#</th><th>Role</th><th>Name</th><th>Date</th>'
             "<th>Fingerprint</th><th>Key</th><th>State</th><th>Comment</th></tr></thead><tbody>"
             + "".join(rows) + "</tbody></table>"
             "<p>A sign-off is current while the package's fingerprint equals the one it signed; "

@@ -27,7 +27,10 @@ PRIVATE_SUFFIX = ".key"
 PUBLIC_SUFFIX = ".pub"
 ALGORITHM = "ed25519"
 #: The fields of a sign-off record a signature covers (the fingerprint binds it to the content).
-SIGNED_FIELDS = ("seq", "role", "name", "time", "fingerprint", "comment", "calc_id", "revision")
+SIGNED_FIELDS = ("seq", "role", "name", "time", "fingerprint", "comment", "calc_id", "revision", "previous")
+#: Fields left out of a record's link hash: the bulky content (bound through the fingerprint) and
+#: what an export adds to the embedded copy.
+UNLINKED_FIELDS = ("content", "state")
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -130,6 +133,24 @@ def signed_message(record: dict) -> bytes:
     return canonical_json({k: record.get(k) for k in SIGNED_FIELDS}).encode("utf-8")
 
 
+def record_link(record: dict) -> str:
+    """SHA-256 of a record's canonical JSON (minus :data:`UNLINKED_FIELDS`); the next record's ``previous``."""
+    body = {k: v for k, v in record.items() if k not in UNLINKED_FIELDS}
+    return hashlib.sha256(canonical_json(body).encode("utf-8")).hexdigest()
+
+
+def chain_problems(records: list[dict]) -> list[str]:
+    """Where the chain of sign-off records is broken (a record removed, reordered or altered)."""
+    problems = []
+    previous = ""
+    for n, rec in enumerate(records, start=1):
+        if rec.get("seq") != n or rec.get("previous", "") != previous:
+            problems.append(f"sign-off {rec.get('seq')} ({rec.get('role')}, {rec.get('name')}): the record "
+                            "before it is missing or was altered (the chain of sign-offs is broken)")
+        previous = record_link(rec)
+    return problems
+
+
 def sign_bytes(private: Ed25519PrivateKey, message: bytes) -> dict:
     """Signature dict for a record: algorithm, public key (base64 raw), key id, signature (base64)."""
     raw = _raw(private.public_key())
@@ -153,5 +174,5 @@ def check_signature(signature: dict, message: bytes) -> str:
     return ""
 
 
-__all__ = ["SIGNED_FIELDS", "KeyPairFiles", "check_signature", "generate_keypair", "key_id", "load_private_key",
-           "load_public_keys", "sign_bytes", "signed_message"]
+__all__ = ["SIGNED_FIELDS", "KeyPairFiles", "chain_problems", "check_signature", "generate_keypair", "key_id",
+           "load_private_key", "load_public_keys", "record_link", "sign_bytes", "signed_message"]

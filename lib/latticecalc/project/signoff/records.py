@@ -3,7 +3,8 @@
 A record holds the role (prepared, checked, approved), the name, the UTC time, the fingerprint
 signed, a comment, the revision, and the fingerprint content itself, so that a later export can
 say exactly what changed when a sign-off no longer matches (it is then VOID). With a key, the
-record also carries an Ed25519 signature of its signed fields (``keys.SIGNED_FIELDS``).
+record also carries an Ed25519 signature of its signed fields (``keys.SIGNED_FIELDS``). Each
+record holds the hash of the one before it (``previous``), so a removed or altered record shows.
 
 Rules ``sign_project`` enforces:
 
@@ -32,7 +33,14 @@ from latticecalc.project.signoff.fingerprint import (
     fingerprint_of,
 )
 from latticecalc.project.signoff.journal import SIGNOFF_DIR, append_line, read_lines
-from latticecalc.project.signoff.keys import check_signature, load_private_key, sign_bytes, signed_message
+from latticecalc.project.signoff.keys import (
+    chain_problems,
+    check_signature,
+    load_private_key,
+    record_link,
+    sign_bytes,
+    signed_message,
+)
 from latticecalc.project.signoff.review import load_comments
 from latticecalc.project.state import EXECUTED_DIR, stale_files
 
@@ -103,7 +111,12 @@ def judge(records: list[dict], fingerprint: str, content: dict) -> list[SignoffS
 
 
 def status_of(states: list[SignoffState]) -> str:
-    """``preliminary``, ``checked`` or ``approved`` from the current, valid sign-offs."""
+    """``preliminary``, ``checked`` or ``approved`` from the current, valid sign-offs.
+
+    A broken record chain (a record removed or altered) leaves the status preliminary.
+    """
+    if chain_problems([s.record for s in states]):
+        return "preliminary"
     roles = {s.record.get("role") for s in states if s.valid}
     if "checked" in roles and "approved" in roles:
         return "approved"
@@ -151,7 +164,12 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     private = load_private_key(key) if key is not None else None
     project = open_project(folder)
     fingerprint, content = current_fingerprint(project)
-    states = judge(load_records(project), fingerprint, content)
+    records = load_records(project)
+    broken = chain_problems(records)
+    if broken:
+        raise ProjectError(broken[0], input_name=str(signatures_path(project)),
+                           hint="Sign-off records are append-only: restore the file from version control")
+    states = judge(records, fingerprint, content)
     current = [s for s in states if s.valid]
     if role == "checked":
         open_ids = [c.id for c in load_comments(project) if c.status == "open"]
@@ -174,7 +192,7 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
               "revision": project.meta.revision, "content": content}
 
     def complete(existing: list[dict], rec: dict) -> dict:
-        rec = rec | {"seq": len(existing) + 1}
+        rec = rec | {"seq": len(existing) + 1, "previous": record_link(existing[-1]) if existing else ""}
         if private is not None:
             rec["signature"] = sign_bytes(private, signed_message(rec))
         return rec

@@ -12,7 +12,8 @@ What is checked, from the HTML file alone:
    with the words that differ;
 4. each sign-off's Ed25519 signature (when it has one) against the public key it carries, and
    with ``keys`` against the trusted public keys in that folder (every current sign-off must
-   then be signed by one of them);
+   then be signed by one of them), and that no record is missing between them (each record
+   carries the hash of the one before);
 5. the status shown agrees with the current, valid sign-offs.
 
 The document hash and fingerprints are plain hashes: without keys they show an accidental or
@@ -31,7 +32,7 @@ from pathlib import Path
 
 from latticecalc.errors import InputError
 from latticecalc.project.signoff.fingerprint import fingerprint_of
-from latticecalc.project.signoff.keys import check_signature, load_public_keys, signed_message
+from latticecalc.project.signoff.keys import chain_problems, check_signature, load_public_keys, signed_message
 
 EMBED_FORMAT = "latticecalc-signoff/1"
 SEAL_PLACEHOLDER = "@@latticecalc-seal@@"
@@ -197,6 +198,8 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
             else:
                 bad.append(f"document: block '{k}': {_word_diff(sealed[k], blocks[k])}")
     valid_roles = set()
+    broken = chain_problems(data.get("signoffs", []))
+    bad.extend(broken)
     for rec in data.get("signoffs", []):
         who = f"sign-off {rec.get('seq')} ({rec.get('role')}, {rec.get('name')})"
         void = rec.get("fingerprint") != stated
@@ -219,6 +222,8 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
             report.notes.append(f"{who}: VOID, it signed fingerprint {str(rec.get('fingerprint'))[:16]}…")
         elif ok:
             valid_roles.add(rec.get("role"))
+    if broken:  # a broken record chain cannot vouch for any sign-off
+        valid_roles = set()
     status = ("approved" if {"checked", "approved"} <= valid_roles else
               "checked" if "checked" in valid_roles else "preliminary")
     if data.get("status") != status or not _has(title, status):

@@ -53,7 +53,8 @@ def _signature_block(states: list[SignoffState]) -> str:
         sig = r.get("signature") or {}
         verdict = ('<strong class="lc-verdict-ok">current</strong>' if s.valid else
                    f'<strong class="lc-verdict-notok">VOID</strong> {escape(s.reason)}')
-        rows.append(f'<tr id="signoff-{int(r.get("seq", 0))}"><td>{int(r.get("seq", 0))}</td>'
+        seq = escape(str(r.get("seq", "")))
+        rows.append(f'<tr id="signoff-{seq}"><td>{seq}</td>'
                     f"<td>{escape(str(r.get('role', '')))}</td><td>{escape(str(r.get('name', '')))}</td>"
                     f"<td>{escape(_when(str(r.get('time', ''))))}</td>"
                     f'<td class="lc-fingerprint">{escape(str(r.get("fingerprint", ""))[:16])}…</td>'

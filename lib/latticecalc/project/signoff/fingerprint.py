@@ -23,7 +23,9 @@ of the *fingerprint content*:
 ``kit_version``
     The latticecalc version that produced the results.
 
-Input values are rounded the same way. The content is embedded in the package beside the
+Input values are rounded the same way. Shown texts carry the 4 significant figures the sheet
+prints: a rerun elsewhere that changes a printed digit voids a sign-off, as it should, since the
+package would then show a different figure. The content is embedded in the package beside the
 fingerprint, so anyone can recompute it from the HTML alone (``latticecalc verify``).
 """
 

@@ -148,7 +148,9 @@ def periodic_frame(cell: Any, *, periodic: str = "xyz") -> PeriodicFrame:
                                  got=f"only the node at {np.round(nodes[i], 6).tolist()} m",
                                  hint="Give every node on a face its image on the opposite face")
     # one strut per periodic family
-    weights = np.asarray(getattr(cell, "weights", np.ones(len(struts))), float)
+    # the cell's shares count copies along all three axes: they apply to the bulk lattice only
+    use_weights = hasattr(cell, "weights") and len(axes) == 3
+    weights = np.asarray(cell.weights, float) if use_weights else np.ones(len(struts))
     fam: dict[tuple, list[int]] = {}
     for s, (i, j) in enumerate(struts):
         mi, mj = master[i], master[j]
@@ -158,8 +160,8 @@ def periodic_frame(cell: Any, *, periodic: str = "xyz") -> PeriodicFrame:
         fam.setdefault(min(k1, k2), []).append(s)
     keep = []
     for members in fam.values():
-        total = weights[members].sum() if hasattr(cell, "weights") else 1.0
-        if hasattr(cell, "weights") and abs(total - 1.0) > 1e-6:
+        total = weights[members].sum() if use_weights else 1.0
+        if use_weights and abs(total - 1.0) > 1e-6:
             s = members[0]
             raise ModelError("the cell is not periodic on its faces: a face strut's copies do not make "
                              "one strut", input_name=f"cell.struts[{s}]",
@@ -287,11 +289,17 @@ def _sparse_hermitian_lowest(K, M, nb: int, *, shift: float):
     return w[:nb], x[:, :nb]
 
 
-def _drop_massless(op: BlochOperator) -> BlochOperator:
-    """Remove reduced DOFs with no mass (joints without struts): they carry nothing."""
-    diag = np.asarray(op.P.T @ np.abs(op.M).sum(axis=1)).ravel() if sp.issparse(op.M) else \
-        op.P.T @ np.abs(op.M).sum(axis=1)
-    keep = np.flatnonzero(np.asarray(diag).ravel() > 0)
+DOF_NAMES = ("ux", "uy", "uz", "rx", "ry", "rz")
+
+
+def _drop(op: BlochOperator, restrained: np.ndarray | None = None) -> BlochOperator:
+    """Remove reduced DOFs with no mass (joints without struts) and the ``restrained`` ones."""
+    rowsum = np.asarray(abs(op.M).sum(axis=1)).ravel()
+    diag = np.asarray(op.P.T @ rowsum).ravel()
+    ok = diag > 0
+    if restrained is not None and len(restrained):
+        ok[np.asarray(restrained, int)] = False
+    keep = np.flatnonzero(ok)
     if keep.size == op.n_reduced:
         return op
     new_index = -np.ones(op.n_reduced, int)
@@ -305,6 +313,26 @@ def _drop_massless(op: BlochOperator) -> BlochOperator:
 
     return BlochOperator(K=sub(op.K), M=sub(op.M), dof_master=new_index[op.dof_master[rows]],
                          dof_offset=op.dof_offset[rows], n_reduced=keep.size, M_part=sub(op.M_part))
+
+
+def _restrained_dofs(pf: PeriodicFrame, supports: Mapping[int, Sequence[str]] | None) -> np.ndarray:
+    """Reduced DOF indices (before dropping) of the supported joint DOFs."""
+    if not supports:
+        return np.zeros(0, int)
+    masters = np.unique(pf.master)
+    idx = -np.ones(len(pf.nodes), int)
+    idx[masters] = np.arange(masters.size)
+    out = []
+    for j, names in supports.items():
+        if not (isinstance(j, (int, np.integer)) and 0 <= j < len(pf.nodes)):
+            raise InputError("a supported node does not exist", input_name="supports",
+                             expected=f"node indices 0..{len(pf.nodes) - 1}", got=repr(j))
+        for name in ([names] if isinstance(names, str) else names):
+            if name not in DOF_NAMES:
+                raise InputError("unknown degree of freedom", input_name=f"supports[{j}]",
+                                 expected=", ".join(DOF_NAMES), got=repr(name))
+            out.append(6 * idx[pf.master[j]] + DOF_NAMES.index(name))
+    return np.array(sorted(set(out)), int)
 
 
 def _joint_maps(pf: PeriodicFrame, extra: int):
@@ -321,7 +349,8 @@ def _joint_maps(pf: PeriodicFrame, extra: int):
 
 
 def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int,
-                     strut_modes: int, theory: str, part: str | None = "lattice") -> BlochOperator:
+                     strut_modes: int, theory: str, part: str | None = "lattice",
+                     supports: Mapping[int, Sequence[str]] | None = None) -> BlochOperator:
     """Bloch operator of the strut-reduced model (joints + ``strut_modes`` modes per strut), dense."""
     red = fe.reduce_struts(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, sections=sections,
                            n_elements=n_elements, n_modes=strut_modes, theory=theory)
@@ -329,19 +358,20 @@ def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n
     Mp = fe.reduced_matrices(red, n_joints=len(pf.nodes), group=part)[1] if part in pf.groups else None
     extra = K.shape[0] - 6 * len(pf.nodes)
     dm, do, nr = _joint_maps(pf, extra)
-    return _drop_massless(BlochOperator(K=K, M=M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp))
+    return _drop(BlochOperator(K=K, M=M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp),
+                 _restrained_dofs(pf, supports))
 
 
 def full_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int, theory: str,
-                  part: str | None = "lattice") -> BlochOperator:
+                  part: str | None = "lattice", supports: Mapping[int, Sequence[str]] | None = None) -> BlochOperator:
     """Bloch operator of the full (unreduced) frame mesh, sparse."""
     mesh = fe.mesh_frame(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, n_elements=n_elements)
     asm = fe.assemble(mesh, sections, theory=theory)
     extra = mesh.n_dofs - 6 * len(pf.nodes)
     dm, do, nr = _joint_maps(pf, extra)
     Mp = asm.M_by_group.get(part) if part else None
-    return _drop_massless(BlochOperator(K=asm.K, M=asm.M, dof_master=dm, dof_offset=do, n_reduced=nr,
-                                        M_part=Mp))
+    return _drop(BlochOperator(K=asm.K, M=asm.M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp),
+                 _restrained_dofs(pf, supports))
 
 
 # --------------------------------------------------------------------------------------------
@@ -575,7 +605,8 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                path: str | None = None, points: int = 100, periodic: str = "xyz", strut_modes: int = 8,
                method: str = "reduced", zone: str = "octant", zone_points: int = 4,
                theory: str = "timoshenko", energy_group: str = "lattice", convergence_check: bool = True,
-               cache: Any = None, progress: Any = None, id_prefix: str = "bloch") -> Dispersion:
+               supports: Mapping[int, Sequence[str]] | None = None, cache: Any = None, progress: Any = None,
+               id_prefix: str = "bloch") -> Dispersion:
     """Bloch-wave dispersion of an infinite lattice of ``cell``, its complete gaps and mode types.
 
     Parameters
@@ -611,6 +642,9 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
     energy_group:
         Strut group whose share of the kinetic energy classifies each mode (the soft resonating
         struts, ``"lattice"``).
+    supports:
+        Joint index -> restrained DOFs (``"ux"``, ``"uy"``, ``"uz"``, ``"rx"``, ``"ry"``, ``"rz"``),
+        e.g. a beam on periodic simple supports; None for a free lattice.
     convergence_check:
         Also solve with half the elements per strut and report the change of the gap edges (or
         of the highest band) on the sheet.
@@ -646,8 +680,10 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
 
     def operator(n_el: int) -> BlochOperator:
         if method == "full":
-            return full_operator(pf, sections, n_elements=n_el, theory=theory, part=energy_group)
-        return reduced_operator(pf, sections, n_elements=n_el, strut_modes=sm, theory=theory, part=energy_group)
+            return full_operator(pf, sections, n_elements=n_el, theory=theory, part=energy_group,
+                                 supports=supports)
+        return reduced_operator(pf, sections, n_elements=n_el, strut_modes=sm, theory=theory, part=energy_group,
+                                supports=supports)
 
     def compute() -> dict[str, np.ndarray]:
         op = operator(n)
@@ -662,7 +698,8 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         return out
 
     key = fingerprint("dispersion-v1", _cell_key(cell, materials), n, nb, path, pts, periodic, sm, method, zone,
-                      zone_points, theory, energy_group, convergence_check)
+                      zone_points, theory, energy_group, convergence_check,
+                      {str(k): list(v) if not isinstance(v, str) else v for k, v in (supports or {}).items()})
     data = cached_arrays(cache, key, compute)
     f, e, fz = data["f"], data["e"], data["fz"]
     both = np.vstack([f, fz]) if len(fz) else f

@@ -1,0 +1,143 @@
+"""Bloch-wave dispersion: symmetry properties, zero modes, reduced against full, caching, bad input."""
+
+from __future__ import annotations
+
+import math
+from types import SimpleNamespace
+
+import numpy as np
+import pytest
+from tests.helpers import assert_quantity_close
+
+from latticecalc import Q_
+from latticecalc.errors import InputError, ModelError
+from latticecalc.physics import bloch
+from latticecalc.physics import frame_fe as fe
+from latticecalc.physics.cells import build_cell
+
+RTOL_HERMITIAN = 1e-12
+RTOL_SYMMETRY = 1e-8         # ω(k) = ω(−k): same matrices conjugated, round-off only
+RTOL_REDUCED = 5e-3          # issue 5: band edges within 0.5 % of the full model
+RTOL_LONG_WAVE = 1e-2        # long-wave slope against the homogenised speed, 1 %
+
+TPU = SimpleNamespace(youngs_modulus=Q_(20, "MPa"), poissons_ratio=0.48, density=Q_(1200, "kg/m^3"),
+                      loss_factor=0.1)
+PLA = SimpleNamespace(youngs_modulus=Q_(3.3, "GPa"), poissons_ratio=0.36, density=Q_(1240, "kg/m^3"),
+                      loss_factor=0.03)
+MATS = {"lattice": TPU, "frame": PLA}
+
+
+@pytest.fixture(scope="module")
+def framed_octet():
+    return build_cell("octet", cell_width=Q_(40, "mm"), strut_diameter=Q_(2.5, "mm"), frame_diameter=Q_(6, "mm"))
+
+
+@pytest.fixture(scope="module")
+def operators(framed_octet):
+    pf = bloch.periodic_frame(framed_octet)
+    sec = fe.sections_for(framed_octet, MATS)
+    red = bloch.reduced_operator(pf, sec, n_elements=4, strut_modes=8, theory="timoshenko")
+    full = bloch.full_operator(pf, sec, n_elements=4, theory="timoshenko")
+    return red, full
+
+
+def test_one_strut_per_periodic_family(framed_octet):
+    # octet: 12 face + 12 interior struts per cell (Deshpande, Fleck & Ashby 2001); frame: 3 edges
+    pf = bloch.periodic_frame(framed_octet)
+    groups = np.array(pf.groups)
+    assert (groups == "lattice").sum() == 24
+    assert (groups == "frame").sum() == 3
+
+
+def test_bloch_matrices_are_hermitian(operators):
+    red, _ = operators
+    k = np.array([31.0, -57.0, 12.0])
+    K, M = red.matrices(k)
+    for A in (K, M):
+        np.testing.assert_allclose(A, A.conj().T, rtol=0, atol=RTOL_HERMITIAN * np.abs(A).max())
+    assert np.abs(K.imag).max() > 0      # the phases really enter
+
+
+def test_frequencies_even_in_k_and_periodic_in_the_reciprocal_lattice(operators, framed_octet):
+    red, _ = operators
+    k = np.array([31.0, -57.0, 12.0])
+    w_plus = red.solve(k, 12)
+    w_minus = red.solve(-k, 12)
+    np.testing.assert_allclose(w_minus, w_plus, rtol=RTOL_SYMMETRY)
+    a = framed_octet.cell_width.to("m").magnitude
+    w_shift = red.solve(k + np.array([2 * math.pi / a, 0, 0]), 12)
+    np.testing.assert_allclose(w_shift, w_plus, rtol=RTOL_SYMMETRY)
+
+
+def test_three_zero_modes_at_gamma(operators):
+    # Setyawan & Curtarolo (2010) / any 3D lattice: three acoustic branches start at zero at Γ
+    red, _ = operators
+    w2 = red.solve(np.zeros(3), 6)
+    assert np.all(w2[:3] < 1e-8 * w2[3])
+    assert w2[3] > 0
+
+
+def test_reduced_model_matches_full_model(operators):
+    # Krattiger & Hussein (2014): Bloch mode synthesis converges to the full model
+    red, full = operators
+    for k in (np.array([0.0, 20.0, 0.0]), np.array([40.0, 40.0, 40.0])):
+        f_red = np.sqrt(red.solve(k, 30))
+        f_full = np.sqrt(full.solve(k, 30))
+        np.testing.assert_allclose(f_red[3:], f_full[3:], rtol=RTOL_REDUCED)
+
+
+def test_long_wave_slope_of_simple_cubic_matches_homogenised_speed():
+    # simple cubic frame, wave along a strut axis: the longitudinal branch is carried by the struts
+    # parallel to k (3 struts of area A per cell of face a²), c = sqrt(C11/ρ*) = sqrt(E/(3ρ)),
+    # derived from the rule of mixtures for aligned struts (Gibson & Ashby, Cellular Solids,
+    # 2nd ed. (1997), ch. 5) [derived]
+    cell = build_cell("simple-cubic", cell_width=Q_(40, "mm"), strut_diameter=Q_(4, "mm"))
+    r = bloch.dispersion(cell, materials={"lattice": PLA}, n_elements=4, n_bands=6, path="G-X", points=40,
+                         zone_points=0, convergence_check=False)
+    k = r["k"].magnitude[1]
+    f = r["frequencies"].magnitude[1]
+    c_fe = 2 * math.pi * f[2] / k        # third branch: longitudinal (two bending-dominated below)
+    c_hom = math.sqrt(3.3e9 / (3 * 1240))
+    assert_quantity_close(Q_(c_fe, "m/s"), Q_(c_hom, "m/s"), rtol=RTOL_LONG_WAVE)
+
+
+def test_dispersion_interface_and_cache(framed_octet, tmp_path):
+    kwargs = dict(materials=MATS, n_elements=2, n_bands=8, points=12, zone_points=2, convergence_check=False)
+    r1 = bloch.dispersion(framed_octet, cache=tmp_path, **kwargs)
+    assert r1["frequencies"].shape == (len(r1["k"]), 8)
+    assert r1["frequencies"].units == Q_(1, "Hz").units
+    assert len(list(tmp_path.glob("*.npz"))) == 1
+    r2 = bloch.dispersion(framed_octet, cache=tmp_path, **kwargs)
+    np.testing.assert_array_equal(r2["frequencies"].magnitude, r1["frequencies"].magnitude)
+    for g in r1["gaps"]:
+        assert g["high"] > g["low"]
+    assert r1.tick_labels[0] == "Γ" and "M|R" not in r1.tick_labels[-1]
+
+
+def test_path_coordinates():
+    wp = bloch.wave_path("G-X-M-G-R-X|M-R", points=100, axes=(0, 1, 2), periods=np.full(3, 2.0))
+    # Setyawan & Curtarolo (2010): X = (0, π/a, 0), M = (π/a, π/a, 0), R = (π/a, π/a, π/a)
+    q = math.pi / 2.0
+    legs = [q, q, q * math.sqrt(2), q * math.sqrt(3), q * math.sqrt(2), q]
+    np.testing.assert_allclose(np.diff(wp.ticks), legs, rtol=1e-12)
+    assert wp.tick_labels == ("Γ", "X", "M", "Γ", "R", "X|M", "R")
+    np.testing.assert_allclose(wp.k[-1], [q, q, q], rtol=1e-12)
+
+
+def test_not_periodic_cell_is_rejected():
+    cell = SimpleNamespace(nodes=Q_(np.array([[0.0, 0, 0], [1, 0, 0], [0, 1, 0], [0.5, 0.5, 1.0]]), "m"),
+                           struts=np.array([[0, 1], [0, 2], [0, 3]]), groups=("lattice",) * 3,
+                           diameters={"lattice": Q_(0.05, "m")})
+    with pytest.raises(ModelError, match="not periodic"):
+        bloch.dispersion(cell, materials={"lattice": PLA}, n_bands=4, points=4)
+
+
+def test_bad_inputs(framed_octet):
+    with pytest.raises(InputError, match="path"):
+        bloch.dispersion(framed_octet, materials=MATS, path="G-Q", points=10)
+    with pytest.raises(InputError, match="n_elements"):
+        bloch.dispersion(framed_octet, materials=MATS, n_elements=0)
+    with pytest.raises(InputError, match="periodic"):
+        bloch.dispersion(framed_octet, materials=MATS, periodic="xw")
+    with pytest.raises(InputError, match="n_bands"):
+        bloch.dispersion(framed_octet, materials=MATS, n_bands=0)

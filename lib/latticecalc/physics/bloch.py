@@ -249,9 +249,10 @@ class BlochOperator:
         if sp.issparse(Kk):
             w2, x = _sparse_hermitian_lowest(Kk, Mk, nb, shift=self._shift())
         else:
-            w2, x = sla.eigh(Kk, Mk, subset_by_index=[0, nb - 1], driver="gvx"
-                             if nb < self.n_reduced // 3 else "gvd")
-            if x.shape[1] > nb:
+            if nb < self.n_reduced // 3:
+                w2, x = sla.eigh(Kk, Mk, subset_by_index=[0, nb - 1], driver="gvx")
+            else:
+                w2, x = sla.eigh(Kk, Mk, driver="gvd")
                 w2, x = w2[:nb], x[:, :nb]
         w2 = np.clip(np.real(w2), 0.0, None)
         return (w2, x) if vectors else w2

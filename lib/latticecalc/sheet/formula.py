@@ -104,7 +104,9 @@ def _unit_latex(unit: pint.Unit) -> str:
     text = f"{unit:~P}".replace(" ", "")
     if not text:
         return ""
-    text = text.replace("µ", r"\mu{}").replace("·", r"\cdot{}")
+    if text == "%":
+        return r"\,\%"
+    text = text.replace("µ", r"\mu{}").replace("·", r"\cdot{}").replace("%", "pct")
     return r"\,\text{" + text + "}"
 
 

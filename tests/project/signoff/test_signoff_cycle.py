@@ -173,6 +173,7 @@ def test_failing_or_never_run_project_cannot_be_signed(project):
 def test_interrupted_export_leaves_the_previous_package_intact(project, monkeypatch):
     pkg = package_of(project)
     before = pkg.read_bytes()
+    json_before = pkg.with_suffix(".json").read_bytes()
     sign_project(project, role="prepared", name=PREPARER)  # so the new package would differ
     real_fdopen = atomic.os.fdopen
 
@@ -192,7 +193,7 @@ def test_interrupted_export_leaves_the_previous_package_intact(project, monkeypa
 
     calls = []
 
-    def failing_fdopen(fd, mode="r", *a, **k):  # export writes the JSON, then the HTML: fail the HTML
+    def failing_fdopen(fd, mode="r", *a, **k):  # export stages the HTML, then the JSON: fail the second
         calls.append(fd)
         fh = real_fdopen(fd, mode, *a, **k)
         return HalfWriter(fh) if len(calls) == 2 else fh
@@ -203,6 +204,7 @@ def test_interrupted_export_leaves_the_previous_package_intact(project, monkeypa
     monkeypatch.undo()
     assert len(calls) == 2
     assert pkg.read_bytes() == before
+    assert pkg.with_suffix(".json").read_bytes() == json_before
     assert not list((project / "out").glob(".*.part"))
     assert verify_package(pkg).ok
 

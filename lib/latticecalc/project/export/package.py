@@ -9,7 +9,7 @@ from pathlib import Path
 
 from latticecalc import __version__
 from latticecalc.errors import ProjectError
-from latticecalc.project.atomic import write_text_atomic
+from latticecalc.project.atomic import write_many_atomic
 from latticecalc.project.export.collect import SheetDocument, collect
 from latticecalc.project.export.html import PackageExtras, render_package
 from latticecalc.project.project import Project, open_project
@@ -167,8 +167,7 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
     json_path = project.out / f"{stem}.json"
     text = json.dumps(data, indent=2, ensure_ascii=False)
     # Render everything first; then two atomic replaces: a failure leaves the old package intact.
-    write_text_atomic(json_path, text)
-    write_text_atomic(html_path, html)
+    write_many_atomic({html_path: html, json_path: text})
     _after_export(project, data, doc)
     pdf_path = None
     if pdf:

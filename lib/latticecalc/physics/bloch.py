@@ -691,14 +691,14 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         f, e = _bands_on(op, wp.k, nb, progress=progress, desc="dispersion")
         fz = _bands_on(op, kz, nb, progress=progress, desc="zone")[0] if len(kz) else np.zeros((0, nb))
         out = {"f": f, "e": e, "fz": fz, "n_reduced": np.array(op.n_reduced),
-               "n_full": np.array(len(op.dof_master))}
+               "n_full": np.array(6 * (len(pf.nodes) + len(pf.struts) * (n - 1)))}
         if convergence_check and n > 1:
             op2 = operator(max(1, n // 2))
             out["f_coarse"] = _bands_on(op2, wp.k, nb, progress=progress, desc="mesh check")[0]
             out["fz_coarse"] = _bands_on(op2, kz, nb, progress=None, desc="")[0] if len(kz) else np.zeros((0, nb))
         return out
 
-    key = fingerprint("dispersion-v1", _cell_key(cell, materials), n, nb, path, pts, periodic, sm, method, zone,
+    key = fingerprint("dispersion-v2", _cell_key(cell, materials), n, nb, path, pts, periodic, sm, method, zone,
                       zone_points, theory, energy_group, convergence_check,
                       {str(k): list(v) if not isinstance(v, str) else v for k, v in (supports or {}).items()})
     data = cached_arrays(cache, key, compute)

@@ -596,8 +596,8 @@ def _check_count(value: Any, *, name: str, minimum: int) -> int:
 
 
 def _cell_key(cell: Any, materials: Mapping[str, Any]) -> tuple:
-    mats = {g: {a: getattr(m, a, None) for a in ("youngs_modulus", "poissons_ratio", "density", "loss_factor")}
-            for g, m in materials.items()}
+    props = ("youngs_modulus", "poissons_ratio", "density", "loss_factor", "dynamic_to_static", "long_term_factor")
+    mats = {g: {a: getattr(m, a, None) for a in props} for g, m in materials.items()}
     return (np.asarray(cell.nodes.to("m").magnitude), np.asarray(cell.struts), list(map(str, cell.groups)),
             dict(cell.diameters), np.asarray(getattr(cell, "weights", [])), mats)
 

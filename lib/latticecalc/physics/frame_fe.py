@@ -104,7 +104,24 @@ def _material_value(material: Any, attr: str, *, group: str, expected: str, unit
     return float(q.to(unit).magnitude)
 
 
-def sections_for(cell: Any, materials: Mapping[str, Any]) -> dict[str, Section]:
+MODULI = ("dynamic", "static", "long-term")
+
+
+def _modulus_of(material: Any, modulus: str, group: str):
+    if modulus not in MODULI:
+        raise InputError("unknown modulus choice", input_name="modulus", expected=", ".join(MODULI),
+                         got=repr(modulus))
+    if modulus == "dynamic" and callable(getattr(material, "dynamic_modulus", None)):
+        return material.dynamic_modulus()
+    if modulus == "long-term" and callable(getattr(material, "long_term_modulus", None)):
+        return material.long_term_modulus()
+    if not hasattr(material, "youngs_modulus"):
+        raise InputError("material is missing a property", input_name=f"materials[{group!r}]",
+                         expected="an object with .youngs_modulus (pressure)", got=type(material).__name__)
+    return material.youngs_modulus
+
+
+def sections_for(cell: Any, materials: Mapping[str, Any], *, modulus: str = "dynamic") -> dict[str, Section]:
     """Section of every strut group of ``cell``, from ``cell.diameters`` and ``materials``.
 
     Parameters
@@ -115,6 +132,9 @@ def sections_for(cell: Any, materials: Mapping[str, Any]) -> dict[str, Section]:
     materials:
         Mapping of group name to a material with ``youngs_modulus`` [pressure],
         ``poissons_ratio`` [-], ``density`` [density] and optionally ``loss_factor`` [-].
+    modulus:
+        ``"dynamic"`` (the material's ``dynamic_modulus()`` where it has one: vibration),
+        ``"static"`` (``youngs_modulus``) or ``"long-term"`` (``long_term_modulus()``: creep).
     """
     if not isinstance(materials, Mapping):
         raise InputError("materials must map each strut group to a material", input_name="materials",
@@ -131,7 +151,8 @@ def sections_for(cell: Any, materials: Mapping[str, Any]) -> dict[str, Section]:
         m = materials[g]
         d_q = check_positive(check_dimension(cell.diameters[g], name=f"diameters[{g!r}]", expected="length"),
                              name=f"diameters[{g!r}]")
-        E = _material_value(m, "youngs_modulus", group=g, expected="pressure", unit="Pa")
+        E = float(check_dimension(_modulus_of(m, modulus, g), name=f"materials[{g!r}].youngs_modulus",
+                                  expected="pressure").to("Pa").magnitude)
         rho = _material_value(m, "density", group=g, expected="density", unit="kg/m^3")
         nu = float(check_dimension(getattr(m, "poissons_ratio", None),
                                    name=f"materials[{g!r}].poissons_ratio",

@@ -424,7 +424,7 @@ class SelfWeight(CalcResult):
 
 def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny: int = 16,
                            n_elements: int = 2, gravity: Any = G_STANDARD, theory: str = "timoshenko",
-                           id_prefix: str = "selfweight.fe") -> SelfWeight:
+                           modulus: str = "static", id_prefix: str = "selfweight.fe") -> SelfWeight:
     """Settlement of the panel's top under its own weight, base joints fixed (static FE solve).
 
     The load is the consistent one, f = −g M r_z (M the consistent mass, r_z a unit vertical
@@ -444,11 +444,14 @@ def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int =
         Acceleration due to gravity [acceleration].
     theory:
         ``"timoshenko"`` or ``"euler-bernoulli"``.
+    modulus:
+        ``"static"`` (``youngs_modulus``), ``"long-term"`` (creep, for the permanent load) or
+        ``"dynamic"``.
     id_prefix:
         Prefix of the step ids.
     """
     g = check_positive(check_dimension(gravity, name="gravity", expected="acceleration"), name="gravity")
-    sections = fe.sections_for(cell, materials)
+    sections = fe.sections_for(cell, materials, modulus=modulus)
     pan = panel_frame(cell, nx=nx, ny=ny)
     model = fe.build_frame(nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
                            n_elements=n_elements, theory=theory)
@@ -466,7 +469,8 @@ def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int =
                       unit="kg", method="sum of the consistent mass", source=fe.PRZEMIENIECKI_1968),
         quantity_step(id=f"{id_prefix}.top-mean", description="Mean settlement of the top joints under "
                       "self-weight (FE)", value=mean, unit="mm", method=f"{nx} × {ny} cells, static FE, "
-                      f"{n_elements} elements per strut, base joints fixed", source=fe.PRZEMIENIECKI_1968),
+                      f"{n_elements} elements per strut, base joints fixed, {modulus} modulus",
+                      source=fe.PRZEMIENIECKI_1968),
         quantity_step(id=f"{id_prefix}.top-max", description="Largest settlement of a top joint (FE)",
                       value=worst, unit="mm", method="static FE", source=fe.PRZEMIENIECKI_1968),
     )

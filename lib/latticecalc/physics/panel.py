@@ -349,8 +349,8 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
                           source=COMMON_PRACTICE),
         ]
     else:
-        steps.append(quantity_step(id=f"{id_prefix}.band-none", description="Attenuation band",
-                                   value=Q_(0, "Hz"), unit="Hz", method=method, source=COMMON_PRACTICE,
+        steps.append(quantity_step(id=f"{id_prefix}.band-count", description="Attenuation bands found",
+                                   value=Q_(0, ""), method=method, source=COMMON_PRACTICE,
                                    note=f"the level never falls to −{threshold_db:g} dB in the range"))
     gap_mean = None
     if gap is not None:
@@ -389,13 +389,35 @@ class CellCountStudy(CalcResult):
 
 
 def attenuation_vs_cells(cell: Any, *, materials: Mapping[str, Any], band: tuple, heights: Sequence[int] = (4, 8, 16),
-                         nx: int = 4, id_prefix: str = "panel.cells", **kwargs: Any) -> CellCountStudy:
-    """Mean transmissibility (dB) inside ``band`` = (low, high) [frequency] for panels ``heights`` cells high."""
+                         nx: int = 4, n_frequencies: int = 40, id_prefix: str = "panel.cells",
+                         **kwargs: Any) -> CellCountStudy:
+    """Mean transmissibility (dB) inside ``band`` for panels ``heights`` cells high.
+
+    Parameters
+    ----------
+    cell, materials:
+        As for :func:`transmissibility`.
+    band:
+        ``(low, high)`` [frequency]: the band over which the level is averaged (and computed).
+    heights:
+        Panel heights, in cells.
+    nx:
+        Cells across.
+    n_frequencies:
+        Frequencies evenly spaced across the band.
+    id_prefix:
+        Prefix of the step ids.
+    **kwargs:
+        Further arguments of :func:`transmissibility` (not ``f_min``/``f_max``).
+    """
     lo = check_dimension(band[0], name="band[0]", expected="frequency").to("Hz").magnitude
     hi = check_dimension(band[1], name="band[1]", expected="frequency").to("Hz").magnitude
+    kwargs = {k: v for k, v in kwargs.items() if k not in ("f_min", "f_max", "n_frequencies", "gap")}
+    kwargs.setdefault("check_points", 0)
     runs, means, steps = [], [], []
     for ny in heights:
-        r = transmissibility(cell, materials=materials, nx=nx, ny=int(ny), id_prefix=f"{id_prefix}.{ny}", **kwargs)
+        r = transmissibility(cell, materials=materials, nx=nx, ny=int(ny), f_min=Q_(lo, "Hz"), f_max=Q_(hi, "Hz"),
+                             n_frequencies=n_frequencies, id_prefix=f"{id_prefix}.{ny}", **kwargs)
         f = r["frequency"].magnitude
         sel = (f >= lo) & (f <= hi)
         if not sel.any():
@@ -416,7 +438,7 @@ def attenuation_vs_cells(cell: Any, *, materials: Mapping[str, Any], band: tuple
 # --------------------------------------------------------------------------------------------
 @dataclass(frozen=True, kw_only=True)
 class SelfWeight(CalcResult):
-    """Result of :func:`self_weight_deflection`; ``value``: mean vertical deflection of the top (mm)."""
+    """Result of :func:`self_weight_deflection`; ``value``: mean settlement of the top frame joints (mm)."""
 
     max_deflection: Any
     mass: Any
@@ -424,7 +446,8 @@ class SelfWeight(CalcResult):
 
 def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny: int = 16,
                            n_elements: int = 2, gravity: Any = G_STANDARD, theory: str = "timoshenko",
-                           modulus: str = "static", id_prefix: str = "selfweight.fe") -> SelfWeight:
+                           modulus: str = "static", frame_group: str = "frame",
+                           id_prefix: str = "selfweight.fe") -> SelfWeight:
     """Settlement of the panel's top under its own weight, base joints fixed (static FE solve).
 
     The load is the consistent one, f = −g M r_z (M the consistent mass, r_z a unit vertical
@@ -447,6 +470,9 @@ def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int =
     modulus:
         ``"static"`` (``youngs_modulus``), ``"long-term"`` (creep, for the permanent load) or
         ``"dynamic"``.
+    frame_group:
+        Strut group of the stiff frame: the settlement reported is the mean over the top joints
+        on those members (all top joints when there is no frame).
     id_prefix:
         Prefix of the step ids.
     """
@@ -462,16 +488,24 @@ def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int =
     u = fe.static_solve(model, fixed_dofs=fixed, loads=loads)
     top_w = u[6 * pan.top + 2]
     mass = float(rz @ (model.matrices.M @ rz))
-    mean = Q_(-float(top_w.mean()), "m").to("mm")
+    # joints on the stiff load path (frame members) settle as the panel does; lattice-only top
+    # joints (face centres hanging on soft struts) also sag locally, so they are reported apart
+    on_frame = np.zeros(len(pan.nodes), bool)
+    frame_struts = np.array([g == frame_group for g in pan.groups])
+    on_frame[pan.struts[frame_struts].ravel()] = True
+    top_frame = pan.top[on_frame[pan.top]]
+    carrier = top_frame if top_frame.size else pan.top
+    mean = Q_(-float(u[6 * carrier + 2].mean()), "m").to("mm")
     worst = Q_(-float(top_w.min()), "m").to("mm")
+    which = f"top joints on the {frame_group} members" if top_frame.size else "top joints"
     steps = (
         quantity_step(id=f"{id_prefix}.mass", description="Mass of the panel model", value=Q_(mass, "kg"),
                       unit="kg", method="sum of the consistent mass", source=fe.PRZEMIENIECKI_1968),
-        quantity_step(id=f"{id_prefix}.top-mean", description="Mean settlement of the top joints under "
+        quantity_step(id=f"{id_prefix}.top-mean", description=f"Mean settlement of the {which} under "
                       "self-weight (FE)", value=mean, unit="mm", method=f"{nx} × {ny} cells, static FE, "
                       f"{n_elements} elements per strut, base joints fixed, {modulus} modulus",
                       source=fe.PRZEMIENIECKI_1968),
-        quantity_step(id=f"{id_prefix}.top-max", description="Largest settlement of a top joint (FE)",
+        quantity_step(id=f"{id_prefix}.top-max", description="Largest settlement of any top joint (FE)",
                       value=worst, unit="mm", method="static FE", source=fe.PRZEMIENIECKI_1968),
     )
     return SelfWeight(value=mean, steps=steps, max_deflection=worst, mass=Q_(mass, "kg"),

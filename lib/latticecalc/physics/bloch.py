@@ -35,11 +35,12 @@ import numpy as np
 import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
+import sympy as sp_sym
 
 from latticecalc.cache import cached_arrays, fingerprint
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics import frame_fe as fe
-from latticecalc.sheet import CalcResult, Source, quantity_step
+from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, format_quantity
 
 KRATTIGER_HUSSEIN_2014 = Source(author="Krattiger, D. & Hussein, M. I.",
@@ -63,6 +64,12 @@ POINTS = {
 }
 LABELS = {"G": "Γ", "X": "X", "M": "M", "R": "R", "Y": "Y"}
 _TOL = 1e-7
+
+_f_lo, _f_hi = sp_sym.symbols("f_low f_high")
+#: Gap width over the mid-gap frequency (the usual figure of merit of a band gap) [common practice].
+RELATIVE_WIDTH = Formula("w_rel", 2 * (_f_hi - _f_lo) / (_f_hi + _f_lo),
+                         latex_names={"w_rel": r"\Delta f / f_\mathrm{mid}", "f_low": r"f_\mathrm{low}",
+                                      "f_high": r"f_\mathrm{high}"})
 
 
 # --------------------------------------------------------------------------------------------
@@ -494,7 +501,7 @@ class Gap:
     @property
     def relative_width(self):
         """Width over mid-gap frequency [-]."""
-        return (2 * (self.high - self.low) / (self.high + self.low)).to("")
+        return RELATIVE_WIDTH.evaluate({"f_low": self.low, "f_high": self.high}).to("")
 
     def __getitem__(self, key: str):
         if key in ("low", "high", "width", "relative_width", "below"):
@@ -674,7 +681,7 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         path = DEFAULT_PATH if len(axes) == 3 else DEFAULT_PATH_2D if len(axes) == 2 else "G-X"
     fe._check_theory(theory)
     pf = periodic_frame(cell, periodic=periodic)
-    sections = fe.sections_for(cell, materials)
+    sections, section_steps = fe.sections_for(cell, materials, with_steps=True, id_prefix=f"{id_prefix}.section")
     wp = wave_path(path, points=pts, axes=axes, periods=pf.periods)
     kz = zone_samples(n_per_axis=zone_points, axes=axes, periods=pf.periods, zone=zone) if zone_points else \
         np.zeros((0, 3))
@@ -715,6 +722,7 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         f"each strut reduced to its end joints + {sm} fixed-fixed modes (Bloch mode synthesis)"
         if method == "reduced" else "full mesh, sparse shift-invert eigensolver"))
     steps = [
+        *section_steps,
         quantity_step(id=f"{id_prefix}.dofs", description="Degrees of freedom of the cell model before the "
                       "Bloch and strut reductions", value=Q_(int(data["n_full"]), ""), method=mdesc, sig=6,
                       source=fe.REDDY_1997),
@@ -740,9 +748,9 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                           f"band {j + 2})", value=g.high, unit="Hz", method=mdesc, source=KRATTIGER_HUSSEIN_2014,
                           note=("lattice-strut share of kinetic energy at the edge mode: "
                                 f"{share_hi:.0%}" if np.isfinite(share_hi) else "")),
-            quantity_step(id=f"{id_prefix}.gap{gi}-relative-width", description=f"Complete gap {gi}: width over "
-                          "mid-gap frequency", value=g.relative_width, unit="", method="2 (high − low)/(high + low)",
-                          sig=3),
+            evaluate(RELATIVE_WIDTH, id=f"{id_prefix}.gap{gi}-relative-width", description=f"Complete gap {gi}: "
+                     "width over mid-gap frequency", values={"f_low": g.low, "f_high": g.high}, unit="",
+                     source=COMMON_PRACTICE, sig=3),
         ]
     if not gaps:
         steps.append(quantity_step(id=f"{id_prefix}.gap-count", description="Complete gaps among the bands "

@@ -35,9 +35,18 @@ import numpy as np
 import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
+import sympy as sp_sym
 
 from latticecalc.errors import InputError, ModelError
-from latticecalc.sheet import CalcResult, Source, quantity_step
+from latticecalc.physics.beams import (
+    AREA_CIRCLE,
+    COWPER_1966,
+    COWPER_CIRCLE,
+    SECOND_MOMENT_CIRCLE,
+    SECTION_SOURCE,
+    SHEAR_MODULUS,
+)
+from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
 THEORIES = ("timoshenko", "euler-bernoulli")
@@ -48,9 +57,6 @@ REDDY_1997 = Source(author="Reddy, J. N.",
                     locator="interdependent interpolation element")
 PRZEMIENIECKI_1968 = Source(author="Przemieniecki, J. S.", title="Theory of Matrix Structural Analysis",
                             year=1968, locator="§5.6 (stiffness with shear), §11 (consistent mass)")
-COWPER_1966 = Source(author="Cowper, G. R.",
-                     title="The shear coefficient in Timoshenko's beam theory, J. Appl. Mech. 33, 335-340",
-                     year=1966, locator="solid circle: κ = 6(1+ν)/(7+6ν)")
 CRAIG_BAMPTON_1968 = Source(author="Craig, R. R. & Bampton, M. C. C.",
                             title="Coupling of substructures for dynamic analyses, AIAA J. 6, 1313-1319",
                             year=1968)
@@ -66,34 +72,41 @@ _ZERO_TOL = 1e-9                      # relative size of a "zero" eigenvalue / p
 # --------------------------------------------------------------------------------------------
 @dataclass(frozen=True)
 class Section:
-    """Properties of one strut group, SI floats: E, G (Pa), ρ (kg/m³), d (m), loss factor η."""
+    """Properties of one strut group, SI floats: E, G (Pa), ρ (kg/m³), d (m), A (m²), I, J (m⁴), κ, η."""
 
     E: float
     G: float
     rho: float
     d: float
     nu: float
+    A: float
+    I: float  # noqa: E741 - engineering symbol
+    J: float
+    kappa: float
     eta: float = 0.0
 
-    @property
-    def A(self) -> float:  # noqa: N802 - engineering symbol
-        """Area, m²."""
-        return np.pi * self.d**2 / 4.0
 
-    @property
-    def I(self) -> float:  # noqa: N802, E743 - engineering symbol
-        """Second moment of area, m⁴."""
-        return np.pi * self.d**4 / 64.0
+_d = sp_sym.Symbol("d")
+#: Torsion constant of a solid circle (polar second moment), Roark (2002) Table 10.1 case 1 [from memory].
+POLAR_MOMENT_CIRCLE = Formula("J", sp_sym.pi * _d**4 / 32)
 
-    @property
-    def J(self) -> float:  # noqa: N802 - engineering symbol
-        """Polar second moment (torsion constant of a solid circle), m⁴."""
-        return np.pi * self.d**4 / 32.0
 
-    @property
-    def kappa(self) -> float:
-        """Cowper (1966) shear coefficient of a solid circle."""
-        return 6.0 * (1.0 + self.nu) / (7.0 + 6.0 * self.nu)
+def section_steps(group: str, *, diameter, youngs_modulus, poissons_ratio, id_prefix: str) -> tuple:
+    """Sheet steps for one group's section: area, second moment, torsion constant, G and Cowper's κ."""
+    d = {"d": diameter}
+    return (
+        evaluate(AREA_CIRCLE, id=f"{id_prefix}.{group}.area", description=f"Strut area, {group}", values=d,
+                 unit="mm^2", source=SECTION_SOURCE),
+        evaluate(SECOND_MOMENT_CIRCLE, id=f"{id_prefix}.{group}.second-moment",
+                 description=f"Second moment of area, {group}", values=d, unit="mm^4", source=SECTION_SOURCE),
+        evaluate(POLAR_MOMENT_CIRCLE, id=f"{id_prefix}.{group}.torsion-constant",
+                 description=f"Torsion constant, {group}", values=d, unit="mm^4", source=SECTION_SOURCE),
+        evaluate(SHEAR_MODULUS, id=f"{id_prefix}.{group}.shear-modulus", description=f"Shear modulus, {group}",
+                 values={"E": youngs_modulus, "nu": poissons_ratio}, unit="MPa", source=SECTION_SOURCE),
+        evaluate(COWPER_CIRCLE, id=f"{id_prefix}.{group}.kappa",
+                 description=f"Shear coefficient of the solid circle (Cowper), {group}",
+                 values={"nu": poissons_ratio}, unit="", source=COWPER_1966, sig=6),
+    )
 
 
 def _material_value(material: Any, attr: str, *, group: str, expected: str, unit: str) -> float:
@@ -121,7 +134,8 @@ def _modulus_of(material: Any, modulus: str, group: str):
     return material.youngs_modulus
 
 
-def sections_for(cell: Any, materials: Mapping[str, Any], *, modulus: str = "dynamic") -> dict[str, Section]:
+def sections_for(cell: Any, materials: Mapping[str, Any], *, modulus: str = "dynamic", with_steps: bool = False,
+                 id_prefix: str = "section"):
     """Section of every strut group of ``cell``, from ``cell.diameters`` and ``materials``.
 
     Parameters
@@ -135,12 +149,22 @@ def sections_for(cell: Any, materials: Mapping[str, Any], *, modulus: str = "dyn
     modulus:
         ``"dynamic"`` (the material's ``dynamic_modulus()`` where it has one: vibration),
         ``"static"`` (``youngs_modulus``) or ``"long-term"`` (``long_term_modulus()``: creep).
+    with_steps:
+        Also return the sheet steps of the section properties (``(sections, steps)``).
+    id_prefix:
+        Prefix of those steps' ids.
+
+    Returns
+    -------
+    dict
+        Group -> :class:`Section` (or ``(dict, steps)`` with ``with_steps``).
     """
     if not isinstance(materials, Mapping):
         raise InputError("materials must map each strut group to a material", input_name="materials",
                          expected="a dict such as {'lattice': tpu, 'frame': pla}",
                          got=type(materials).__name__)
     out: dict[str, Section] = {}
+    steps: list = []
     for g in sorted(set(np.asarray(cell.groups).tolist())):
         if g not in materials:
             raise InputError("no material for a strut group", input_name="materials",
@@ -169,8 +193,14 @@ def sections_for(cell: Any, materials: Mapping[str, Any], *, modulus: str = "dyn
         if not (0.0 <= eta < 1.0):
             raise InputError("loss factor out of range", input_name=f"materials[{g!r}].loss_factor",
                              expected="0 <= η < 1", got=f"{eta}")
-        out[g] = Section(E=E, G=E / (2.0 * (1.0 + nu)), rho=rho, d=float(d_q.to("m").magnitude), nu=nu,
-                         eta=eta)
+        st = section_steps(g, diameter=d_q, youngs_modulus=Q_(E, "Pa"), poissons_ratio=Q_(nu, ""),
+                           id_prefix=id_prefix)
+        si = [float(x.result.to_base_units().magnitude) for x in st]
+        out[g] = Section(E=E, G=si[3], rho=rho, d=float(d_q.to("m").magnitude), nu=nu, A=si[0], I=si[1], J=si[2],
+                         kappa=si[4], eta=eta)
+        steps.extend(st)
+    if with_steps:
+        return out, tuple(steps)
     return out
 
 

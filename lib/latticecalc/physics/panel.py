@@ -26,18 +26,25 @@ from typing import Any
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
+import sympy as sp_sym
 
 from latticecalc.cache import cached_arrays, fingerprint
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics import frame_fe as fe
 from latticecalc.physics.bloch import _cell_key, periodic_frame, progress_iter, single_thread
-from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Source, quantity_step
+from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
 CREMER_HECKL_2005 = Source(author="Cremer, L., Heckl, M. & Petersson, B. A. T.", title="Structure-Borne Sound, "
                            "3rd ed.", year=2005, locator="§3.7, complex modulus E(1 + iη)")
 DIRECTIONS = {"horizontal": 0, "x": 0, "normal": 1, "y": 1, "vertical": 2, "z": 2}
 G_STANDARD = Q_(9.80665, "m/s^2")
+_T = sp_sym.Symbol("T")
+#: Transmissibility as a level: 20 log10 of the amplitude ratio (dB re the base motion).
+LEVEL_DB = Formula("L_T", 20 * sp_sym.log(_T, 10))
+LEVEL_SOURCE = Source(author="IEC", title="IEC 60050-801 International Electrotechnical Vocabulary: Acoustics "
+                      "and electroacoustics", year=1994, locator="801-22-04 level of a field quantity, 20 lg",
+                      tag="from memory")
 F_MIN_DEFAULT = Q_(1.0, "Hz")
 F_MAX_DEFAULT = Q_(100.0, "Hz")
 
@@ -302,7 +309,7 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     n = fe.check_n_elements(n_elements)
     freqs = _frequencies(f_min, f_max, n_frequencies)
     fe._check_theory(theory)
-    sections = fe.sections_for(cell, materials)
+    sections, section_steps = fe.sections_for(cell, materials, with_steps=True, id_prefix=f"{id_prefix}.section")
     pan = panel_frame(cell, nx=nx, ny=ny)
     n_check = int(check_points)
 
@@ -325,19 +332,22 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     key = fingerprint("panel-v1", _cell_key(cell, materials), nx, ny, n, freqs, d, strut_modes, n_check, theory)
     data = cached_arrays(cache, key, compute)
     T = data["T"]
-    level = 20 * np.log10(np.maximum(T, 1e-300))
+    level = LEVEL_DB.evaluate({"T": Q_(np.maximum(T, 1e-300), "")}).to("").magnitude
     band = attenuation_band(freqs, level, threshold_db=threshold_db)
     method = (f"{nx} × {ny} cells, {n} {theory} elements per strut; struts reduced to end joints + "
               f"{strut_modes} fixed-fixed modes, condensed per frequency; loss factor per material")
     steps = [
+        *section_steps,
         quantity_step(id=f"{id_prefix}.dofs", description="Free degrees of freedom of the full panel mesh",
                       value=Q_(int(data["n_full"]), ""), method=method, sig=6, source=fe.REDDY_1997),
         quantity_step(id=f"{id_prefix}.dofs-reduced", description="Degrees of freedom of each frequency solve",
                       value=Q_(int(data["n_reduced"]), ""), method=method, sig=6, source=fe.CRAIG_BAMPTON_1968),
-        quantity_step(id=f"{id_prefix}.min-level", description="Lowest transmissibility in the range",
-                      value=Q_(float(level.min()), ""), method=f"top joints RMS over base, {direction}",
-                      source=CREMER_HECKL_2005, note=f"at {format_quantity(Q_(freqs[level.argmin()], 'Hz'))}; "
-                      "value in dB"),
+        quantity_step(id=f"{id_prefix}.min-transmissibility", description="Lowest transmissibility in the range "
+                      "(RMS of the top joints over the base amplitude)", value=Q_(float(T.min()), ""),
+                      method=f"{direction} base motion", source=CREMER_HECKL_2005,
+                      note=f"at {format_quantity(Q_(freqs[T.argmin()], 'Hz'))}"),
+        evaluate(LEVEL_DB, id=f"{id_prefix}.min-level", description="Lowest transmissibility as a level (dB)",
+                 values={"T": Q_(float(T.min()), "")}, unit="", source=LEVEL_SOURCE),
     ]
     if band is not None:
         steps += [
@@ -365,7 +375,7 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     check = None
     if "check_idx" in data:
         idx = data["check_idx"]
-        full_db = 20 * np.log10(np.maximum(data["check_full"], 1e-300))
+        full_db = LEVEL_DB.evaluate({"T": Q_(np.maximum(data["check_full"], 1e-300), "")}).to("").magnitude
         err = np.abs(level[idx] - full_db)
         check = {"frequency": Q_(freqs[idx], "Hz"), "reduced_db": level[idx], "full_db": full_db, "error_db": err}
         steps.append(quantity_step(id=f"{id_prefix}.reduction-error", description="Largest difference between "
@@ -428,7 +438,7 @@ def attenuation_vs_cells(cell: Any, *, materials: Mapping[str, Any], band: tuple
         means.append(m)
         steps.append(quantity_step(id=f"{id_prefix}.h{ny}", description=f"Mean transmissibility in the band, "
                                    f"panel {nx} × {ny} cells", value=Q_(m, ""), note="value in dB",
-                                   method=r.steps[0].method, source=CREMER_HECKL_2005))
+                                   method=r.step(f"{id_prefix}.{ny}.dofs").method, source=CREMER_HECKL_2005))
     return CellCountStudy(value={"cells": np.array(heights), "mean_level": np.array(means)}, steps=tuple(steps),
                           runs=tuple(runs), title="Attenuation against the number of cells")
 

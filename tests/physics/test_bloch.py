@@ -141,3 +141,43 @@ def test_bad_inputs(framed_octet):
         bloch.dispersion(framed_octet, materials=MATS, periodic="xw")
     with pytest.raises(InputError, match="n_bands"):
         bloch.dispersion(framed_octet, materials=MATS, n_bands=0)
+
+
+def test_panel_periodicity_has_three_zero_modes_and_even_bands(framed_octet):
+    # a panel one cell thick, periodic in x and z only: three rigid translations at Γ, and
+    # ω(k) = ω(−k) as for any real periodic structure (Brillouin 1946)
+    pf = bloch.periodic_frame(framed_octet, periodic="xz")
+    sec = fe.sections_for(framed_octet, MATS)
+    op = bloch.reduced_operator(pf, sec, n_elements=4, strut_modes=6, theory="timoshenko")
+    w2 = op.solve(np.zeros(3), 6)
+    assert np.all(w2[:3] < 1e-8 * w2[3])
+    k = np.array([25.0, 0.0, -40.0])
+    np.testing.assert_allclose(op.solve(-k, 10), op.solve(k, 10), rtol=RTOL_SYMMETRY)
+    # the faces y = 0 and y = a are both real in a panel: cube edges along x and along z keep one
+    # per y face (2 + 2); the four edges along y are copies of one another across x and z (1)
+    assert (np.array(pf.groups) == "frame").sum() == 5
+
+
+def test_energy_shares_and_local_resonance(operators):
+    # the flat bands of the strut-resonance cluster live in the soft lattice struts (local
+    # resonance, Liu et al., Science 289 (2000) 1734); every share lies in [0, 1]
+    red, _ = operators
+    k = np.array([0.0, 30.0, 10.0])
+    w2, x = red.solve(k, 60, vectors=True)
+    share = red.energy_fraction(k, x)
+    assert np.all((share >= 0) & (share <= 1))
+    f = np.sqrt(w2) / (2 * np.pi)
+    cluster = np.abs(f - np.median(f[20:50])) < 0.02 * np.median(f[20:50])
+    assert cluster.sum() >= 10
+    assert np.all(share[cluster] > 0.9)
+
+
+def test_band_edge_mode_on_the_full_mesh_matches_the_band(framed_octet):
+    r = bloch.dispersion(framed_octet, materials=MATS, n_elements=4, n_bands=60, points=20, zone_points=0,
+                         convergence_check=False)
+    kv = r["wave_vectors"].magnitude[7]
+    f_band = r["frequencies"].magnitude[7, 40]
+    shape = bloch.band_mode_shape(framed_octet, materials=MATS, wave_vector=kv, band=40, n_elements=4)
+    assert_quantity_close(shape.frequency, Q_(f_band, "Hz"), rtol=RTOL_REDUCED)
+    assert shape.lines.shape == shape.displacement.shape
+    assert 0.0 <= shape.strut_energy <= 1.0

@@ -27,7 +27,7 @@ only its path.
 from __future__ import annotations
 
 import re
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -853,5 +853,3 @@ def mode_shapes_at_gap(cell: Any, result: Dispersion, *, materials: Mapping[str,
     return (band_mode_shape(cell, materials=materials, wave_vector=kv[i_lo], band=g.below, **kwargs),
             band_mode_shape(cell, materials=materials, wave_vector=kv[i_hi], band=g.below + 1, **kwargs))
 
-
-ProgressCallback = Callable[[int, int], None]

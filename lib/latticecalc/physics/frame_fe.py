@@ -47,7 +47,7 @@ from latticecalc.physics.beams import (
     SHEAR_MODULUS,
 )
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
-from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
+from latticecalc.units import Q_, check_dimension, check_positive
 
 THEORIES = ("timoshenko", "euler-bernoulli")
 
@@ -627,13 +627,6 @@ def frame_modes(cell: Any, *, materials: Mapping[str, Any], fixed: Sequence[int]
                       theory=theory, model=model, title="Natural frequencies of the free-standing cell frame")
 
 
-@dataclass(frozen=True, kw_only=True)
-class StaticSolution(CalcResult):
-    """Result of :func:`static_solve`; ``value``: nodal displacements (m), shape (nodes, 6)."""
-
-    displacements: np.ndarray
-
-
 def static_solve(model: FrameModel, *, fixed_dofs: np.ndarray, loads: np.ndarray) -> np.ndarray:
     """Displacements (m, rad) on all DOFs for ``loads`` (N, N·m, length n_dofs), fixed DOFs zero.
 
@@ -787,13 +780,3 @@ def reduced_matrices(red: StrutReduction, *, n_joints: int, group: str | None = 
             M[np.ix_(q, d)] += red.C[s]
             M[np.ix_(d, q)] += red.C[s].T
     return K, M
-
-
-def describe_mesh(n_elements: int, theory: str) -> str:
-    """Method text for the sheet."""
-    return f"{n_elements} two-node {theory} beam elements per strut, 6 DOF per node, consistent mass"
-
-
-def format_frequencies(f) -> str:
-    """Short text of a frequency array for notes."""
-    return format_quantity(f)

@@ -104,6 +104,13 @@ class Inputs(Mapping):
                              expected=("did you mean " + " or ".join(close)) if close else
                              "one of " + ", ".join(self._entries)) from None
 
+    def __contains__(self, name: object) -> bool:
+        return name in self._entries
+
+    def get(self, name: str, default: Any = None) -> Any:
+        """The value of ``name``, or ``default`` for an optional input that was not given."""
+        return self._entries[name].value if name in self._entries else default
+
     def __iter__(self) -> Iterator[str]:
         return iter(self._entries)
 

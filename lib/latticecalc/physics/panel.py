@@ -122,12 +122,6 @@ class _ReducedPanel:
         dofs = (6 * pan.struts[:, :, None] + np.arange(6)).reshape(-1, 12)
         rows = np.repeat(dofs, 12, axis=1).ravel()
         cols = np.tile(dofs, (1, 12)).ravel()
-        # summation matrix: element entries -> CSR data of one fixed pattern
-        flat = rows * n + cols
-        uniq, inv = np.unique(flat, return_inverse=True)
-        self.S = sp.csr_matrix((np.ones(flat.size), (inv.ravel(), np.arange(flat.size))),
-                               shape=(uniq.size, flat.size))
-        self.pat_rows, self.pat_cols = uniq // n, uniq % n
         self.vals_K = (red.K_bb * self.factor[:, None, None]).ravel()
         self.vals_M = red.M_bb.ravel()
         self.n = n
@@ -140,6 +134,23 @@ class _ReducedPanel:
         ub = np.zeros(base_dofs.size)
         ub[direction::6] = 1.0
         self.ub = ub
+        # fixed sparsity, built once: strut entries -> CSC data of the free-free block, and
+        # strut entries -> right-hand side (minus the free-base block times the base motion)
+        nf = self.free.size
+        free_index = -np.ones(n, int)
+        free_index[self.free] = np.arange(nf)
+        base_motion = np.zeros(n)
+        base_motion[base_dofs] = ub
+        fr, fc = free_index[rows], free_index[cols]
+        ff = np.flatnonzero((fr >= 0) & (fc >= 0))
+        key = fc[ff] * nf + fr[ff]                       # column-major: the CSC data order
+        uniq, inv = np.unique(key, return_inverse=True)
+        self.S_ff = sp.csr_matrix((np.ones(ff.size), (inv.ravel(), ff)), shape=(uniq.size, rows.size))
+        self.indices = (uniq % nf).astype(np.int32)
+        self.indptr = np.searchsorted(uniq // nf, np.arange(nf + 1)).astype(np.int32)
+        fb = np.flatnonzero((fr >= 0) & (base_motion[cols] != 0))
+        self.R = sp.csr_matrix((base_motion[cols[fb]], (fr[fb], fb)), shape=(nf, rows.size))
+        self.nf = nf
         self.top_dofs = 6 * pan.top + direction
         self.Ct = np.ascontiguousarray(np.transpose(red.C, (0, 2, 1))) if red.n_modes else None
 
@@ -152,13 +163,10 @@ class _ReducedPanel:
             # D = K_bb* − ω² M_bb − ω⁴ Cᵀ (Ω*² − ω²)⁻¹ C
             coef = w2**2 / (self.red.omega2 * self.factor[:, None] - w2)         # (s, m)
             vals = vals - ((self.Ct * coef[:, None, :]) @ self.red.C).ravel()
-        data = self.S @ vals
-        A = sp.csr_matrix((data, (self.pat_rows, self.pat_cols)), shape=(self.n, self.n))
-        Aff = A[self.free][:, self.free].tocsc()
-        Afb = A[self.free][:, self.base_dofs]
+        Aff = sp.csc_matrix((self.S_ff @ vals, self.indices, self.indptr), shape=(self.nf, self.nf))
         u = np.zeros(self.n, complex)
         u[self.base_dofs] = self.ub
-        u[self.free] = symmetric_solve(Aff, -(Afb @ self.ub))
+        u[self.free] = symmetric_solve(Aff, -(self.R @ vals))
         return u
 
 

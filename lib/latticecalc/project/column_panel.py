@@ -7,15 +7,19 @@ reads declared inputs and calls the library's constructors.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
+
+import pint
 
 from latticecalc import materials
 from latticecalc.errors import InputError
 from latticecalc.materials import Material
 from latticecalc.physics.cells import Cell, build_cell
 from latticecalc.project.inputs import Inputs
+from latticecalc.project.project import Project
+from latticecalc.sheet import CalcResult, quantity_step
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -82,3 +86,48 @@ def design_from_inputs(inputs: Inputs) -> PanelDesign:
             "frame": materials.get(inputs["frame.material"], overrides=overrides)}
     return PanelDesign(cell=cell_from_inputs(inputs), materials=mats, cells_wide=inputs["panel.cells_wide"],
                        cells_high=inputs["panel.cells_high"], cells_deep=inputs["panel.cells_deep"])
+
+
+def bloch_options(project: Project, design: PanelDesign) -> dict[str, Any]:
+    """Options of the Bloch-wave dispersion, the same in every section so the cache serves them all."""
+    inp = project.inputs
+    return dict(materials=design.materials, n_elements=inp["fe.elements_per_strut"], n_bands=inp["fe.bands"],
+                points=inp["fe.path_points"], zone_points=inp["fe.zone_points"],
+                strut_modes=inp["fe.strut_modes"], cache=project.cache_dir)
+
+
+@dataclass(frozen=True, kw_only=True)
+class DesignedBand(CalcResult):
+    """The band the coverage check uses: the computed complete gap when there is one, else the estimate."""
+
+    low: pint.Quantity
+    high: pint.Quantity
+    method: str
+
+
+def designed_band(*, estimate: Mapping[str, pint.Quantity], gaps: Sequence[Any]) -> DesignedBand:
+    """Pick the designed band: the complete gap of the Bloch-wave dispersion nearest the hand estimate.
+
+    Parameters
+    ----------
+    estimate:
+        The band estimate's value mapping (``f_low``, ``f_high`` in Hz).
+    gaps:
+        Complete gaps from :func:`latticecalc.physics.bloch.dispersion` (each with ``low``, ``high``).
+        Empty: the hand estimate is used, and the sheet says so.
+    """
+    lo, hi = estimate["f_low"].to("Hz"), estimate["f_high"].to("Hz")
+    centre = (lo + hi) / 2
+    gap = min(gaps, key=lambda g: abs(((g.low + g.high) / 2).to("Hz") - centre), default=None)
+    if gap is not None:
+        low, high = gap.low.to("Hz"), gap.high.to("Hz")
+        method = "complete gap of the Bloch-wave dispersion (numerical check section), nearest the estimate"
+    else:
+        low, high = lo, hi
+        method = "hand estimate (no complete gap was computed)"
+    steps = (quantity_step(id="coverage.band-low", description="Designed band, lower edge", value=low, unit="Hz",
+                           method=method),
+             quantity_step(id="coverage.band-high", description="Designed band, upper edge", value=high, unit="Hz",
+                           method=method))
+    return DesignedBand(value={"low": low, "high": high}, steps=steps, low=low, high=high, method=method,
+                        title="Designed stop band for the coverage check")

@@ -78,6 +78,7 @@ class TemplateSpec:
     description: str
     notebooks: tuple[str, ...]
     inputs: tuple[InputSpec, ...] = field(default_factory=tuple)
+    summary: tuple[tuple[str, tuple[str, ...]], ...] = ()
     file: str = "template.toml"
 
     def spec(self, name: str) -> InputSpec:
@@ -128,6 +129,12 @@ def load_template_spec(path: Path) -> TemplateSpec:
                                max=raw.get("max"), choices=tuple(raw.get("choices", ())),
                                optional=bool(raw.get("optional", False)), source=raw.get("source", ""),
                                unit=raw.get("unit", "")))
+    summary = []
+    for i, row in enumerate(data.get("summary", [])):
+        if not isinstance(row.get("label"), str) or not row.get("steps"):
+            raise InputError(f"[[summary]] number {i + 1} needs a label and a list of step ids", input_name="summary",
+                             file=where, expected='label = "…", steps = ["step.id", …] (the first present is shown)')
+        summary.append((row["label"], tuple(row["steps"])))
     return TemplateSpec(name=head.get("name", path.parent.name), title=head.get("title", ""),
                         description=head.get("description", ""),
-                        notebooks=tuple(head["notebooks"]), inputs=tuple(specs), file=where)
+                        notebooks=tuple(head["notebooks"]), inputs=tuple(specs), summary=tuple(summary), file=where)

@@ -122,13 +122,14 @@ def _comments_for(step_id: str, extras: PackageExtras) -> str:
 
 
 def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], references: list[dict],
-                   extras: PackageExtras, generated: str, with_code: bool = False) -> str:
+                   extras: PackageExtras, generated: str, with_code: bool = False,
+                   summary: dict | None = None) -> str:
     """The whole package as one HTML string."""
     checks = doc.records("check")
     notes = doc.records("note")
     assumptions = [n for n in notes if n["category"] == "assumption"]
     cautions = [n for n in notes if n["category"] == "caution"]
-    summaries = doc.records("summary")
+    summaries = ([summary] if summary else []) + doc.records("summary")
     running = f"{meta['calc_id']} rev {meta['revision']} — {meta['title']}"
     running_css = '"' + running.replace("\\", "\\\\").replace('"', '\\"').replace("<", "\\3c ") + '"'
 

@@ -74,6 +74,25 @@ def references(doc: SheetDocument) -> list[dict]:
     return list(seen.values())
 
 
+def summary_record(project: Project, doc: SheetDocument) -> dict | None:
+    """The package's summary box: the template's key steps, then the checks and the governing one."""
+    by_id = {r["id"]: r for r in doc.records() if r["kind"] in ("step", "check")}
+    rows = []
+    for label, candidates in project.template.summary:
+        rec = next((by_id[c] for c in candidates if c in by_id), None)
+        if rec is not None:
+            text = rec["result_text"] + (f" ({rec['verdict']})" if rec["kind"] == "check" else "")
+            rows.append({"label": label, "text": text, "step": rec["id"]})
+    checks = [r for r in by_id.values() if r["kind"] == "check"]
+    if checks:
+        failing = sum(not c["ok"] for c in checks)
+        rows.append({"label": "Checks", "text": f"{len(checks) - failing} OK, {failing} NOT OK", "step": ""})
+        worst = max(checks, key=lambda c: c["utilisation"])
+        rows.append({"label": "Governing check", "step": worst["id"],
+                     "text": f"{worst['description']}: utilisation {worst['utilisation']:.2f} ({worst['verdict']})"})
+    return {"kind": "summary", "title": "Summary", "rows": rows} if rows else None
+
+
 def build_package_data(project: Project, doc: SheetDocument, generated: str) -> dict:
     """The JSON content of the package (what the checker's tools and sign-off read)."""
     meta = project.meta.to_dict() | {"template": project.template.name, "kit_version": __version__}
@@ -160,7 +179,7 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
     extras = _extras(project, data, doc)
     html = render_package(meta=data["project"], doc=doc, inputs=inputs_rows(project),
                           references=references(doc), extras=extras, generated=generated,
-                          with_code=with_code)
+                          with_code=with_code, summary=summary_record(project, doc))
     html = _seal(html)
     stem = project.meta.package_stem
     html_path = project.out / f"{stem}.html"

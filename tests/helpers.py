@@ -30,3 +30,21 @@ def assert_quantity_close(actual, expected, *, rtol: float = 1e-7, atol: float =
     if atol and not isinstance(atol, numbers.Number):
         raise AssertionError("atol must be a plain number in expected's unit")
     np.testing.assert_allclose(a, e, rtol=rtol, atol=atol)
+
+
+#: Coarse numerical-check settings for tests that exercise the workflow rather than the FE results.
+QUICK_FE = {"fe.path_points": 20, "fe.zone_points": 0, "fe.frequencies": 60, "tolerance.samples": 2000}
+
+
+def make_quick(folder):
+    """Coarsen a column-panel project's numerical check (through the inputs API) so a run takes seconds."""
+    from pathlib import Path
+
+    from latticecalc.project.inputs import set_values
+    from latticecalc.project.schema import load_template_spec
+
+    folder = Path(folder)
+    spec = load_template_spec(folder / "template.toml")
+    set_values(folder / "inputs.toml", spec, {k: v for k, v in QUICK_FE.items()
+                                              if any(s.name == k for s in spec.inputs)})
+    return folder

@@ -13,6 +13,7 @@ from pathlib import Path
 
 import pytest
 import tomlkit
+from tests.helpers import make_quick
 
 from latticecalc.project import open_project
 from latticecalc.project.export import export_project
@@ -36,7 +37,7 @@ def _edit_toml(path: Path, edit) -> None:
 @pytest.fixture(scope="module")
 def hostile_package(tmp_path_factory) -> Path:
     """A project whose every user-typed field holds script and markup, reviewed and signed."""
-    folder = new_project(tmp_path_factory.mktemp("hostile") / "panel", template="column-panel")
+    folder = make_quick(new_project(tmp_path_factory.mktemp("hostile") / "panel", template="column-panel"))
 
     def meta(doc):
         for key in ("name", "number", "client"):

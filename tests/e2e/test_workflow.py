@@ -9,6 +9,7 @@ from pathlib import Path
 
 import nbformat
 import pytest
+from tests.helpers import make_quick
 
 from latticecalc.cli import main as cli
 from latticecalc.errors import NotebookError, ProjectError
@@ -25,6 +26,7 @@ EXTERNAL = re.compile(r"""(?:\b(?:src|href)\s*=\s*["']?\s*|url\(\s*["']?\s*)(htt
 def exported(tmp_path_factory) -> Path:
     folder = tmp_path_factory.mktemp("e2e") / "panel"
     assert cli(["new", str(folder), "--template", "column-panel"]) == 0
+    make_quick(folder)
     assert cli(["run", str(folder)]) == 0
     assert cli(["export", str(folder)]) == 0
     return folder
@@ -76,7 +78,7 @@ def test_external_pattern_catches_what_it_should():
 
 
 def test_hostile_project_title_is_inert(tmp_path):
-    folder = new_project(tmp_path / "hostile", template="column-panel")
+    folder = make_quick(new_project(tmp_path / "hostile", template="column-panel"))
     meta = folder / "project.toml"
     hostile = "<script>alert(1)</script>"
     meta.write_text(meta.read_text().replace('title = "Lattice absorber panel, column ..."',

@@ -6,6 +6,7 @@ import shutil
 from pathlib import Path
 
 import pytest
+from tests.helpers import make_quick
 
 from latticecalc.project.export import export_project
 from latticecalc.project.runner import run_project
@@ -15,7 +16,7 @@ from latticecalc.project.templates import new_project
 @pytest.fixture(scope="session")
 def ran_project(tmp_path_factory) -> Path:
     """A column-panel project that has been run and exported once (do not modify: copy it)."""
-    folder = new_project(tmp_path_factory.mktemp("proj") / "panel", template="column-panel")
+    folder = make_quick(new_project(tmp_path_factory.mktemp("proj") / "panel", template="column-panel"))
     run_project(folder, progress=None)
     export_project(folder)
     return folder

@@ -171,8 +171,23 @@ TIMOSHENKO_PINNED_FREQUENCY = Formula(
 THEORY_DIFFERENCE = Formula("Delta_f", (_fe - _ft) / _fe, latex_names={"Delta_f": r"\Delta_f"})
 
 # Inverse sizing of a solid circular strut (Euler–Bernoulli inverted for d, or for L).
-DIAMETER_FOR_FREQUENCY = Formula("d", 8 * sp.pi * _f * _L**2 / _lam**2 * sp.sqrt(_rho / _E))
-LENGTH_FOR_FREQUENCY = Formula("L", _lam * sp.sqrt(_d * sp.sqrt(_E / _rho) / (8 * sp.pi * _f)))
+
+
+def _solved_for(target: sp.Symbol) -> sp.Expr:
+    """The circular-strut frequency formula solved for ``target`` (the one positive root).
+
+    Derived from EULER_BERNOULLI_FREQUENCY with the circle's I and A put in, so the inverse sizing
+    can never drift from the forward formula.
+    """
+    forward = EULER_BERNOULLI_FREQUENCY.expr.subs({_I: SECOND_MOMENT_CIRCLE.expr, _A: AREA_CIRCLE.expr})
+    pos = {s: sp.Symbol(s.name, positive=True) for s in (*forward.free_symbols, _f)}
+    roots = sp.solve(sp.Eq(pos[_f], forward.subs(pos)), pos[target])
+    (root,) = [r for r in roots if r.is_positive is not False]
+    return sp.simplify(root.subs({v: k for k, v in pos.items()}))
+
+
+DIAMETER_FOR_FREQUENCY = Formula("d", _solved_for(_d))
+LENGTH_FOR_FREQUENCY = Formula("L", _solved_for(_L))
 
 SECTION_SOURCE = Source(author="Young, W. C. & Budynas, R. G.",
                         title="Roark's Formulas for Stress and Strain, 7th ed.", year=2002,

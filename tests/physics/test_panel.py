@@ -94,6 +94,14 @@ def test_attenuation_band_is_the_widest_run_below_threshold():
     assert panel.attenuation_band(f, level, threshold_db=30) is None
 
 
+def test_attenuation_band_prefers_the_range_over_the_gap():
+    # common practice: report the attenuation the lattice gap gives, not a wider range elsewhere
+    f = np.arange(10.0)
+    level = np.array([0, -12, -15, 0, -11, -13, -14, -20, 3, 0])
+    assert panel.attenuation_band(f, level, threshold_db=10, near=(1.5, 2.5)) == (1.0, 2.0)
+    assert panel.attenuation_band(f, level, threshold_db=10, near=(8.5, 9.5)) == (4.0, 7.0)
+
+
 def test_bad_inputs(cubic):
     mats = {"lattice": PLA}
     with pytest.raises(InputError, match="nx"):

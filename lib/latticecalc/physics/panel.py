@@ -228,22 +228,30 @@ class Transmissibility(CalcResult):
     n_dofs_reduced: int
 
 
-def attenuation_band(freq: np.ndarray, level_db: np.ndarray, *, threshold_db: float):
-    """Widest contiguous range where the level is at or below −``threshold_db`` (Hz), or None."""
+def attenuation_band(freq: np.ndarray, level_db: np.ndarray, *, threshold_db: float,
+                     near: tuple[float, float] | None = None):
+    """Contiguous range where the level is at or below −``threshold_db`` (Hz), or None.
+
+    The widest such range, or, when ``near`` (low, high in Hz, e.g. the lattice's gap) is given,
+    the widest of those that overlap it (the widest overall if none does): a wide attenuation range
+    far above the gap, from the frame's own dynamics, must not hide the one the design is about.
+    """
     below = level_db <= -abs(threshold_db)
-    best = None
+    runs = []
     i = 0
     while i < len(below):
         if below[i]:
             j = i
             while j + 1 < len(below) and below[j + 1]:
                 j += 1
-            if best is None or freq[j] - freq[i] > best[1] - best[0]:
-                best = (float(freq[i]), float(freq[j]))
+            runs.append((float(freq[i]), float(freq[j])))
             i = j + 1
         else:
             i += 1
-    return best
+    if near is not None:
+        overlapping = [r for r in runs if r[1] >= near[0] and r[0] <= near[1]]
+        runs = overlapping or runs
+    return max(runs, key=lambda r: r[1] - r[0], default=None)
 
 
 def _frequencies(f_min, f_max, n_frequencies) -> np.ndarray:
@@ -294,7 +302,8 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     strut_modes:
         Fixed–fixed modes kept per strut in the reduced model.
     threshold_db:
-        The attenuation band is the widest range with the level at or below −threshold (dB).
+        The attenuation band is the widest range with the level at or below −threshold (dB)
+        (the widest of those overlapping ``gap`` when a gap is given).
     check_points:
         Frequencies at which the reduced model is checked against a direct solve of the full mesh
         (0 to skip).
@@ -341,7 +350,9 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     data = cached_arrays(cache, key, compute)
     T = data["T"]
     level = LEVEL_DB.evaluate({"T": Q_(np.maximum(T, 1e-300), "")}).to("").magnitude
-    band = attenuation_band(freqs, level, threshold_db=threshold_db)
+    near = None if gap is None else tuple(
+        check_dimension(g, name="gap", expected="frequency").to("Hz").magnitude for g in gap)
+    band = attenuation_band(freqs, level, threshold_db=threshold_db, near=near)
     method = (f"{nx} × {ny} cells, {n} {theory} elements per strut; struts reduced to end joints + "
               f"{strut_modes} fixed-fixed modes, condensed per frequency; loss factor per material")
     steps = [

@@ -29,7 +29,7 @@ HUANG_2009 = Source(author="Huang, H. H., Sun, C. T. & Huang, G. L.", title="On 
                     locator="pp. 610–617, mass-in-mass lattice")
 
 #: Invented tonal components of the demo pass-bys (Hz) and their relative amplitudes.
-DEMO_TONES = ((40.0, 1.0), (25.0, 0.15), (12.5, 0.04))
+DEMO_TONES = ((40.0, 1.0), (25.0, 0.10), (12.5, 0.04))
 #: Sensor noise floor of the demo accelerometer, m/s² per √Hz (about 0.5 µg/√Hz).
 SENSOR_NOISE_DENSITY = 0.5e-6 * 9.80665
 #: RMS of the broadband background (1–100 Hz), m/s².

@@ -758,24 +758,26 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                                    note=f"no complete gap below band {nb}"))
     if "f_coarse" in data:
         fc = np.vstack([data["f_coarse"], data["fz_coarse"]]) if len(fz) else data["f_coarse"]
+        coarse_mesh = f"{max(1, n // 2)} to {n} elements per strut"
         if gaps:
-            ref = np.array([[g.low.magnitude, g.high.magnitude] for g in gaps]).ravel()
-            gc = find_gaps(fc)
-            coarse = {j: (lo, hi) for lo, hi, j in gc}
-            vals = [coarse.get(g.below) for g in gaps]
-            if all(v is not None for v in vals):
-                cref = np.array(vals).ravel()
-                change = np.max(np.abs(cref - ref) / ref)
-            else:
-                change = np.inf
-            what = "gap edges"
+            coarse = {j: (lo, hi) for lo, hi, j in find_gaps(fc)}
+            # one step per gap: a higher gap converging slowly must not hide a converged first gap
+            for gi, g in enumerate(gaps, start=1):
+                ref = np.array([g.low.magnitude, g.high.magnitude])
+                c = coarse.get(g.below)
+                change = float(np.max(np.abs(np.array(c) - ref) / ref)) if c is not None else np.inf
+                steps.append(quantity_step(
+                    id=f"{id_prefix}.gap{gi}-mesh-change", description=f"Complete gap {gi}: change of its edges "
+                    f"from {coarse_mesh}", value=Q_(100 * change, "percent"), unit="percent",
+                    method="mesh convergence check, same wave vectors", sig=2,
+                    note="small change = the mesh is converged for this gap" if np.isfinite(change) else
+                    "the gap is not found on the coarser mesh: refine the mesh"))
         else:
             change = float(np.nanmax(np.abs(fc[:, -1] - both[:, -1]) / np.maximum(both[:, -1], 1e-300)))
-            what = f"band {nb}"
-        steps.append(quantity_step(id=f"{id_prefix}.mesh-change", description=f"Change of the {what} from "
-                                   f"{max(1, n // 2)} to {n} elements per strut", value=Q_(100 * change, "percent"),
-                                   unit="percent", method="mesh convergence check, same wave vectors", sig=2,
-                                   note="small change = the mesh is converged for these bands"))
+            steps.append(quantity_step(id=f"{id_prefix}.mesh-change", description=f"Change of band {nb} from "
+                                       f"{coarse_mesh}", value=Q_(100 * change, "percent"), unit="percent",
+                                       method="mesh convergence check, same wave vectors", sig=2,
+                                       note="small change = the mesh is converged for these bands"))
     value = {"k": Q_(wp.s, "rad/m"), "frequencies": Q_(f, "Hz"), "gaps": gaps, "directional_gaps": directional,
              "strut_energy": e, "wave_vectors": Q_(wp.k, "rad/m")}
     return Dispersion(value=value, steps=tuple(steps), ticks=wp.ticks, tick_labels=wp.tick_labels,

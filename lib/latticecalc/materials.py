@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import tomllib
 from collections.abc import Mapping
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field, fields, replace
 from functools import cache
 from importlib import resources
 from types import MappingProxyType
@@ -38,6 +38,10 @@ CAUTION = ("Material values are typical values for sizing; design values come fr
 _E, _nu, _k = sp.symbols("E nu k")
 SHEAR_MODULUS = Formula("G", _E / (2 * (1 + _nu)), latex_names={"nu": r"\nu"})
 DYNAMIC_MODULUS = Formula("E_dyn", _k * _E, latex_names={"E_dyn": r"E_\mathrm{dyn}", "k": r"k_\mathrm{dyn}"})
+_E_dyn = sp.Symbol("E_dyn")
+#: The static modulus that gives a measured dynamic modulus: DYNAMIC_MODULUS solved for E by sympy.
+STATIC_FROM_DYNAMIC = Formula("E", sp.solve(sp.Eq(_E_dyn, DYNAMIC_MODULUS.expr), _E)[0],
+                              latex_names={"E_dyn": r"E_\mathrm{dyn,cal}", "k": r"k_\mathrm{dyn}"})
 SCALED_MODULUS = Formula("E_T", _k * _E, latex_names={"E_T": r"E_T", "k": r"k_T"})
 LONG_TERM_MODULUS = Formula("E_lt", _k * _E, latex_names={"E_lt": r"E_\mathrm{lt}", "k": r"k_\mathrm{creep}"})
 
@@ -317,3 +321,43 @@ def get(name: str, *, overrides: Mapping[str, Mapping[str, Any]] | None = None) 
         raise InputError("unknown material", input_name="material", expected="one of " + ", ".join(cat),
                          got=repr(name), hint="Add it to the project's materials, or pick a listed one")
     return cat[name]
+
+
+@dataclass(frozen=True, kw_only=True)
+class CalibratedMaterial(CalcResult):
+    """Result of :func:`calibrated`; ``value`` is the new static modulus, ``material`` the new Material."""
+
+    material: Material
+
+
+def calibrated(material: Material, *, dynamic_modulus: Any, source: Source,
+               id_prefix: str = "material.calibrated") -> CalibratedMaterial:
+    """The material with its modulus scaled so its dynamic modulus equals a measured one.
+
+    The static, temperature and long-term moduli all follow (they are factors on E), so one
+    calibration from a prototype test moves every use of the material consistently.
+
+    Parameters
+    ----------
+    material:
+        The catalogue or project material.
+    dynamic_modulus:
+        The calibrated dynamic modulus at the design frequency [pressure].
+    source:
+        Where the calibration comes from (the prototype test's package).
+    id_prefix:
+        Prefix of the step ids.
+    """
+    e_dyn = check_positive(check_dimension(dynamic_modulus, name="dynamic_modulus", expected="pressure"),
+                           name="dynamic_modulus")
+    given = quantity_step(id=f"{id_prefix}.dynamic-modulus", description=f"{material.name}: calibrated dynamic "
+                          "modulus at the design frequency", value=e_dyn.to("MPa"), unit="MPa",
+                          method="prototype test", source=source)
+    step = evaluate(STATIC_FROM_DYNAMIC, id=f"{id_prefix}.static-modulus", unit="MPa", source=source,
+                    description=f"{material.name}: static modulus implied by the calibration",
+                    values={"E_dyn": e_dyn, "k": material.dynamic_to_static},
+                    note=f"replaces the catalogue value {format_quantity(material.youngs_modulus.to('MPa'))}")
+    sources = dict(material.sources) | {"youngs_modulus": source}
+    new = replace(material, youngs_modulus=step.result, sources=sources)
+    return CalibratedMaterial(value=step.result, steps=(given, step), material=new,
+                              title=f"Calibrated modulus of {material.name}")

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 import pint
@@ -20,6 +21,7 @@ from latticecalc.physics.cells import Cell, build_cell
 from latticecalc.project.inputs import Inputs
 from latticecalc.project.project import Project
 from latticecalc.sheet import CalcResult, quantity_step
+from latticecalc.signals.frf import calibration_from_export
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -31,6 +33,7 @@ class PanelDesign:
     cells_wide: int
     cells_high: int
     cells_deep: int
+    calibration: CalcResult | None = None
 
     @property
     def lattice(self) -> Material:
@@ -79,13 +82,29 @@ def cell_from_inputs(inputs: Inputs) -> Cell:
                       frame_diameter=inputs["frame.strut_diameter"] if framed else None, nodes=nodes, struts=struts)
 
 
-def design_from_inputs(inputs: Inputs) -> PanelDesign:
-    """Build the :class:`PanelDesign` every column-panel notebook uses."""
+def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDesign:
+    """Build the :class:`PanelDesign` every column-panel notebook uses.
+
+    When ``lattice.calibration`` names a prototype-test export (relative to ``folder``, the project
+    folder), the lattice material's modulus is scaled so its dynamic modulus is the calibrated one;
+    ``design.calibration`` then holds the steps that show it.
+    """
     overrides = project_materials(inputs)
     mats = {"lattice": materials.get(inputs["lattice.material"], overrides=overrides),
             "frame": materials.get(inputs["frame.material"], overrides=overrides)}
+    calibration = None
+    exported = inputs.get("lattice.calibration")
+    if exported:
+        if folder is None:
+            raise InputError("the calibration file is relative to the project folder; pass folder=",
+                             input_name="lattice.calibration", file=inputs.file)
+        found = calibration_from_export(Path(folder) / exported)
+        calibration = materials.calibrated(mats["lattice"], dynamic_modulus=found.modulus, source=found.source,
+                                           id_prefix="lattice.calibrated")
+        mats["lattice"] = calibration.material
     return PanelDesign(cell=cell_from_inputs(inputs), materials=mats, cells_wide=inputs["panel.cells_wide"],
-                       cells_high=inputs["panel.cells_high"], cells_deep=inputs["panel.cells_deep"])
+                       cells_high=inputs["panel.cells_high"], cells_deep=inputs["panel.cells_deep"],
+                       calibration=calibration)
 
 
 def bloch_options(project: Project, design: PanelDesign) -> dict[str, Any]:

@@ -13,14 +13,17 @@
 
 from __future__ import annotations
 
+import json
 from dataclasses import dataclass
+from pathlib import Path
 
 import numpy as np
+import pint
 import sympy as sp
 from scipy import fft as sfft
 from scipy import signal as ssig
 
-from latticecalc.errors import InputError
+from latticecalc.errors import InputError, RecordError
 from latticecalc.physics import beams
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive
@@ -280,3 +283,45 @@ def resonance(frf: Transmissibility, *, lowest, highest, extremum: str = "max") 
                          method=f"bin maximum; standard uncertainty Δf/√12 = {u:.3g} Hz")
     return CalcResult(value={"frequency": Q_(float(f[k]), "Hz"), "uncertainty": Q_(u, "Hz")}, steps=(step,),
                       title="Measured resonance")
+
+
+@dataclass(frozen=True, kw_only=True)
+class ExportedCalibration:
+    """A calibrated modulus read back from a prototype-test package's JSON."""
+
+    modulus: pint.Quantity
+    uncertainty: pint.Quantity | None
+    source: Source
+
+
+def calibration_from_export(path) -> ExportedCalibration:
+    """The calibrated dynamic modulus (``calibration.modulus``) from a prototype-test export JSON.
+
+    Parameters
+    ----------
+    path:
+        ``out/<calc-id>-rev<rev>.json`` written by ``latticecalc export`` for a ``prototype-test`` project.
+    """
+    p = Path(path)
+    if not p.is_file():
+        raise RecordError("prototype-test export not found", input_name="lattice.calibration", got=str(p),
+                          expected="the JSON written by 'latticecalc export' for a prototype-test project")
+    try:
+        data = json.loads(p.read_text(encoding="utf-8"))
+        rows = {r["id"]: r for r in data["results"]}
+        meta = data["project"]
+    except (ValueError, KeyError, TypeError) as exc:
+        raise RecordError(f"not a calc package JSON ({exc})", input_name="lattice.calibration", file=str(p)) from None
+    if "calibration.modulus" not in rows:
+        raise RecordError("no calibrated modulus in this export", input_name="lattice.calibration", file=str(p),
+                          expected="a prototype-test export with the step calibration.modulus")
+
+    def quantity(row):
+        return Q_(float(row["value"]), row["unit"].replace("µ", "u") or "")
+
+    unc = rows.get("calibration.uncertainty")
+    source = Source(author=f"{meta.get('prepared_by', '')}, prototype test {meta.get('calc_id', '')} "
+                    f"rev {meta.get('revision', '')}".strip(", "), title=meta.get("title", "prototype test"),
+                    year=str(data.get("generated", ""))[:4], locator=f"step calibration.modulus, {p.name}")
+    return ExportedCalibration(modulus=quantity(rows["calibration.modulus"]),
+                               uncertainty=quantity(unc) if unc else None, source=source)

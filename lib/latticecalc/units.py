@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import math
 import os
-from collections.abc import Iterable
 from typing import Any
 
 import numpy as np
@@ -144,14 +143,6 @@ def check_positive(value: pint.Quantity, *, name: str, allow_zero: bool = False)
     return value
 
 
-def quantity_in(value: Any, unit: str, *, name: str, positive: bool = False) -> Any:
-    """Check ``value`` is compatible with ``unit`` and return its magnitude in that unit."""
-    q = check_dimension(value, name=name, expected=unit)
-    if positive:
-        check_positive(q, name=name)
-    return q.to(unit).magnitude
-
-
 def unit_text(unit: Any) -> str:
     """Write a unit the way a practitioner does: ``MPa``, ``kg/m³``, ``Hz``, ``mm/s``."""
     if isinstance(unit, str):
@@ -207,8 +198,3 @@ def format_quantity(q: Any, unit: str | None = None, sig: int = 4) -> str:
         shown = ", ".join(format_number(v, sig) for v in flat[:6])
         num = "[" + shown + (", …" if flat.size > 6 else "") + "]"
     return f"{num} {u}".strip()
-
-
-def as_quantities(values: Iterable[Any], *, name: str, expected: str) -> list[pint.Quantity]:
-    """Parse a list of quantity texts, naming the item index in any error."""
-    return [parse(v, name=f"{name}[{i}]", expected=expected) for i, v in enumerate(values)]

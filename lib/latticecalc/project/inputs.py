@@ -21,7 +21,7 @@ import tomlkit.exceptions
 from latticecalc.errors import InputError, LatticeCalcError
 from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.schema import InputSpec, TemplateSpec
-from latticecalc.units import format_quantity, parse, unit_text
+from latticecalc.units import format_number, format_quantity, parse, unit_text
 
 INPUTS_FILE = "inputs.toml"
 
@@ -37,18 +37,15 @@ class InputValue:
     line: int | None
 
     def display(self) -> tuple[str, str]:
-        """``(value, unit)`` as a practitioner writes them, for the inputs table."""
-        v = self.value
-        if isinstance(v, pint.Quantity):
-            if self.spec.unit:
-                v = v.to(self.spec.unit)
-            return format_quantity(v, sig=6).rsplit(" ", 1)[0], unit_text(v.units)
-        if isinstance(v, list) and v and isinstance(v[0], pint.Quantity):
-            u = self.spec.unit or str(v[0].units)
-            return ", ".join(format_quantity(x.to(u), sig=6).rsplit(" ", 1)[0] for x in v), unit_text(u)
-        if isinstance(v, (dict, list)):
-            return _short(v), ""
-        return str(v), ""
+        """``(value, unit)`` as a practitioner writes them, for the inputs table (from :meth:`display_value`)."""
+        value, unit = self.display_value()
+        if isinstance(self.value, pint.Quantity):
+            return format_number(value, 6), unit
+        if isinstance(self.value, list) and self.value and isinstance(self.value[0], pint.Quantity):
+            return ", ".join(format_number(x, 6) for x in value), unit
+        if isinstance(self.value, (dict, list)):
+            return _short(self.value), ""
+        return str(self.value), ""
 
     def display_value(self) -> tuple[Any, str]:
         """``(number or list or text, unit)`` in the display unit, JSON-ready."""

@@ -202,11 +202,4 @@ def embed_json(data: dict) -> str:
             .replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026"))
 
 
-def stale_guard(project: Project) -> None:
-    """Raise ProjectError if ``project`` changed since its last run."""
-    changed = stale_files(project)
-    if changed:
-        raise ProjectError("changed since the last run: " + ", ".join(changed), input_name=str(project.folder))
-
-
-__all__ = ["ExportReport", "build_package_data", "embed_json", "export_project", "stale_guard"]
+__all__ = ["ExportReport", "build_package_data", "embed_json", "export_project"]

@@ -40,6 +40,7 @@ import sympy as sp_sym
 from latticecalc.cache import cached_arrays, fingerprint
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics import frame_fe as fe
+from latticecalc.physics.threads import single_thread
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, format_quantity
 
@@ -524,23 +525,6 @@ def find_gaps(freqs: np.ndarray, *, min_relative: float = 1e-3) -> list[tuple[fl
 
 
 # --------------------------------------------------------------------------------------------
-# threads and progress
-# --------------------------------------------------------------------------------------------
-def single_thread():
-    """Context limiting BLAS to one thread (threadpoolctl; a no-op where it is not installed).
-
-    Many small dense solves run faster on one thread than with threads competing for a shared CPU.
-    """
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:  # pragma: no cover
-        import contextlib
-
-        return contextlib.nullcontext()
-    return threadpool_limits(limits=1, user_api="blas")
-
-
-# --------------------------------------------------------------------------------------------
 # progress
 # --------------------------------------------------------------------------------------------
 def progress_iter(items: Sequence, *, progress: Any, desc: str):
@@ -584,14 +568,14 @@ class Dispersion(CalcResult):
 def _bands_on(op: BlochOperator, ks: np.ndarray, n_bands: int, *, progress: Any, desc: str):
     f = np.zeros((len(ks), n_bands))
     e = np.zeros((len(ks), n_bands))
-    for i in progress_iter(range(len(ks)), progress=progress, desc=desc):
-        with single_thread():
+    with single_thread():
+        for i in progress_iter(range(len(ks)), progress=progress, desc=desc):
             w2, x = op.solve(ks[i], n_bands, vectors=True)
-        nb = len(w2)
-        f[i, :nb] = np.sqrt(w2) / (2 * np.pi)
-        e[i, :nb] = op.energy_fraction(ks[i], x)
-        if nb < n_bands:
-            f[i, nb:] = np.nan
+            nb = len(w2)
+            f[i, :nb] = np.sqrt(w2) / (2 * np.pi)
+            e[i, :nb] = op.energy_fraction(ks[i], x)
+            if nb < n_bands:
+                f[i, nb:] = np.nan
     return f, e
 
 

@@ -31,7 +31,8 @@ import sympy as sp_sym
 from latticecalc.cache import cached_arrays, fingerprint
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics import frame_fe as fe
-from latticecalc.physics.bloch import _cell_key, periodic_frame, progress_iter, single_thread
+from latticecalc.physics.bloch import _cell_key, periodic_frame, progress_iter
+from latticecalc.physics.threads import single_thread
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
@@ -333,10 +334,10 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     def compute():
         rp = _ReducedPanel(pan, sections, n_elements=n, strut_modes=strut_modes, theory=theory, direction=d)
         T = np.zeros(freqs.size)
-        for i in progress_iter(range(freqs.size), progress=progress, desc=f"panel {pan.nx}×{pan.ny}"):
-            with single_thread():
+        with single_thread():
+            for i in progress_iter(range(freqs.size), progress=progress, desc=f"panel {pan.nx}×{pan.ny}"):
                 u = rp.response(2 * np.pi * freqs[i])
-            T[i] = np.sqrt(np.mean(np.abs(u[rp.top_dofs]) ** 2))
+                T[i] = np.sqrt(np.mean(np.abs(u[rp.top_dofs]) ** 2))
         out = {"T": T, "n_reduced": np.array(rp.free.size),
                "n_full": np.array(6 * (len(pan.nodes) + len(pan.struts) * (n - 1)) - rp.base_dofs.size)}
         if n_check:

@@ -38,6 +38,8 @@ DIMENSIONS = {
     "acceleration": "[length] / [time] ** 2",
     "mass_per_length": "[mass] / [length]",
     "mass_per_area": "[mass] / [length] ** 2",
+    "stiffness": "[mass] / [time] ** 2",
+    "rotational_stiffness": "[mass] * [length] ** 2 / [time] ** 2",
     "temperature": "[temperature]",
     "dimensionless": "",
 }

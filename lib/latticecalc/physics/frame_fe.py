@@ -84,6 +84,9 @@ class Section:
     J: float
     kappa: float
     eta: float = 0.0
+    #: Second moment for bending in the element's local x–z plane (m⁴); None: the same as ``I``
+    #: (a circle).  A rectangle has ``I`` for local x–y bending and ``I2`` for x–z.
+    I2: float | None = None
 
 
 _d = sp_sym.Symbol("d")
@@ -271,10 +274,16 @@ def local_element_matrices(L: np.ndarray, sec: Sequence[Section], theory: str):
     rho = np.array([s.rho for s in sec])
     A = np.array([s.A for s in sec])
     In = np.array([s.I for s in sec])
+    In2 = np.array([s.I if s.I2 is None else s.I2 for s in sec])
     J = np.array([s.J for s in sec])
     kap = np.array([s.kappa for s in sec])
     Kb, Mb = plane_bending_matrices(L=L, EI=E * In, kGA=kap * G * A, rhoA=rho * A, rhoI=rho * In,
                                     theory=theory)
+    if np.array_equal(In, In2):
+        Kb2, Mb2 = Kb, Mb
+    else:
+        Kb2, Mb2 = plane_bending_matrices(L=L, EI=E * In2, kGA=kap * G * A, rhoA=rho * A, rhoI=rho * In2,
+                                          theory=theory)
     K = np.zeros((ne, 12, 12))
     M = np.zeros((ne, 12, 12))
     bar = np.array([[1.0, -1.0], [-1.0, 1.0]])
@@ -288,8 +297,8 @@ def local_element_matrices(L: np.ndarray, sec: Sequence[Section], theory: str):
     sgn = np.array([1.0, -1.0, 1.0, -1.0])
     K[:, xy[:, None], xy[None, :]] += Kb
     M[:, xy[:, None], xy[None, :]] += Mb
-    K[:, xz[:, None], xz[None, :]] += Kb * sgn[:, None] * sgn[None, :]
-    M[:, xz[:, None], xz[None, :]] += Mb * sgn[:, None] * sgn[None, :]
+    K[:, xz[:, None], xz[None, :]] += Kb2 * sgn[:, None] * sgn[None, :]
+    M[:, xz[:, None], xz[None, :]] += Mb2 * sgn[:, None] * sgn[None, :]
     return K, M
 
 
@@ -686,16 +695,54 @@ class StrutReduction:
     n_modes: int
 
 
+def check_point_masses(point_masses: Mapping[str, Any] | None, n_elements: int) -> dict[str, tuple[float, float]]:
+    """Validate ``{group: (mass kg, rotary inertia kg·m²)}`` of masses at strut mid-span (SI floats).
+
+    A mass sits on the strut's middle node, so the strut needs an even number of elements.
+    """
+    out: dict[str, tuple[float, float]] = {}
+    for g, pm in (point_masses or {}).items():
+        mass, inertia = (float(pm[0]), float(pm[1]))
+        if not (np.isfinite(mass) and np.isfinite(inertia) and mass >= 0 and inertia >= 0):
+            raise InputError("an added strut mass must be finite and not negative", input_name=f"point_masses[{g!r}]",
+                             expected="mass >= 0 kg, rotary inertia >= 0 kg·m²", got=f"{mass}, {inertia}")
+        if mass > 0 and n_elements % 2:
+            raise InputError("a mass at mid-span needs an even number of elements per strut",
+                             input_name="n_elements", expected="an even integer", got=str(n_elements))
+        if mass > 0:
+            out[str(g)] = (mass, inertia)
+    return out
+
+
+def point_mass_matrix(mesh: FrameMesh, point_masses: Mapping[str, Any] | None) -> sp.csr_matrix:
+    """Lumped masses at strut mid-span, on all DOFs of ``mesh``.
+
+    Mass on the translations and rotary inertia on the rotations of the middle node of each strut of
+    a group listed in ``point_masses`` ({group: (kg, kg·m²)}).
+    """
+    pm = check_point_masses(point_masses, mesh.n_elements)
+    diag = np.zeros(mesh.n_dofs)
+    half = mesh.n_elements // 2
+    for s, g in enumerate(mesh.strut_groups):
+        if g in pm:
+            node = mesh.strut_nodes(s)[half]
+            diag[6 * node:6 * node + 3] += pm[g][0]
+            diag[6 * node + 3:6 * node + 6] += pm[g][1]
+    return sp.diags(diag).tocsr()
+
+
 def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
                   sections: Mapping[str, Section], n_elements: int, n_modes: int,
-                  theory: str = "timoshenko") -> StrutReduction:
+                  theory: str = "timoshenko", point_masses: Mapping[str, Any] | None = None) -> StrutReduction:
     """Reduce every strut to its end nodes and ``n_modes`` fixed-interface modes.
 
     Struts of equal length and group share one reduction in local axes, rotated to each strut.
     ``n_modes`` is capped at the strut's interior DOFs (6 (n − 1)); with all of them kept the
-    reduction is exact.
+    reduction is exact.  ``point_masses`` ({group: (mass kg, rotary inertia kg·m²)}) puts a lumped
+    mass on the middle node of every strut of that group.
     """
     n = check_n_elements(n_elements)
+    pm = check_point_masses(point_masses, n)
     nodes = np.asarray(nodes, float)
     struts = np.asarray(struts, int)
     p1, p2 = nodes[struts[:, 0]], nodes[struts[:, 1]]
@@ -725,6 +772,10 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
             sl = slice(6 * e, 6 * e + 12)
             Ks[sl, sl] += Ke[e]
             Ms[sl, sl] += Me[e]
+        if g in pm:
+            mid = 6 * (n // 2)
+            Ms[mid:mid + 3, mid:mid + 3] += pm[g][0] * np.eye(3)
+            Ms[mid + 3:mid + 6, mid + 3:mid + 6] += pm[g][1] * np.eye(3)
         if n > 1:
             Kii = Ks[np.ix_(inn, inn)]
             Kib = Ks[np.ix_(inn, bnd)]

@@ -67,6 +67,14 @@ class RecordWarning(UserWarning):
     """A record can be used but something in it deserves a look (clipping)."""
 
 
+class DemoRecordError(RecordError):
+    """Synthetic demo data would replace a file, leave the project folder or go through a link.
+
+    Nothing is written.  The error names the input (``record.file``, ``test.input_file``) and the
+    path concerned.
+    """
+
+
 def _unit_of(text: str, *, file: str, line: int | None, column: str) -> tuple[str, str]:
     """Parse a unit text; return (pint unit text, 'acceleration' | 'velocity')."""
     raw = text.strip()
@@ -532,17 +540,19 @@ def random_error(*, bandwidth, duration) -> float:
 
 
 def read_record(path, *, sample_rate=None, unit: str | None = None, full_scale=None,
-                demo_seed: int | None = None) -> Record:
+                demo_seed: int | None = None, demo_input: str = "record.file") -> Record:
     """Read a CSV or ``.npy`` record by its suffix (see :func:`read_csv`, :func:`read_npy`).
 
-    ``demo_seed``: when given and the file does not exist, the invented demo site record
-    (:func:`latticecalc.signals.synthetic.ensure_demo_record`) is written there first.
+    ``demo_seed``: when given and no file (nor link) is at ``path``, the invented demo site record
+    (:func:`latticecalc.signals.synthetic.ensure_demo_record`) is written there first, only inside
+    the project folder and never through a link; :class:`DemoRecordError` (naming ``demo_input``,
+    the input that gave the path) otherwise.  An existing file is read, never replaced.
     """
     p = Path(path)
     if demo_seed is not None and not p.exists():
         from latticecalc.signals.synthetic import ensure_demo_record
 
-        ensure_demo_record(p, seed=int(demo_seed))
+        ensure_demo_record(p, seed=int(demo_seed), input_name=demo_input)
     if p.suffix.lower() == ".npy":
         if sample_rate is None or unit is None:
             raise RecordError("a .npy record needs its sample rate and unit", input_name="record.sample_rate",

@@ -77,6 +77,15 @@ WELCH_BATCH = 32
 _A, _V, _f, _G_aa = sp.symbols("A V f G_aa")
 VELOCITY_FROM_ACCELERATION = Formula("V", _A / (sp.I * 2 * sp.pi * _f))
 ACCELERATION_FROM_VELOCITY = Formula("A", sp.I * 2 * sp.pi * _f * _V)
+# The sheet records real quantities, so the integration and differentiation steps show the modulus
+# of the complex formulas above: derived from the same expressions (amplitudes and frequency taken
+# positive), not typed again.  |V| = |A| / (2π f) and |A| = 2π f |V|.
+_POSITIVE = {_A: sp.Symbol("A", positive=True), _V: sp.Symbol("V", positive=True),
+             _f: sp.Symbol("f", positive=True)}
+VELOCITY_AMPLITUDE = Formula("V_amp", sp.Abs(VELOCITY_FROM_ACCELERATION.expr.subs(_POSITIVE)),
+                             {"V_amp": r"\left|V\right|", "A": r"\left|A\right|"})
+ACCELERATION_AMPLITUDE = Formula("A_amp", sp.Abs(ACCELERATION_FROM_VELOCITY.expr.subs(_POSITIVE)),
+                                 {"A_amp": r"\left|A\right|", "V": r"\left|V\right|"})
 VELOCITY_PSD = Formula("G_vv", _G_aa / (2 * sp.pi * _f) ** 2, {"G_aa": "G_{aa}"})
 _v, _v0, _L, _tau, _fs = sp.symbols("v v_0 L tau f_s")
 VELOCITY_LEVEL = Formula("L_v", 20 * sp.log(_v / _v0, 10))
@@ -298,12 +307,13 @@ def to_velocity(signal, *, sample_rate, highpass=DEFAULT_HIGHPASS) -> SignalResu
     v = sfft.irfft(spec, n=n)
     del spec
     steps = (
-        Step(id="signal.integration", description="Acceleration to velocity, frequency domain",
-             result=Q_(f_hp, "Hz"), formula=VELOCITY_FROM_ACCELERATION,
-             values={"A": Q_(1.0, "m/s^2"), "f": Q_(f_hp, "Hz")}, source=BRANDT_2011,
-             note=f"Shown for a unit amplitude at the high-pass frequency. High-pass: zero below "
-                  f"{f_hp / 2:g} Hz (including the mean), half-cosine taper to 1 at {f_hp:g} Hz; the "
-                  "record is treated as periodic."),
+        evaluate(VELOCITY_AMPLITUDE, id="signal.integration", description="Acceleration to velocity, "
+                 "frequency domain", values={"A": Q_(1.0, "m/s^2"), "f": Q_(f_hp, "Hz")}, unit="m/s",
+                 source=BRANDT_2011,
+                 note=f"Applied bin by bin as V(f) = A(f) / (j 2π f) (velocity lags acceleration by 90°); the "
+                      f"modulus is shown for a unit amplitude at the high-pass frequency. High-pass: zero below "
+                      f"{f_hp / 2:g} Hz (including the mean), half-cosine taper to 1 at {f_hp:g} Hz; the "
+                      "record is treated as periodic."),
     )
     return SignalResult(value=Q_(v, "m/s"), steps=steps, sample_rate=Q_(fs, "Hz"))
 
@@ -317,10 +327,11 @@ def to_acceleration(signal, *, sample_rate) -> SignalResult:
     freq = sfft.rfftfreq(v.size, 1.0 / fs)
     a_spec = ACCELERATION_FROM_VELOCITY.evaluate({"V": Q_(spec, "m/s"), "f": Q_(freq, "Hz")}).to("m/s^2").m
     a = sfft.irfft(a_spec, n=v.size)
-    step = Step(id="signal.differentiation", description="Velocity to acceleration, frequency domain",
-                result=Q_(2 * math.pi, "m/s^2"), formula=ACCELERATION_FROM_VELOCITY,
-                values={"V": Q_(1.0, "m/s"), "f": Q_(1.0, "Hz")}, source=BRANDT_2011,
-                note="Shown for a unit velocity at 1 Hz.")
+    step = evaluate(ACCELERATION_AMPLITUDE, id="signal.differentiation", description="Velocity to "
+                    "acceleration, frequency domain", values={"V": Q_(1.0, "m/s"), "f": Q_(1.0, "Hz")},
+                    unit="m/s^2", source=BRANDT_2011,
+                    note="Applied bin by bin as A(f) = j 2π f V(f) (acceleration leads velocity by 90°); the "
+                         "modulus is shown for a unit velocity at 1 Hz.")
     return SignalResult(value=Q_(a, "m/s^2"), steps=(step,), sample_rate=Q_(fs, "Hz"))
 
 
@@ -405,10 +416,10 @@ def narrowband_spectrum(signal, *, sample_rate, resolution=NARROWBAND_RESOLUTION
     g = gvv.m * (f >= f_hp)
     rms = np.sqrt(g * float(spec.resolution.m))
     lev = velocity_level(Q_(np.maximum(rms, 1e-30), "m/s"), id="narrowband.level").value
-    conv = Step(id="narrowband.velocity-psd", description="Velocity PSD from acceleration PSD",
-                result=Q_(1.0 / (2 * math.pi) ** 2, "(m/s)^2/Hz"), formula=VELOCITY_PSD,
-                values={"G_aa": Q_(1.0, "(m/s^2)^2/Hz"), "f": Q_(1.0, "Hz")}, source=BRANDT_2011,
-                note="Shown for a unit PSD at 1 Hz; applied bin by bin.") if kind == "acceleration" else None
+    conv = evaluate(VELOCITY_PSD, id="narrowband.velocity-psd", description="Velocity PSD from acceleration PSD",
+                    values={"G_aa": Q_(1.0, "(m/s^2)^2/Hz"), "f": Q_(1.0, "Hz")}, unit="(m/s)^2/Hz",
+                    source=BRANDT_2011, note="Shown for a unit PSD at 1 Hz; applied bin by bin."
+                    ) if kind == "acceleration" else None
     steps = spec.steps + ((conv,) if conv else ())
     return Spectrum(value={"frequency": spec.value["frequency"], "psd": Q_(g, "(m/s)^2/Hz"),
                            "rms": Q_(rms, "m/s"), "level": lev}, steps=steps,
@@ -539,10 +550,10 @@ def third_octave_levels(signal, *, sample_rate, quantity: str = "acceleration", 
                "Accuracy: a tone at a midband frequency within 0.5 % of its RMS; not a class 1 filter bank.")
     conv = []
     if kind == "acceleration":
-        conv.append(Step(id=f"{id_prefix}.velocity-psd", description="Velocity PSD from acceleration PSD",
-                         result=Q_(1.0 / (2 * math.pi) ** 2, "(m/s)^2/Hz"), formula=VELOCITY_PSD,
-                         values={"G_aa": Q_(1.0, "(m/s^2)^2/Hz"), "f": Q_(1.0, "Hz")}, source=BRANDT_2011,
-                         note="Shown for a unit PSD at 1 Hz; applied bin by bin."))
+        conv.append(evaluate(VELOCITY_PSD, id=f"{id_prefix}.velocity-psd", description="Velocity PSD from "
+                             "acceleration PSD", values={"G_aa": Q_(1.0, "(m/s^2)^2/Hz"), "f": Q_(1.0, "Hz")},
+                             unit="(m/s)^2/Hz", source=BRANDT_2011,
+                             note="Shown for a unit PSD at 1 Hz; applied bin by bin."))
     bt = width0 * duration
     err = quantity_step(id=f"{id_prefix}.random-error", description="Random error of the lowest band's "
                         "mean square, 1/sqrt(B·T)", value=Q_(1 / math.sqrt(bt), ""),

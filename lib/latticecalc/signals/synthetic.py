@@ -11,6 +11,8 @@ All values are chosen for the demo; every generator is seeded, so records are re
 from __future__ import annotations
 
 import math
+import os
+import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -21,7 +23,7 @@ from scipy import signal as ssig
 
 from latticecalc.errors import InputError
 from latticecalc.sheet import CalcResult, Source, quantity_step
-from latticecalc.signals.records import Record, from_array
+from latticecalc.signals.records import DemoRecordError, Record, from_array
 from latticecalc.units import Q_, check_dimension, check_positive
 
 HUANG_2009 = Source(author="Huang, H. H., Sun, C. T. & Huang, G. L.", title="On the negative effective "
@@ -253,29 +255,182 @@ def as_quantity(record: Record, channel: str) -> pint.Quantity:
     return record.channel(channel)
 
 
-def ensure_demo_record(path, *, seed: int, duration=_DEMO_DURATION, passbys: int = 4) -> Path:
-    """Write the invented site's record to ``path`` (CSV) unless the file exists; return the path.
+#: Files that mark a project folder (the same pair the project loader looks for).
+PROJECT_MARKERS = ("template.toml", "project.toml")
+_NO_DATA_HINT = ("Nothing was written. Give a path inside the project folder where no file is, or give the real "
+                 "record and delete the demo seed input")
+
+
+def _is_project(folder: Path) -> bool:
+    return all((folder / name).is_file() for name in PROJECT_MARKERS)
+
+
+def _project_folder(path: Path) -> Path | None:
+    """The project folder demo data may go to (resolved), or ``None`` outside any project.
+
+    A notebook runs in its project folder, so the current folder's project wins; otherwise the
+    nearest folder on ``path`` that holds ``template.toml`` and ``project.toml``.
+    """
+    here = Path.cwd().resolve()
+    for folder in (here, *here.parents):
+        if _is_project(folder):
+            return folder
+    for folder in path.parents:
+        if _is_project(folder):
+            return folder.resolve()
+    return None
+
+
+def _state(path: Path) -> str:
+    if path.is_symlink() and not path.exists():
+        return "is a link to nothing"
+    return "exists" if os.path.lexists(path) else "is missing"
+
+
+def _demo_target(path, *, input_name: str) -> Path:
+    """The absolute path where a demo record may be created, or :class:`DemoRecordError`.
+
+    Refused: a path with ``..``, a path outside the project folder (resolved), a path through a
+    link inside the project (or, outside any project, through a link at the nearest existing
+    folder), and any path where a file or link already is.
+    """
+    p = Path(path).absolute()
+    where = str(path)
+    if ".." in p.parts:
+        raise DemoRecordError("a demo record is never written through '..'", input_name=input_name,
+                              expected="a path inside the project folder without '..'", got=where, file=where,
+                              hint=_NO_DATA_HINT)
+    if os.path.lexists(p):
+        raise DemoRecordError(f"the path {_state(p)}: demo data never replace a file or follow a link",
+                              input_name=input_name, expected="no file at this path", got=where, file=where,
+                              hint=_NO_DATA_HINT)
+    root = _project_folder(p)
+    for q in p.parents:
+        if not os.path.lexists(q):
+            continue                       # created below, as a real folder
+        if root is None:                   # outside any project: the nearest existing folder bounds it
+            if q.is_symlink():
+                raise _link_error(q, where, input_name)
+            return p
+        if not _inside(q, root):
+            break
+        if q.resolve() == root and not _inside(q.parent, root):
+            return p                       # the project folder itself
+        if q.is_symlink():
+            raise _link_error(q, where, input_name)
+    raise DemoRecordError("the path is outside the project folder: demo data are written only inside it",
+                          input_name=input_name, expected=f"a path inside {root}", got=f"{where} "
+                          f"(resolves to {p.resolve()})", file=where, hint=_NO_DATA_HINT)
+
+
+def _inside(path: Path, root: Path) -> bool:
+    real = path.resolve()
+    return real == root or root in real.parents
+
+
+def _link_error(link: Path, where: str, input_name: str) -> DemoRecordError:
+    return DemoRecordError(f"the folder {link} is a link: demo data are never written through a link",
+                           input_name=input_name, expected="a path of real folders inside the project",
+                           got=where, file=where, hint=_NO_DATA_HINT)
+
+
+def _stage_csv(record: Record, target: Path, *, digits: int) -> Path:
+    """Write ``record`` as CSV to a new temporary file beside ``target``; return the temporary path."""
+    target.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=target.parent)
+    os.close(fd)
+    try:
+        write_csv(record, tmp, digits=digits)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+    return Path(tmp)
+
+
+def _publish(tmp: Path, target: Path, *, input_name: str) -> None:
+    """Give the staged file its name only if nothing is there (a hard link never replaces a file)."""
+    try:
+        try:
+            os.link(tmp, target)
+        except FileExistsError:
+            raise DemoRecordError("a file appeared at the path while the demo record was written",
+                                  input_name=input_name, got=str(target), file=str(target),
+                                  hint=_NO_DATA_HINT) from None
+        except OSError:                    # no hard links here: exclusive create, never through a link
+            flags = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_NOFOLLOW", 0)
+            try:
+                fd = os.open(target, flags, 0o666)
+            except FileExistsError:
+                raise DemoRecordError("a file appeared at the path while the demo record was written",
+                                      input_name=input_name, got=str(target), file=str(target),
+                                      hint=_NO_DATA_HINT) from None
+            with os.fdopen(fd, "wb") as out:
+                out.write(tmp.read_bytes())
+    finally:
+        tmp.unlink(missing_ok=True)
+
+
+def ensure_demo_record(path, *, seed: int, duration=_DEMO_DURATION, passbys: int = 4,
+                       input_name: str = "record.file") -> Path:
+    """Write the invented site's record to ``path`` (CSV) unless a file is there; return the path.
 
     Used by the demo survey project so that no record data need be committed: the record is made
-    from ``seed`` at the first run.
+    from ``seed`` at the first run.  An existing file is left as it is (and read by the caller).
+    The record is written only inside the project folder, never through a link nor over a file;
+    otherwise :class:`~latticecalc.signals.records.DemoRecordError` names ``input_name`` and the path.
     """
     p = Path(path)
-    if not p.exists():
-        p.parent.mkdir(parents=True, exist_ok=True)
-        rec = site_record(duration=duration, sample_rate=_SITE_RATE, passbys=passbys, seed=seed,
-                          name=p.name)
-        write_csv(rec, p, digits=5)
+    if p.exists():
+        return p
+    target = _demo_target(p, input_name=input_name)
+    rec = site_record(duration=duration, sample_rate=_SITE_RATE, passbys=passbys, seed=seed, name=p.name)
+    _publish(_stage_csv(rec, target, digits=5), target, input_name=input_name)
     return p
 
 
 def ensure_demo_test(input_path, output_path, *, seed: int, resonance=_TEST_RESONANCE,
-                     duration=_TEST_DURATION) -> tuple[Path, Path]:
-    """Write the synthetic prototype test's input and output records (CSV) unless both exist."""
+                     duration=_TEST_DURATION,
+                     input_names: tuple[str, str] = ("test.input_file", "test.output_file")) -> tuple[Path, Path]:
+    """Write the synthetic prototype test's input and output records (CSV) when neither file exists.
+
+    Both files there: nothing is written.  One of them there (or a link to nothing at either
+    path): :class:`~latticecalc.signals.records.DemoRecordError`, since writing the pair would
+    replace a file the kit may not have made, and writing one half would pair it with another test.
+    The records are written only inside the project folder and never through a link.
+    """
     pi, po = Path(input_path), Path(output_path)
-    if not (pi.exists() and po.exists()):
-        pi.parent.mkdir(parents=True, exist_ok=True)
-        po.parent.mkdir(parents=True, exist_ok=True)
-        test = prototype_test(resonance=resonance, duration=duration, seed=seed)
-        write_csv(test.value["input"], pi, digits=6)
-        write_csv(test.value["output"], po, digits=6)
+    if pi.exists() and po.exists():
+        return pi, po
+    if os.path.lexists(pi) or os.path.lexists(po):
+        states = f"{input_names[0]} {pi} {_state(pi)}, {input_names[1]} {po} {_state(po)}"
+        pairs = tuple(zip(input_names, (pi, po)))
+        name, path = ([(n, q) for n, q in pairs if q.is_symlink() and not q.exists()]
+                      or [(n, q) for n, q in pairs if not os.path.lexists(q)])[0]
+        raise DemoRecordError("one record of the test pair is there and the other is not: demo data are "
+                              "generated only where neither file exists", input_name=name,
+                              expected="both records, or neither (demo)", got=states, file=str(path),
+                              hint="Put the missing record in place, or for a fresh demo delete both files; "
+                                   "for a real test delete test.demo_seed. Nothing was written")
+    t_in = _demo_target(pi, input_name=input_names[0])
+    t_out = _demo_target(po, input_name=input_names[1])
+    if t_in == t_out:
+        raise DemoRecordError("the input and output records are the same file", input_name=input_names[1],
+                              expected=f"a path other than {input_names[0]}", got=str(po), file=str(po))
+    test = prototype_test(resonance=resonance, duration=duration, seed=seed)
+    staged_in = _stage_csv(test.value["input"], t_in, digits=6)
+    try:
+        staged_out = _stage_csv(test.value["output"], t_out, digits=6)
+    except BaseException:
+        staged_in.unlink(missing_ok=True)
+        raise
+    try:
+        _publish(staged_in, t_in, input_name=input_names[0])
+    except BaseException:
+        staged_out.unlink(missing_ok=True)
+        raise
+    try:
+        _publish(staged_out, t_out, input_name=input_names[1])
+    except BaseException:
+        t_in.unlink(missing_ok=True)       # made by this call a moment ago: the pair is all or nothing
+        raise
     return pi, po

@@ -61,7 +61,7 @@ BASE_CURVE_HIGH = Formula("a_b", _a0 * (_f / _f0))
 VELOCITY_LIMIT = Formula("v_lim", _k * _a / (2 * sp.pi * _f), {"v_lim": r"v_{\mathrm{lim}}"})
 #: Exceedance of a band level over its limit and the insertion loss it requires.
 EXCEEDANCE = Formula("Delta_L", 20 * sp.log(_v / _vl, 10), {"v_lim": r"v_{\mathrm{lim}}"})
-REQUIRED_LOSS = Formula("IL_req", _dl + _margin, {"IL_req": r"IL_{\mathrm{req}}"})
+REQUIRED_LOSS = Formula("IL_req", sp.Max(_dl + _margin, 0), {"IL_req": r"IL_{\mathrm{req}}"})
 
 _BASE_SEGMENTS = ((1.0, 4.0, BASE_CURVE_LOW, 1e-2), (4.0, 8.0, BASE_CURVE_MID, 5e-3),
                   (8.0, 80.0, BASE_CURVE_HIGH, 6.25e-4))
@@ -246,7 +246,7 @@ def assess(*, levels, criterion: str, margin=None, overall=None) -> Assessment:
                       "band is below the criterion)", values={"Delta_L": Q_(exc[ok], ""), "m": Q_(m, "")},
                       unit="", source=Source(author="common practice", title="required insertion loss = "
                                              "exceedance + design margin", tag="common practice"))
-    req[ok] = np.maximum(step_r.result.m, 0.0)
+    req[ok] = step_r.result.m
     step_r = _db(step_r, req[ok])
     steps = list(curve.steps) + [step_e, step_r]
     k = int(np.nanargmax(np.where(ok, exc, -np.inf)))

@@ -359,10 +359,11 @@ def _joint_maps(pf: PeriodicFrame, extra: int):
 
 def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int,
                      strut_modes: int, theory: str, part: str | None = "lattice",
-                     supports: Mapping[int, Sequence[str]] | None = None) -> BlochOperator:
+                     supports: Mapping[int, Sequence[str]] | None = None,
+                     point_masses: Mapping[str, Any] | None = None) -> BlochOperator:
     """Bloch operator of the strut-reduced model (joints + ``strut_modes`` modes per strut), dense."""
     red = fe.reduce_struts(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, sections=sections,
-                           n_elements=n_elements, n_modes=strut_modes, theory=theory)
+                           n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses)
     K, M = fe.reduced_matrices(red, n_joints=len(pf.nodes))
     Mp = fe.reduced_matrices(red, n_joints=len(pf.nodes), group=part)[1] if part in pf.groups else None
     extra = K.shape[0] - 6 * len(pf.nodes)
@@ -372,14 +373,26 @@ def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n
 
 
 def full_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int, theory: str,
-                  part: str | None = "lattice", supports: Mapping[int, Sequence[str]] | None = None) -> BlochOperator:
+                  part: str | None = "lattice", supports: Mapping[int, Sequence[str]] | None = None,
+                  point_masses: Mapping[str, Any] | None = None) -> BlochOperator:
     """Bloch operator of the full (unreduced) frame mesh, sparse."""
     mesh = fe.mesh_frame(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, n_elements=n_elements)
     asm = fe.assemble(mesh, sections, theory=theory)
     extra = mesh.n_dofs - 6 * len(pf.nodes)
     dm, do, nr = _joint_maps(pf, extra)
     Mp = asm.M_by_group.get(part) if part else None
-    return _drop(BlochOperator(K=asm.K, M=asm.M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp),
+    M = asm.M
+    if point_masses:
+        added = fe.point_mass_matrix(mesh, point_masses)
+        M = (M + added).tocsr()
+        if Mp is not None:
+            keep = np.zeros(mesh.n_dofs)
+            for s_, g in enumerate(mesh.strut_groups):
+                if g == part and g in point_masses:
+                    node = mesh.strut_nodes(s_)[mesh.n_elements // 2]
+                    keep[6 * node:6 * node + 6] = 1.0
+            Mp = (Mp + sp.diags(keep) @ added).tocsr()
+    return _drop(BlochOperator(K=asm.K, M=M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp),
                  _restrained_dofs(pf, supports))
 
 
@@ -590,7 +603,8 @@ def _cell_key(cell: Any, materials: Mapping[str, Any]) -> tuple:
     props = ("youngs_modulus", "poissons_ratio", "density", "loss_factor", "dynamic_to_static", "long_term_factor")
     mats = {g: {a: getattr(m, a, None) for a in props} for g, m in materials.items()}
     return (np.asarray(cell.nodes.to("m").magnitude), np.asarray(cell.struts), list(map(str, cell.groups)),
-            dict(cell.diameters), np.asarray(getattr(cell, "weights", [])), mats)
+            dict(cell.diameters), np.asarray(getattr(cell, "weights", [])), mats,
+            sorted(fe.cell_point_masses(cell).items()))
 
 
 def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, n_bands: int = 30,
@@ -670,12 +684,16 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
     kz = zone_samples(n_per_axis=zone_points, axes=axes, periods=pf.periods, zone=zone) if zone_points else \
         np.zeros((0, 3))
 
+    pm = fe.check_point_masses(fe.cell_point_masses(cell), n)
+
     def operator(n_el: int) -> BlochOperator:
+        if pm and n_el % 2:
+            n_el += 1                  # an added mass sits on the strut's middle node
         if method == "full":
             return full_operator(pf, sections, n_elements=n_el, theory=theory, part=energy_group,
-                                 supports=supports)
+                                 supports=supports, point_masses=pm)
         return reduced_operator(pf, sections, n_elements=n_el, strut_modes=sm, theory=theory, part=energy_group,
-                                supports=supports)
+                                supports=supports, point_masses=pm)
 
     def compute() -> dict[str, np.ndarray]:
         op = operator(n)
@@ -795,7 +813,8 @@ def band_mode_shape(cell: Any, *, materials: Mapping[str, Any], wave_vector: Any
     pf = periodic_frame(cell, periodic=periodic)
     sections = fe.sections_for(cell, materials)
     k = np.asarray(Q_(wave_vector).to("rad/m").magnitude if hasattr(wave_vector, "to") else wave_vector, float)
-    op = full_operator(pf, sections, n_elements=n_elements, theory=theory, part=energy_group)
+    op = full_operator(pf, sections, n_elements=n_elements, theory=theory, part=energy_group,
+                       point_masses=fe.cell_point_masses(cell))
     w2, x = op.solve(k, band + 1, vectors=True)
     v = x[:, band]
     share = float(op.energy_fraction(k, v[:, None])[0])

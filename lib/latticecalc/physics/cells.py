@@ -162,6 +162,9 @@ class Cell:
         Strut diameter of each group [length].
     weights:
         Share of each strut belonging to this cell (1, 1/2 on a face, 1/4 on an edge).
+    point_masses:
+        Masses added at mid-span of every strut of a group: group -> (mass [mass], rotary inertia
+        [mass × length²]) (see :meth:`with_point_mass`); empty by default.
     """
 
     kind: str
@@ -171,6 +174,8 @@ class Cell:
     groups: tuple[str, ...]
     diameters: Mapping[str, pint.Quantity]
     weights: np.ndarray
+    point_masses: Mapping[str, tuple[pint.Quantity, pint.Quantity]] = dataclasses.field(
+        default_factory=lambda: MappingProxyType({}))
 
     # geometry --------------------------------------------------------------------------------
     @property
@@ -283,6 +288,27 @@ class Cell:
         cell = dataclasses.replace(self, diameters=MappingProxyType(new))
         _check_fit(cell)
         return cell
+
+    def with_point_mass(self, group: str, *, mass: Any, rotary_inertia: Any = None) -> Cell:
+        """A copy with a mass [mass] at mid-span of every strut of ``group`` (zero mass removes it).
+
+        ``rotary_inertia`` [mass × length²] about any axis through its centre (0 when not given).
+        """
+        if group not in self.group_names:
+            raise InputError("no such strut group in the cell", input_name="point_masses",
+                             expected="one of " + ", ".join(self.group_names), got=repr(group))
+        m = check_dimension(mass, name=f"{group} added mass", expected="mass").to("kg")
+        j = check_dimension(Q_(0.0, "kg*m^2") if rotary_inertia is None else rotary_inertia,
+                            name=f"{group} added rotary inertia", expected="kg*m^2").to("kg*m^2")
+        if not (math.isfinite(float(m.m)) and m.m >= 0 and math.isfinite(float(j.m)) and j.m >= 0):
+            raise InputError("an added strut mass must be finite and not negative", input_name="lattice.added_mass",
+                             expected=">= 0 kg", got=format_quantity(m))
+        new = dict(self.point_masses)
+        if m.m > 0:
+            new[group] = (m, j)
+        else:
+            new.pop(group, None)
+        return dataclasses.replace(self, point_masses=MappingProxyType(new))
 
     def with_cell_width(self, cell_width: Any) -> Cell:
         """A copy scaled to a new cell width (diameters unchanged)."""

@@ -313,6 +313,9 @@ def relative_density(cell: Cell, method: str = "closed-form", *, samples: int = 
 _rho, _rbar, _n, _m, _A, _H, _mcol = sp.symbols("rho rho_rel n m A H m_col")
 CELL_MASS = Formula("m_cell", _rho * _rbar * _a**3, {"rho_rel": r"\bar{\rho}", "m_cell": r"m_\mathrm{cell}"})
 MASS_PER_AREA = Formula("m_A", _m / _A, {"m_A": r"m''"})
+_Na, _Ma = sp.symbols("N M_a")
+#: Masses added at mid-span: one per strut.
+ADDED_MASS = Formula("m_add", _Na * _Ma, latex_names={"m_add": r"m_\mathrm{added}", "M_a": r"M_\mathrm{a}"})
 MASS_PER_LENGTH = Formula("m_L", _m / _H, {"m_L": r"m'"})
 MASS_RATIO = Formula("mu", sp.Symbol("m_L") / _mcol,
                      {"mu": r"\mu", "m_L": r"m'", "m_col": r"m'_\mathrm{col}"})
@@ -443,7 +446,15 @@ def panel_mass(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, 
             source=PANEL_STRUTS)
         steps.append(panel_by_group[g])
     total = sum((s.result for s in panel_by_group.values()), Q_(0.0, "kg"))
-    steps.append(quantity_step(id=f"{id_prefix}.panel", description="Panel mass, all strut groups",
+    for g, (m_added, _j) in getattr(cell, "point_masses", {}).items():
+        n_struts = int(round(float(counts[cell.group_mask(g)].sum())))
+        added = evaluate(ADDED_MASS, id=f"{id_prefix}.added.{g}", description=f"Masses added at mid-span of the "
+                         f"{g} struts in the panel", values={"N": Q_(n_struts, ""), "M_a": m_added}, unit="kg",
+                         source=PANEL_STRUTS)
+        steps.append(added)
+        total = total + added.result
+    steps.append(quantity_step(id=f"{id_prefix}.panel", description="Panel mass, all strut groups"
+                               + (" and added masses" if getattr(cell, "point_masses", {}) else ""),
                                value=total, unit="kg", method="sum over the groups"))
     area = (nx * a) * (nz * a)
     height = nz * a

@@ -714,6 +714,12 @@ def check_point_masses(point_masses: Mapping[str, Any] | None, n_elements: int) 
     return out
 
 
+def cell_point_masses(cell: Any) -> dict[str, tuple[float, float]]:
+    """A cell's added strut masses as SI floats, {group: (kg, kg·m²)} (empty when it has none)."""
+    return {g: (float(m.to("kg").m), float(j.to("kg*m^2").m))
+            for g, (m, j) in getattr(cell, "point_masses", {}).items()}
+
+
 def point_mass_matrix(mesh: FrameMesh, point_masses: Mapping[str, Any] | None) -> sp.csr_matrix:
     """Lumped masses at strut mid-span, on all DOFs of ``mesh``.
 

@@ -112,9 +112,9 @@ class _ReducedPanel:
     """Joint-level dynamic stiffness of the strut-reduced panel, one sparse solve per frequency."""
 
     def __init__(self, pan: PanelFrame, sections: Mapping[str, fe.Section], *, n_elements: int,
-                 strut_modes: int, theory: str, direction: int) -> None:
+                 strut_modes: int, theory: str, direction: int, point_masses: Mapping[str, Any] | None = None) -> None:
         red = fe.reduce_struts(nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
-                               n_elements=n_elements, n_modes=strut_modes, theory=theory)
+                               n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses)
         self.red = red
         eta = np.array([sections[g].eta for g in pan.groups])
         self.factor = 1.0 + 1j * eta
@@ -192,12 +192,14 @@ def symmetric_solve(A, b):
 
 
 def _full_response(pan: PanelFrame, sections, *, n_elements: int, theory: str, direction: int,
-                   omegas: Sequence[float]) -> np.ndarray:
+                   omegas: Sequence[float], point_masses: Mapping[str, Any] | None = None) -> np.ndarray:
     """Transmissibility of the full (unreduced) mesh by direct sparse solves at ``omegas``."""
     model = fe.build_frame(nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
                            n_elements=n_elements, theory=theory)
     Kc = model.matrices.damped_stiffness(sections)
     M = model.matrices.M
+    if point_masses:
+        M = (M + fe.point_mass_matrix(model.mesh, point_masses)).tocsr()
     base_dofs = (6 * pan.base[:, None] + np.arange(6)).ravel()
     free = np.setdiff1d(fe.used_dofs(model.mesh), base_dofs)
     ub = np.zeros(base_dofs.size)
@@ -330,9 +332,11 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     sections, section_steps = fe.sections_for(cell, materials, with_steps=True, id_prefix=f"{id_prefix}.section")
     pan = panel_frame(cell, nx=nx, ny=ny)
     n_check = int(check_points)
+    pm = fe.check_point_masses(fe.cell_point_masses(cell), n)
 
     def compute():
-        rp = _ReducedPanel(pan, sections, n_elements=n, strut_modes=strut_modes, theory=theory, direction=d)
+        rp = _ReducedPanel(pan, sections, n_elements=n, strut_modes=strut_modes, theory=theory, direction=d,
+                           point_masses=pm)
         T = np.zeros(freqs.size)
         with single_thread():
             for i in progress_iter(range(freqs.size), progress=progress, desc=f"panel {pan.nx}×{pan.ny}"):
@@ -343,7 +347,7 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
         if n_check:
             idx = np.unique(np.linspace(0, freqs.size - 1, n_check + 2).round().astype(int)[1:-1])
             out["check_idx"] = idx
-            out["check_full"] = _full_response(pan, sections, n_elements=n, theory=theory, direction=d,
+            out["check_full"] = _full_response(pan, sections, n_elements=n, theory=theory, direction=d, point_masses=pm,
                                                omegas=2 * np.pi * freqs[idx])
         return out
 
@@ -511,13 +515,18 @@ def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int =
     pan = panel_frame(cell, nx=nx, ny=ny)
     model = fe.build_frame(nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
                            n_elements=n_elements, theory=theory)
+    pm = fe.cell_point_masses(cell)
+    if pm and n_elements % 2:
+        raise InputError("a mass at mid-span needs an even number of elements per strut", input_name="n_elements",
+                         expected="an even integer", got=str(n_elements))
+    M = (model.matrices.M + fe.point_mass_matrix(model.mesh, pm)).tocsr() if pm else model.matrices.M
     rz = np.zeros(model.n_dofs)
     rz[2::6] = 1.0
-    loads = -g.to("m/s^2").magnitude * (model.matrices.M @ rz)
+    loads = -g.to("m/s^2").magnitude * (M @ rz)
     fixed = (6 * pan.base[:, None] + np.arange(6)).ravel()
     u = fe.static_solve(model, fixed_dofs=fixed, loads=loads)
     top_w = u[6 * pan.top + 2]
-    mass = float(rz @ (model.matrices.M @ rz))
+    mass = float(rz @ (M @ rz))
     # joints on the stiff load path (frame members) settle as the panel does; lattice-only top
     # joints (face centres hanging on soft struts) also sag locally, so they are reported apart
     on_frame = np.zeros(len(pan.nodes), bool)

@@ -152,3 +152,12 @@ def test_central_mass_frequency_against_the_fe_strut():
         if rho < 10:
             # strut mass 1e-3 of the central mass: the massless-beam formula holds to 2e-4
             assert f_fe == pytest.approx(np.sqrt(192 * E * sec.I / (M * L**3)) / (2 * np.pi), rel=1e-3)
+
+
+def test_a_negative_insertion_loss_never_meets_a_requirement():
+    # common practice: a panel that makes the floor louder (IL < 0) fails "predicted >= required"
+    checks = receiver.peak_checks(frequency=Q_([30.0, 50.0], "Hz"), insertion_loss=np.array([-0.4, -0.4]),
+                                  peaks=Q_([40.0], "Hz"), required=[3.0])
+    chk = [s for s in checks.steps if s.id == "receiver.check-peak1"][0]
+    assert not chk.ok and chk.utilisation == float("inf")
+    assert not checks.all_ok

@@ -630,7 +630,7 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
     column_spacing = COLUMN_SPACING if column_spacing is None else column_spacing
     spacing = float(check_positive(check_dimension(column_spacing, name="column_spacing", expected="length"),
                                    name="column_spacing").to("m").m)
-    pm = fe.check_point_masses(point_masses, n)
+    pm = fe.check_point_masses({**fe.cell_point_masses(cell), **dict(point_masses or {})}, n)
     chk = np.zeros(0) if check_frequencies is None else np.atleast_1d(
         check_dimension(check_frequencies, name="check_frequencies", expected="frequency").to("Hz").m)
     counts = sorted({int(c) for c in mode_counts if 0 <= int(c) < strut_modes} | {int(strut_modes)})
@@ -801,7 +801,7 @@ class PeakChecks(CalcResult):
 
 
 def peak_checks(*, frequency: Any, insertion_loss: np.ndarray, peaks: Any, required: Any,
-                id_prefix: str = "receiver") -> PeakChecks:
+                required_source: str = "site survey", id_prefix: str = "receiver") -> PeakChecks:
     """For each targeted peak N: ``<prefix>.il-peak<N>`` (the computed IL there) and ``<prefix>.check-peak<N>``.
 
     The check reads "predicted insertion loss ≥ required insertion loss".  The IL at a peak is read
@@ -825,6 +825,9 @@ def peak_checks(*, frequency: Any, insertion_loss: np.ndarray, peaks: Any, requi
     il = np.interp(fp, f, insertion_loss)
     steps = []
     for k in range(fp.size):
+        steps.append(quantity_step(id=f"{id_prefix}.required-peak{k + 1}", description=f"Insertion loss required "
+                                   f"at peak {k + 1} ({fp[k]:.4g} Hz)", value=Q_(float(req[k]), "dB"), sig=3,
+                                   method=required_source, source=CREMER_HECKL))
         steps.append(quantity_step(id=f"{id_prefix}.il-peak{k + 1}", description=f"Predicted insertion loss at the "
                                    f"floor, peak {k + 1} ({fp[k]:.4g} Hz)", value=Q_(float(il[k]), "dB"), sig=3,
                                    method="coupled column–panel model (this section)", source=CREMER_HECKL))
@@ -896,7 +899,8 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
     direction:
         Ground-motion direction (``"along"``, ``"normal"``, ``"vertical"``).
     added_mass:
-        Mass added at mid-span of every lattice strut [mass].
+        Mass added at mid-span of every lattice strut [mass]; default: the cell's own
+        (``cell.point_masses["lattice"]``), none when it has none.
     required:
         Required insertion loss [dB] (a Quantity or number; the largest is used) for the mass ratio
         that would be needed; None to skip.
@@ -906,8 +910,9 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
     if direction not in DIRECTIONS:
         raise InputError("unknown ground-motion direction", input_name="receiver.direction",
                          expected=", ".join(DIRECTIONS), got=repr(direction))
-    Ma = check_dimension(Q_(0.0, "kg") if added_mass is None else added_mass, name="lattice.added_mass",
-                         expected="mass").to("kg")
+    if added_mass is None:
+        added_mass = getattr(cell, "point_masses", {}).get("lattice", (Q_(0.0, "kg"),))[0]
+    Ma = check_dimension(added_mass, name="lattice.added_mass", expected="mass").to("kg")
     if not Ma.m >= 0:
         raise InputError("the added strut mass cannot be negative", input_name="lattice.added_mass",
                          expected=">= 0 kg", got=format_quantity(Ma))

@@ -234,7 +234,10 @@ class Check:
         lim = float(self.limit.magnitude)
         if self.sense == "max":
             return d / lim if lim != 0 else float("inf")
-        return lim / d if d != 0 else float("inf")
+        if d > 0:
+            return lim / d
+        # a demand of zero or below never reaches a positive limit (e.g. an insertion loss that is negative)
+        return 0.0 if lim <= d else float("inf")
 
     @property
     def ok(self) -> bool:

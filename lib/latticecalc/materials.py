@@ -13,6 +13,14 @@ Elastomers (and polymers) carry, besides the static Young's modulus:
   temperature range over the value at room temperature (:meth:`Material.modulus_range`);
 * ``long_term_factor``: long-term (creep) modulus under sustained load over the short-term
   modulus (:meth:`Material.long_term_modulus`), used for self-weight under permanent load.
+
+**No silent defaults.**  A :class:`Material` records in ``stated`` which fields its data gave
+(the catalogue entry, the project's ``[materials.<key>]`` table, or the arguments of a direct
+construction); the others hold the historical defaults (η = 0, factors 1) but are not stated.  A
+material used for vibration must state its loss factor and dynamic-to-static ratio
+(:func:`require_for_vibration`, :func:`check_column_material`); one under permanent load its
+long-term factor (:func:`require_for_permanent_load`).  A missing one is an :class:`InputError`
+naming the material, the field and the file.
 """
 
 from __future__ import annotations
@@ -54,6 +62,30 @@ _QUANTITY_FIELDS = {"youngs_modulus": "pressure", "density": "density"}
 _NUMBER_FIELDS = ("poissons_ratio", "loss_factor", "dynamic_to_static", "modulus_low_factor",
                   "modulus_high_factor", "long_term_factor")
 _TEXT_FIELDS = ("name", "category", "service_temperature")
+#: Fields that describe the material (not its key, sources, or where it was read from).
+DATA_FIELDS = ("name", "youngs_modulus", "poissons_ratio", "density", "loss_factor", "category",
+               "dynamic_to_static", "modulus_low_factor", "modulus_high_factor", "long_term_factor",
+               "service_temperature")
+_REQUIRED_FIELDS = ("name", "youngs_modulus", "poissons_ratio", "density")
+
+#: What a use needs, and what each missing field is expected to be (the text of the input error).
+VIBRATION_FIELDS = {
+    "loss_factor": "a loss factor (0 <= η < 1) from the supplier's data",
+    "dynamic_to_static": "a dynamic-to-static modulus ratio (> 0) at the design frequency from the supplier's "
+                         "data (1 for a solid whose dynamic and static moduli are equal)",
+}
+PERMANENT_LOAD_FIELDS = {
+    "long_term_factor": "a long-term (creep) factor (0 < factor <= 1) from the supplier's creep data "
+                        "(1 for a material that does not creep under the sustained stress)",
+}
+
+
+class _Defaulted(float):
+    """A default number a caller did not give: the value is used, but the field is not *stated*."""
+
+
+class _DefaultText(str):
+    """A default text a caller did not give (not *stated*)."""
 
 
 def _number(value: Any, *, name: str) -> float:
@@ -98,25 +130,44 @@ class Material:
         The temperature range the factors refer to, as text.
     sources:
         Source of each value, by field name.
+    stated:
+        Names of the fields the material's data gave (see :data:`DATA_FIELDS`).  Left out, it is
+        every field passed to the constructor; fields left at their defaults are not stated.
+        :func:`dataclasses.replace` keeps it.
+    file:
+        Where the stated values were read from, for error messages (not compared).
     """
 
     name: str
     youngs_modulus: pint.Quantity
     poissons_ratio: float
     density: pint.Quantity
-    loss_factor: float = 0.0
-    category: str = "other"
-    dynamic_to_static: float = 1.0
-    modulus_low_factor: float = 1.0
-    modulus_high_factor: float = 1.0
-    long_term_factor: float = 1.0
+    loss_factor: float = _Defaulted(0.0)
+    category: str = _DefaultText("other")
+    dynamic_to_static: float = _Defaulted(1.0)
+    modulus_low_factor: float = _Defaulted(1.0)
+    modulus_high_factor: float = _Defaulted(1.0)
+    long_term_factor: float = _Defaulted(1.0)
     key: str = ""
-    service_temperature: str = ""
+    service_temperature: str = _DefaultText("")
     sources: Mapping[str, Source] = field(default_factory=dict)
+    stated: frozenset[str] | None = None
+    file: str | None = field(default=None, compare=False)
 
     def __post_init__(self) -> None:
         label = self.key or self.name
         pre = f"{label}." if label else ""
+        if self.stated is None:
+            given = {f for f in DATA_FIELDS if not isinstance(getattr(self, f), (_Defaulted, _DefaultText))}
+        else:
+            given = {self.stated} if isinstance(self.stated, str) else set(self.stated)
+            unknown = sorted(given - set(DATA_FIELDS))
+            if unknown:
+                raise InputError("unknown field in 'stated'", input_name=f"{pre}stated",
+                                 expected="names from " + ", ".join(DATA_FIELDS), got=repr(unknown[0]))
+        object.__setattr__(self, "stated", frozenset(given | set(_REQUIRED_FIELDS)))
+        for fname in ("category", "service_temperature"):
+            object.__setattr__(self, fname, str(getattr(self, fname)))
         for fname, dim in _QUANTITY_FIELDS.items():
             q = check_dimension(getattr(self, fname), name=f"{pre}{fname}", expected=dim)
             check_positive(q, name=f"{pre}{fname}")
@@ -173,6 +224,15 @@ class Material:
         """True for the elastomer category."""
         return self.category == "elastomer"
 
+    def is_stated(self, field_name: str) -> bool:
+        """True when the material's data gave ``field_name`` (False: its default is in use)."""
+        return field_name in self.stated
+
+    @property
+    def defaulted(self) -> dict[str, float]:
+        """The number fields the data did not give, with the default value in use for each."""
+        return {f: getattr(self, f) for f in _NUMBER_FIELDS if f not in self.stated}
+
     def source(self, field_name: str) -> Source:
         """The source of one value (a 'not stated' placeholder when none was given)."""
         return self.sources.get(field_name) or Source(
@@ -191,8 +251,12 @@ class Material:
             quantity_step(id=f"{p}.density", description=f"{self.name}: density", value=self.density,
                           unit="kg/m^3", method="material data", source=self.source("density")),
             quantity_step(id=f"{p}.loss-factor", description=f"{self.name}: loss factor",
-                          value=Q_(self.loss_factor, ""), method="material data",
-                          source=self.source("loss_factor")),
+                          value=Q_(self.loss_factor, ""),
+                          method="material data" if self.is_stated("loss_factor") else "default (not stated)",
+                          source=self.source("loss_factor"),
+                          note="" if self.is_stated("loss_factor") else
+                          f"No loss factor was stated for this material: η = {self.loss_factor:g} "
+                          "(no material damping) is what was used."),
             evaluate(SHEAR_MODULUS, id=f"{p}.shear-modulus", description=f"{self.name}: shear modulus",
                      values={"E": self.youngs_modulus, "nu": Q_(self.poissons_ratio, "")}, unit="MPa",
                      source=ELASTICITY_SOURCE),
@@ -259,7 +323,8 @@ def from_mapping(mapping: Mapping[str, Any], *, key: str = "", file: str | None 
     values: dict[str, Any] = {}
     sources: dict[str, Source] = dict(base.sources) if base else {}
     if base is not None:
-        values = {f.name: getattr(base, f.name) for f in fields(base) if f.name not in ("sources", "key")}
+        values = {f.name: getattr(base, f.name) for f in fields(base)
+                  if f.name not in ("sources", "key", "stated", "file")}
     for fname, raw in mapping.items():
         value, src = _entry_value(raw, origin="Project inputs" if base else "Material data")
         label = f"{key}.{fname}" if key else fname
@@ -278,7 +343,8 @@ def from_mapping(mapping: Mapping[str, Any], *, key: str = "", file: str | None 
         raise InputError("a material needs a name, Young's modulus, Poisson's ratio and density",
                          input_name=f"{key}.{missing[0]}" if key else missing[0],
                          expected=", ".join(missing), got="missing", file=file)
-    return Material(key=key, sources=sources, **values)
+    stated = (set(base.stated) if base is not None else set()) | set(mapping)
+    return Material(key=key, sources=sources, stated=frozenset(stated), file=file, **values)
 
 
 @cache
@@ -314,13 +380,92 @@ def catalogue(*, overrides: Mapping[str, Mapping[str, Any]] | None = None,
     return cat
 
 
-def get(name: str, *, overrides: Mapping[str, Mapping[str, Any]] | None = None) -> Material:
-    """One material by key from the catalogue (with ``overrides`` applied, see :func:`catalogue`)."""
-    cat = catalogue(overrides=overrides)
+def get(name: str, *, overrides: Mapping[str, Mapping[str, Any]] | None = None,
+        file: str | None = None) -> Material:
+    """One material by key from the catalogue (with ``overrides`` applied, see :func:`catalogue`).
+
+    ``file`` names where ``overrides`` were read from (the project's inputs.toml), for error messages.
+    """
+    cat = catalogue(overrides=overrides, file=file)
     if name not in cat:
         raise InputError("unknown material", input_name="material", expected="one of " + ", ".join(cat),
                          got=repr(name), hint="Add it to the project's materials, or pick a listed one")
     return cat[name]
+
+
+# --- what a use needs: no silent defaults ------------------------------------------------------
+def _require(material: Material, needed: Mapping[str, str], *, role: str, use: str,
+             file: str | None) -> Material:
+    if not isinstance(material, Material):
+        raise InputError("not a material", input_name=f"{role} material", expected="a latticecalc Material",
+                         got=type(material).__name__)
+    label = material.key or material.name
+    missing = [f for f in needed if not material.is_stated(f)]
+    if missing:
+        first = missing[0]
+        what = " and ".join(missing)
+        example = ", ".join(f'{f} = {{ value = …, source = "…" }}' for f in missing)
+        raise InputError(f"the {role} material {label!r} ({material.name}) does not state {what}, which "
+                         f"{use} needs; no default is assumed",
+                         input_name=f"materials.{label}.{first}", expected=needed[first], got="not stated",
+                         file=file or material.file,
+                         hint=f"Add {example} under [materials.{label}] in the project's inputs.toml")
+    return material
+
+
+def require_for_vibration(material: Material, *, role: str, file: str | None = None) -> Material:
+    """``material`` unchanged when it states what a vibration calculation needs, else an :class:`InputError`.
+
+    Needed: ``loss_factor`` (0 <= η < 1) and ``dynamic_to_static`` (:data:`VIBRATION_FIELDS`); a
+    material that left them at their defaults (η = 0, ratio 1) would give an undamped response at
+    the static modulus without saying so.
+
+    Parameters
+    ----------
+    material:
+        The material to check.
+    role:
+        What it is used for, for the message (``"lattice"``, ``"frame"``, ``"column"``).
+    file:
+        The file to name in the error (the project's inputs.toml); default ``material.file``.
+    """
+    _require(material, VIBRATION_FIELDS, role=role, use="a vibration calculation (damping, dynamic modulus)",
+             file=file)
+    if not 0.0 <= material.loss_factor < 1.0:
+        raise InputError("loss factor out of range for a vibration calculation",
+                         input_name=f"materials.{material.key or material.name}.loss_factor",
+                         expected=VIBRATION_FIELDS["loss_factor"], got=f"{material.loss_factor:g}",
+                         file=file or material.file)
+    return material
+
+
+def require_for_permanent_load(material: Material, *, role: str, file: str | None = None) -> Material:
+    """``material`` unchanged when it states its long-term (creep) factor, else an :class:`InputError`.
+
+    A material carrying permanent load (self-weight with the long-term modulus) needs
+    ``long_term_factor`` (:data:`PERMANENT_LOAD_FIELDS`); left at its default of 1 the short-term
+    modulus would be used while the sheet speaks of the long-term one.
+
+    Parameters
+    ----------
+    material:
+        The material to check.
+    role:
+        What it is used for, for the message (``"lattice"``, ``"frame"``).
+    file:
+        The file to name in the error (the project's inputs.toml); default ``material.file``.
+    """
+    return _require(material, PERMANENT_LOAD_FIELDS, role=role,
+                    use="self-weight under permanent load with the long-term modulus", file=file)
+
+
+def check_column_material(material: Material, *, file: str | None = None) -> Material:
+    """The column material checked for the floor check's vibration model (loss factor, dynamic ratio).
+
+    The column's damping and dynamic modulus enter the coupled response, so both must be stated
+    (:func:`require_for_vibration` with ``role="column"``).
+    """
+    return require_for_vibration(material, role="column", file=file)
 
 
 @dataclass(frozen=True, kw_only=True)

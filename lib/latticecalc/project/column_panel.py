@@ -88,10 +88,18 @@ def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDe
     When ``lattice.calibration`` names a prototype-test export (relative to ``folder``, the project
     folder), the lattice material's modulus is scaled so its dynamic modulus is the calibrated one;
     ``design.calibration`` then holds the steps that show it.
+
+    No silent defaults (common practice): the lattice and, when the cell has one, the frame material
+    must state their loss factor and dynamic-to-static ratio, and with ``selfweight.long_term`` their
+    long-term (creep) factor; a missing one is an :class:`InputError` naming the material and field.
     """
     overrides = project_materials(inputs)
-    mats = {"lattice": materials.get(inputs["lattice.material"], overrides=overrides),
-            "frame": materials.get(inputs["frame.material"], overrides=overrides)}
+    mats = {"lattice": materials.get(inputs["lattice.material"], overrides=overrides, file=inputs.file),
+            "frame": materials.get(inputs["frame.material"], overrides=overrides, file=inputs.file)}
+    long_term = bool(inputs.get("selfweight.long_term"))
+    materials.require_for_vibration(mats["lattice"], role="lattice", file=inputs.file)
+    if long_term:
+        materials.require_for_permanent_load(mats["lattice"], role="lattice", file=inputs.file)
     calibration = None
     exported = inputs.get("lattice.calibration")
     if exported:
@@ -102,7 +110,12 @@ def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDe
         calibration = materials.calibrated(mats["lattice"], dynamic_modulus=found.modulus, source=found.source,
                                            id_prefix="lattice.calibrated")
         mats["lattice"] = calibration.material
-    return PanelDesign(cell=cell_from_inputs(inputs), materials=mats, cells_wide=inputs["panel.cells_wide"],
+    cell = cell_from_inputs(inputs)
+    if "frame" in cell.group_names:
+        materials.require_for_vibration(mats["frame"], role="frame", file=inputs.file)
+        if long_term:
+            materials.require_for_permanent_load(mats["frame"], role="frame", file=inputs.file)
+    return PanelDesign(cell=cell, materials=mats, cells_wide=inputs["panel.cells_wide"],
                        cells_high=inputs["panel.cells_high"], cells_deep=inputs["panel.cells_deep"],
                        calibration=calibration)
 

@@ -22,6 +22,7 @@ from latticecalc.project.inputs import Inputs
 from latticecalc.project.project import Project
 from latticecalc.sheet import CalcResult, quantity_step
 from latticecalc.signals.frf import calibration_from_export
+from latticecalc.units import Q_
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -34,6 +35,7 @@ class PanelDesign:
     cells_high: int
     cells_deep: int
     calibration: CalcResult | None = None
+    added_mass: CalcResult | None = None
 
     @property
     def lattice(self) -> Material:
@@ -115,9 +117,18 @@ def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDe
         materials.require_for_vibration(mats["frame"], role="frame", file=inputs.file)
         if long_term:
             materials.require_for_permanent_load(mats["frame"], role="frame", file=inputs.file)
+    added = None
+    m_added = inputs.get("lattice.added_mass")
+    if m_added is not None and m_added.to("kg").m > 0:
+        from latticecalc.physics.added_mass import added_mass_sphere
+
+        added = added_mass_sphere(mass=m_added, material=materials.get(
+            inputs.get("lattice.added_mass_material") or "steel-s355", overrides=overrides),
+            strut_diameter=inputs["lattice.strut_diameter"])
+        cell = cell.with_point_mass("lattice", mass=added.value, rotary_inertia=added.rotary_inertia)
     return PanelDesign(cell=cell, materials=mats, cells_wide=inputs["panel.cells_wide"],
                        cells_high=inputs["panel.cells_high"], cells_deep=inputs["panel.cells_deep"],
-                       calibration=calibration)
+                       calibration=calibration, added_mass=added)
 
 
 def bloch_options(project: Project, design: PanelDesign) -> dict[str, Any]:
@@ -163,3 +174,100 @@ def designed_band(*, estimate: Mapping[str, pint.Quantity], gaps: Sequence[Any])
                            method=method))
     return DesignedBand(value={"low": low, "high": high}, steps=steps, low=low, high=high, method=method,
                         title="Designed stop band for the coverage check")
+
+
+# --------------------------------------------------------------------------------------------------------
+# the receiver: the column, its panels' placement and brackets, and the requirement
+# --------------------------------------------------------------------------------------------------------
+@dataclass(frozen=True, kw_only=True)
+class ReceiverSetup:
+    """Everything the floor check needs, read from the inputs (and the survey export when named)."""
+
+    column: Any
+    placement: Any
+    fixings: Any
+    direction: str
+    frequencies: pint.Quantity
+    targets: pint.Quantity
+    required: pint.Quantity
+    required_source: str
+    survey: Mapping[str, Any] | None
+
+
+def _faces(text: str, inputs: Inputs) -> tuple[str, ...]:
+    faces = tuple(f.strip() for f in str(text).split(",") if f.strip())
+    from latticecalc.physics.receiver import FACES
+    bad = [f for f in faces if f not in FACES]
+    if bad or not faces:
+        raise InputError("unknown column face", input_name="placement.faces", file=inputs.file,
+                         expected="comma-separated faces from " + ", ".join(FACES), got=repr(text))
+    return faces
+
+
+def _levels(text: str, cells_high: int, inputs: Inputs) -> tuple[int, ...]:
+    t = str(text).strip().lower()
+    if t == "all":
+        return tuple(range(cells_high + 1))
+    if t == "ends":
+        return (0, cells_high)
+    try:
+        levels = tuple(int(x) for x in t.split(",") if x.strip())
+    except ValueError:
+        levels = ()
+    if not levels or any(lv < 0 or lv > cells_high for lv in levels):
+        raise InputError("bracket levels must be 'all', 'ends' or whole numbers from 0 to cells_high",
+                         input_name="fixing.levels", file=inputs.file,
+                         expected=f"all | ends | levels 0..{cells_high}, comma-separated", got=repr(text))
+    return levels
+
+
+def receiver_setup(project: Project, design: PanelDesign) -> ReceiverSetup:
+    """Build the column, placement, brackets, direction, frequencies and requirement of the floor check."""
+    from latticecalc.physics import receiver
+    from latticecalc.physics.column import Column
+    from latticecalc.signals import coverage
+
+    inp = project.inputs
+    overrides = project_materials(inp)
+    column = Column(shape=inp["column.shape"], width=inp["column.width"], depth=inp.get("column.depth"),
+                    height=inp["column.height"],
+                    material=materials.check_column_material(materials.get(inp["column.material"], overrides=overrides,
+                                                                           file=inp.file), file=inp.file),
+                    head_mass=inp["column.head_mass"], head=inp["column.head"],
+                    head_translation=inp.get("column.head_translation"), head_rotation=inp.get("column.head_rotation"))
+    placement = receiver.Placement(faces=_faces(inp["placement.faces"], inp), base_height=inp["placement.base_height"])
+    fixings = receiver.Fixings(levels=_levels(inp["fixing.levels"], design.cells_high, inp),
+                               normal=inp["fixing.normal_stiffness"], along=inp["fixing.along_stiffness"],
+                               vertical=inp["fixing.vertical_stiffness"], loss_factor=inp["fixing.loss_factor"])
+    # the panels must fit their column and their brackets sit on its face: checked here, before any sweep
+    receiver.place_panels(design.cell, nx=design.cells_wide, ny=design.cells_high, column=column,
+                          placement=placement, fixings=fixings)
+    survey_file = inp.get("coverage.survey_results")
+    direction = inp.get("receiver.direction")
+    survey = None
+    if survey_file:
+        survey = coverage.survey_requirement(Path(project.folder) / survey_file, direction=direction)
+        direction = direction or survey["direction"]
+        if direction is None:
+            raise InputError("no ground-motion direction for the floor check", input_name="receiver.direction",
+                             file=inp.file, expected="normal, along or vertical (the survey does not say)")
+        targets, required = survey["targets"], survey["losses"]
+        source = f"site-survey export {survey_file} (peaks.target-losses)"
+    else:
+        listed = inp.get("coverage.target_peaks") or []
+        targets = Q_([p.to("Hz").m for p in listed], "Hz") if listed else None
+        if targets is None:
+            raise InputError("no targeted peaks for the floor check", input_name="coverage.target_peaks",
+                             file=inp.file, expected="a site-survey export (coverage.survey_results) or peaks")
+        req = inp.get("receiver.required_loss")
+        if req is None:
+            raise InputError("no required insertion loss for the listed peaks", input_name="receiver.required_loss",
+                             file=inp.file, expected="a number of dB (or name a site-survey export)")
+        required = Q_([float(req)] * len(listed), "dB")
+        direction = direction or "normal"
+        source = "inputs (receiver.required_loss)"
+    freqs = receiver.frequencies_for(f_min=inp["receiver.f_min"], f_max=inp["receiver.f_max"],
+                                     n=inp["receiver.frequencies"], include=Q_(targets.to("Hz").m, "Hz"))
+    return ReceiverSetup(column=column, placement=placement, fixings=fixings, direction=direction,
+                         frequencies=freqs, targets=Q_(targets.to("Hz").m, "Hz"), required=Q_(required.to("dB").m,
+                         "dB"), required_source=source, survey=survey)

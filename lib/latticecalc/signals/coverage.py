@@ -108,10 +108,12 @@ def band_coverage(*, lower, upper, peaks, scatter_low: float = 1.0, scatter_high
             status.append("nominal only")
         else:
             status.append("not covered")
-        steps.append(check(id=f"{id_prefix}.peak{k + 1}-lower", description=f"Peak {k + 1} ({f:.3g} Hz) above the "
-                           "band's highest lower edge", demand=Q_(f, "Hz"), limit=Q_(lo_w, "Hz"), sense="min"))
-        steps.append(check(id=f"{id_prefix}.peak{k + 1}-upper", description=f"Peak {k + 1} ({f:.3g} Hz) below the "
-                           "band's lowest upper edge", demand=Q_(f, "Hz"), limit=Q_(hi_w, "Hz"), sense="max"))
+        steps.append(check(id=f"{id_prefix}.peak{k + 1}-lower", description=f"Panel's own stop band: peak {k + 1} "
+                           f"({f:.3g} Hz) above the band's highest lower edge", demand=Q_(f, "Hz"),
+                           limit=Q_(lo_w, "Hz"), sense="min"))
+        steps.append(check(id=f"{id_prefix}.peak{k + 1}-upper", description=f"Panel's own stop band: peak {k + 1} "
+                           f"({f:.3g} Hz) below the band's lowest upper edge", demand=Q_(f, "Hz"), limit=Q_(hi_w, "Hz"),
+                           sense="max"))
     return Coverage(value={"frequency": Q_(fp, "Hz"), "status": tuple(status), "margin_lower": Q_(m_lo, "Hz"),
                            "margin_upper": Q_(m_hi, "Hz"), "margin_lower_pct": Q_(100 * m_lo / fp, "percent"),
                            "margin_upper_pct": Q_(100 * m_hi / fp, "percent"), "lower": Q_(f1, "Hz"),
@@ -147,6 +149,54 @@ def survey_from_export(path) -> dict:
         c, v = rows["bands.midband"], rows["maxhold.velocity-rms"]
         out["centre"] = Q_(np.asarray(c["value"], dtype=float), c["unit"]).to("Hz")
         out["velocity_rms"] = Q_(np.asarray(v["value"], dtype=float), v["unit"].replace("µ", "u")).to("m/s")
+    return out
+
+
+RECEIVER_DIRECTIONS = ("normal", "along", "vertical")
+
+
+def survey_requirement(path, *, direction: str | None = None) -> dict:
+    """The requirement a column panel must meet, from a site-survey export JSON.
+
+    Returns a dict with ``targets`` [Hz] and ``losses`` [dB] (the insertion loss each targeted peak
+    needs, ``peaks.target-losses``), ``direction`` (the building direction the survey assessed, from
+    its ``record.direction`` input), ``criterion`` (its id) and, when exported, the max-hold band
+    spectrum ``centre`` [Hz] / ``velocity_rms`` [m/s].
+
+    Raises a named error when the export has no targeted peaks, or when ``direction`` is given and the
+    survey assessed another direction (or did not say which).
+    """
+    out = survey_from_export(path)
+    p = Path(path)
+    data = json.loads(p.read_text(encoding="utf-8"))
+    rows = {r["id"]: r for r in data["results"]}
+    inputs = {r.get("id"): r.get("value") for r in data.get("inputs", []) if isinstance(r, dict)}
+    if out["targets"].size == 0:
+        raise RecordError("the survey found no peak that needs insertion loss: there is nothing to target",
+                          input_name="coverage.survey_results", expected="a survey export with peaks to target "
+                          "(peaks.target-frequencies not empty)", got="no targeted peaks", file=str(p))
+    if "peaks.target-losses" not in rows:
+        raise RecordError("the survey export does not give the required insertion loss per peak",
+                          input_name="coverage.survey_results", expected="peaks.target-losses in the export "
+                          "(re-export the survey with this kit version)", file=str(p))
+    r = rows["peaks.target-losses"]
+    out["losses"] = Q_(np.atleast_1d(np.asarray(r["value"], dtype=float)), "dB")
+    recorded = inputs.get("record.direction")
+    out["direction"] = recorded if recorded in RECEIVER_DIRECTIONS else None
+    out["criterion"] = inputs.get("criterion.id")
+    if direction is not None:
+        if direction not in RECEIVER_DIRECTIONS:
+            raise InputError("unknown ground-motion direction", input_name="receiver.direction",
+                             expected=", ".join(RECEIVER_DIRECTIONS), got=repr(direction))
+        if out["direction"] is None:
+            raise InputError("the survey does not say which building direction it recorded", input_name=
+                             "receiver.direction", expected="a survey export whose record.direction is set",
+                             got=f"receiver.direction = {direction!r}, survey {p.name} without record.direction",
+                             file=str(p))
+        if out["direction"] != direction:
+            raise InputError("the survey did not record this direction", input_name="receiver.direction",
+                             expected=f"{out['direction']!r} (the direction the survey assessed)",
+                             got=repr(direction), file=str(p))
     return out
 
 

@@ -70,3 +70,24 @@ def test_missing_calibration_export_names_the_input(project):
     proj = _set(project, {"lattice.calibration": "nowhere.json"})
     with pytest.raises(RecordError, match="lattice.calibration"):
         design_from_inputs(proj.inputs, folder=project)
+
+
+def test_coverage_on_the_hand_estimate_alone_is_preliminary_and_blocks_checked():
+    # common practice: a verdict no numerical check confirmed cannot be signed as checked
+    from latticecalc import Q_
+    from latticecalc.project.column_panel import designed_band
+    from latticecalc.project.signoff.records import preliminary_results
+
+    est = {"f_low": Q_(35.0, "Hz"), "f_high": Q_(45.0, "Hz")}
+    hand = designed_band(estimate=est, gaps=[])
+    assert hand.step("coverage.preliminary").result.m == 1
+    content = {"results": [{"id": s.id, "value": float(s.result.m) if s.result.ndim == 0 else 0} for s in hand.steps]}
+    assert preliminary_results(content) == ["coverage.preliminary"]
+
+    class Gap:
+        low, high = Q_(33.6, "Hz"), Q_(44.5, "Hz")
+
+    computed = designed_band(estimate=est, gaps=[Gap()])
+    assert computed.step("coverage.preliminary").result.m == 0
+    content = {"results": [{"id": s.id, "value": float(s.result.m)} for s in computed.steps]}
+    assert preliminary_results(content) == []

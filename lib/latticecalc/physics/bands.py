@@ -59,6 +59,12 @@ STATICS = Source(author="common practice", title="axial stiffness of the frame m
                  tag="common practice")
 
 FIXITIES = ("clamped-clamped", "pinned-pinned")
+#: Strut mode families listed in the cluster: clamped–pinned where one node is free to rotate (the
+#: centre node of a bcc cell, for instance) falls between the two bounds.
+CLUSTER_FIXITIES = ("clamped-clamped", "clamped-pinned", "pinned-pinned")
+DIRECTION_WEIGHT_SOURCE = Source(author="common practice", title="derived: a strut's bending is driven by the "
+                                 "component of the host motion across its axis, 1 − (d·e)² of the motion's "
+                                 "square; its effective modal mass is that share of μ m_s", tag="common practice")
 
 # --- formulas ------------------------------------------------------------------------------------
 _rho, _A, _Lt, _mu, _ms, _mh, _m1, _m2 = sp.symbols("rho A L_tot mu m_s m_h m_1 m_2")
@@ -67,8 +73,12 @@ _k1, _k2, _q = sp.symbols("k_1 k_2 q")
 _Es, _rbar, _Af, _Ef, _Lf, _Afr = sp.symbols("E_s rhobar A_f E_f L_f A_fr")
 
 STRUT_MASS = Formula("m_s", _rho * _A * _Lt, latex_names={"L_tot": r"L_\mathrm{tot}"})
-RESONATING_MASS = Formula("m_2", _mu * _ms)
-HOST_MASS = Formula("m_1", _mh + (1 - _mu) * _ms)
+_w = sp.Symbol("w")
+#: Only the struts' bending across the host motion resonates: w μ m_s, with w the direction weight
+#: (mean of 1 − (d·e)² over the struts, d the wave's motion, e a strut's axis; 2/3 for any strut set
+#: averaged over three axes, since Σ_d (d·e)² = 1) [derived].
+RESONATING_MASS = Formula("m_2", _w * _mu * _ms)
+HOST_MASS = Formula("m_1", _mh + (1 - _w * _mu) * _ms)
 UPPER_EDGE = Formula("f_high", _f0 * sp.sqrt(1 + _m2 / _m1), latex_names={"f_high": r"f_\mathrm{high}"})
 EFFECTIVE_DENSITY = Formula("rho_eff", (_m1 + _m2) / _a**3, latex_names={"rho_eff": r"\rho^*"})
 WAVE_SPEED = Formula("c", sp.sqrt(_Ee / _re), latex_names={"E_eff": "E^*", "rho_eff": r"\rho^*"})
@@ -184,15 +194,15 @@ class BandEstimate(CalcResult):
         return rows
 
 
-def _kernel(*, L, Ltot, d, E, rho, m_host, a, mu, lam):
+def _kernel(*, L, Ltot, d, E, rho, m_host, a, mu, lam, w):
     """The band formulas on (array) Quantities: the same Formula objects as the sheet, vectorised."""
     area = AREA_CIRCLE.evaluate({"d": d})
     second = SECOND_MOMENT_CIRCLE.evaluate({"d": d})
     f0 = EULER_BERNOULLI_FREQUENCY.evaluate({"lambda_n": lam, "L": L, "E": E, "I": second, "rho": rho,
                                              "A": area}).to("Hz")
     ms = STRUT_MASS.evaluate({"rho": rho, "A": area, "L_tot": Ltot})
-    m2 = RESONATING_MASS.evaluate({"mu": mu, "m_s": ms})
-    m1 = HOST_MASS.evaluate({"m_h": m_host, "mu": mu, "m_s": ms})
+    m2 = RESONATING_MASS.evaluate({"w": w, "mu": mu, "m_s": ms})
+    m1 = HOST_MASS.evaluate({"m_h": m_host, "w": w, "mu": mu, "m_s": ms})
     fh = UPPER_EDGE.evaluate({"f_0": f0, "m_2": m2, "m_1": m1}).to("Hz")
     return f0, fh
 
@@ -207,7 +217,8 @@ def _as_lengths(value, name):
 
 
 def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cell_width, host_mass,
-                  effective_modulus, strut_weights=None, modulus_range=None, modulus_tolerance=None,
+                  effective_modulus, strut_weights=None, strut_directions=None, modulus_range=None,
+                  modulus_tolerance=None,
                   diameter_tolerance=None, length_tolerance=None, density_tolerance=None, cluster_modes=(1, 2, 3),
                   id_prefix: str = "band") -> BandEstimate:
     """Expected stop band [f_low, f_high] of a strut lattice, with its fixity bracket and scatter.
@@ -230,6 +241,9 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
         Long-wave Young's modulus E* of the homogenised panel along the wave path [pressure].
     strut_weights:
         Share of each strut belonging to the cell (1, or 1/2 for a strut on a face); default 1.
+    strut_directions:
+        Axis of each strut (N × 3, any length); the direction weight w is then the smallest over the
+        three wave axes of the mean 1 − (d·e)²; default (None) w = 2/3, the mean over three axes.
     modulus_range:
         (low, high) dynamic modulus over the service temperature range [pressure], or None.
     modulus_tolerance:
@@ -291,7 +305,24 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
     ms = evaluate(STRUT_MASS, id=f"{p}.strut-mass", unit="g", source=COMMON_PRACTICE,
                   description="Mass of the resonating struts per cell (slender struts, node overlap neglected)",
                   values={"rho": rho, "A": area.result, "L_tot": L_tot})
-    steps += [area, second, ms, mu["clamped-clamped"].steps[0], mu["pinned-pinned"].steps[0]]
+    if strut_directions is None:
+        w_val = 2.0 / 3.0
+        w_method = "any strut set averaged over three axes: Σ_d (d·e)² = 1, so the mean of 1 − (d·e)² is 2/3"
+    else:
+        e = np.asarray(strut_directions, dtype=float)
+        if e.shape != (lengths.magnitude.size, 3):
+            raise InputError("one direction per strut", input_name="strut_directions",
+                             expected=f"shape ({lengths.magnitude.size}, 3)", got=f"shape {e.shape}")
+        e = e / np.linalg.norm(e, axis=1)[:, None]
+        share = weights * lengths.magnitude
+        per_axis = [float((share * (1.0 - e[:, k] ** 2)).sum() / share.sum()) for k in range(3)]
+        w_val = min(per_axis)
+        w_method = ("smallest over the wave axes x, y, z of the length-weighted mean of 1 − (d·e)²: "
+                    + ", ".join(f"{v:.4g}" for v in per_axis))
+    w_dir = quantity_step(id=f"{p}.direction-weight", description="Direction weight w: share of the struts' "
+                          "bending that the host motion drives", value=Q_(w_val, ""), sig=4, method=w_method,
+                          source=DIRECTION_WEIGHT_SOURCE)
+    steps += [area, second, ms, mu["clamped-clamped"].steps[0], mu["pinned-pinned"].steps[0], w_dir]
 
     out = {}
     for fix in FIXITIES:
@@ -303,11 +334,11 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
                       values={"lambda_n": lam[fix], "L": L_long, "E": E, "I": second.result, "rho": rho,
                               "A": area.result})
         m2 = evaluate(RESONATING_MASS, id=f"{p}.m2-{t}", unit="g", source=HUANG_SUN_HUANG_2009,
-                      description=f"Resonating mass m₂: effective modal mass of the struts ({fix})",
-                      values={"mu": mu[fix].value, "m_s": ms.result})
+                      description=f"Resonating mass m₂: effective modal mass of the struts moving across the "
+                      f"host motion ({fix})", values={"w": w_dir.result, "mu": mu[fix].value, "m_s": ms.result})
         m1 = evaluate(HOST_MASS, id=f"{p}.m1-{t}", unit="g", source=HUANG_SUN_HUANG_2009,
                       description="Host mass m₁: frame and the struts' non-resonating share",
-                      values={"m_h": mh, "mu": mu[fix].value, "m_s": ms.result})
+                      values={"m_h": mh, "w": w_dir.result, "mu": mu[fix].value, "m_s": ms.result})
         fh = evaluate(UPPER_EDGE, id=f"{p}.f-high-{t}", unit="Hz", source=HUANG_SUN_HUANG_2009,
                       description=f"Upper band edge, mass-in-mass model ({fix})",
                       values={"f_0": f0.result, "m_2": m2.result, "m_1": m1.result})
@@ -338,7 +369,7 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
     ranges = {}
     for fix in FIXITIES:
         f0_c, fh_c = _kernel(L=L_long * scale_c, Ltot=L_tot * scale_c, d=d_c, E=E_c, rho=rho_c, m_host=mh,
-                             a=a, mu=mu[fix].value, lam=lam[fix])
+                             a=a, mu=mu[fix].value, lam=lam[fix], w=w_dir.result)
         ranges[fix] = (f0_c.magnitude.min(), f0_c.magnitude.max(), fh_c.magnitude.min(), fh_c.magnitude.max())
     lo_min, lo_max, hi_min, hi_max = ranges["clamped-clamped"]
     scatter_text = (f"dynamic modulus {format_quantity(e_lo.to('MPa'))} to {format_quantity(e_hi.to('MPa'))}"
@@ -373,7 +404,7 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
     cluster = []
     uniq = np.unique(np.round(lengths.to("mm").magnitude, 9))
     for Lm in uniq:
-        for fix in FIXITIES:
+        for fix in CLUSTER_FIXITIES:
             for m in cluster_modes:
                 lam_m = Q_(eigenvalue(supports=fix, mode=m), "")
                 f = EULER_BERNOULLI_FREQUENCY.evaluate({"lambda_n": lam_m, "L": Q_(Lm, "mm"), "E": E,
@@ -471,7 +502,8 @@ def cell_band_inputs(*, cell, lattice_material, frame_material=None, effective_m
                                         description="Long-wave modulus of the panel, frame path + lattice",
                                         method="sum of the parallel load paths", source=COMMON_PRACTICE)]
         effective_modulus = total
-    args = {"strut_lengths": lengths, "strut_weights": weights, "strut_diameter": d, "youngs_modulus": E,
+    args = {"strut_lengths": lengths, "strut_weights": weights, "strut_directions": cell.strut_vectors[mask].magnitude,
+            "strut_diameter": d, "youngs_modulus": E,
             "density": lattice_material.density, "cell_width": cell.cell_width, "host_mass": host,
             "effective_modulus": effective_modulus, "modulus_range": lattice_material.modulus_range()}
     return CellBandInputs(value=effective_modulus, steps=tuple(steps), arguments=args,

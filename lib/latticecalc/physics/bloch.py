@@ -858,3 +858,59 @@ def mode_shapes_at_gap(cell: Any, result: Dispersion, *, materials: Mapping[str,
     return (band_mode_shape(cell, materials=materials, wave_vector=kv[i_lo], band=g.below, **kwargs),
             band_mode_shape(cell, materials=materials, wave_vector=kv[i_hi], band=g.below + 1, **kwargs))
 
+
+
+# --------------------------------------------------------------------------------------------
+# flat branches: strut resonances that barely propagate
+# --------------------------------------------------------------------------------------------
+def flat_branches(disp: Dispersion, *, spread: float = 0.03, dwell: float = 0.3, share: float = 0.7,
+                  id_prefix: str = "bloch.flat") -> CalcResult:
+    """Plateaus of the computed bands: frequencies where branches stay nearly constant over the path.
+
+    A band dwells on a plateau when at least ``dwell`` of the path's wave vectors lie within ±``spread``/2
+    (relative) of one frequency, with at least ``share`` of the kinetic energy in the lattice struts.
+    Plateaus of several bands within the same window are merged into one cluster: strut resonances
+    (clamped–clamped, clamped–pinned where a node can rotate, pinned–pinned) at a nearly fixed
+    frequency.  A cluster need not open a complete gap, but a measured peak near it meets strongly
+    resonating struts.  ``value`` is a list of ``(low Hz, high Hz, bands, mean share)``, lowest first.
+    """
+    f = np.asarray(disp["frequencies"].to("Hz").m)
+    e = np.asarray(disp["strut_energy"])
+    found = []
+    for j in range(f.shape[1]):
+        col = f[:, j]
+        ok = np.isfinite(col) & (col > 0)
+        if ok.sum() < 4:
+            continue
+        vals = np.sort(col[ok])
+        # the densest window of relative width ``spread`` along this band
+        k = np.searchsorted(vals, vals * (1 + spread), side="right") - np.arange(vals.size)
+        i = int(np.argmax(k))
+        if k[i] >= dwell * col.size:
+            sel = ok & (col >= vals[i]) & (col <= vals[i] * (1 + spread))
+            sh = float(np.mean(e[sel, j]))
+            if sh >= share:
+                found.append([float(col[sel].min()), float(col[sel].max()), [j], sh])
+    found.sort(key=lambda r: r[0])
+    merged: list[list] = []
+    for lo, hi, bands, sh in found:
+        if merged and lo <= merged[-1][1] * (1 + spread):
+            m = merged[-1]
+            m[3] = (m[3] * len(m[2]) + sh * len(bands)) / (len(m[2]) + len(bands))
+            m[1], m[2] = max(m[1], hi), m[2] + bands
+        else:
+            merged.append([lo, hi, bands, sh])
+    out = [(lo, hi, tuple(b + 1 for b in bands), sh) for lo, hi, bands, sh in merged]
+    steps = []
+    if out:
+        lo, hi, bands, sh = out[0]
+        steps.append(quantity_step(id=f"{id_prefix}.lowest", description="Lowest plateau of the computed bands "
+                                   "(a strut-resonance cluster)", value=Q_([lo, hi], "Hz"), unit="Hz",
+                                   method=f"bands {', '.join(map(str, bands))} dwell there over at least "
+                                   f"{100 * dwell:g} % of the path; {100 * sh:.0f} % of their kinetic energy in the "
+                                   "lattice struts", source=KRATTIGER_HUSSEIN_2014))
+    steps.append(quantity_step(id=f"{id_prefix}.count", description="Plateaus (strut-resonance clusters) found",
+                               value=Q_(len(out), ""), sig=3, source=COMMON_PRACTICE,
+                               method=f"window ±{50 * spread:g} %, dwell >= {dwell:g} of the path, lattice energy "
+                               f"share >= {share:g}"))
+    return CalcResult(value=out, steps=tuple(steps), title="Plateaus of the bands: strut-resonance clusters")

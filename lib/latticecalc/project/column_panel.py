@@ -171,7 +171,10 @@ def designed_band(*, estimate: Mapping[str, pint.Quantity], gaps: Sequence[Any])
     steps = (quantity_step(id="coverage.band-low", description="Designed band, lower edge", value=low, unit="Hz",
                            method=method),
              quantity_step(id="coverage.band-high", description="Designed band, upper edge", value=high, unit="Hz",
-                           method=method))
+                           method=method),
+             quantity_step(id="coverage.preliminary", description="Coverage rests on the hand estimate alone "
+                           "(1: preliminary, cannot be signed as checked; 0: confirmed by the computed gap)",
+                           value=Q_(0 if gap is not None else 1, ""), sig=1, method=method))
     return DesignedBand(value={"low": low, "high": high}, steps=steps, low=low, high=high, method=method,
                         title="Designed stop band for the coverage check")
 

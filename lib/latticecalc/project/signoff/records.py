@@ -13,6 +13,8 @@ Rules ``sign_project`` enforces:
 * ``checked`` is refused while review comments are open, and when the checker is the preparer;
 * ``approved`` needs a current ``checked`` sign-off;
 * ``checked`` or ``approved`` with a NOT OK check needs a comment saying how it was resolved.
+* ``checked`` or ``approved`` is refused while a verdict rests on a hand estimate alone (a
+  ``*.preliminary`` result, e.g. band coverage with no computed complete gap).
 
 Status: ``approved`` if a current approved and a current checked sign-off exist, ``checked`` if a
 current checked one does, else ``preliminary``.
@@ -130,6 +132,19 @@ def load_records(project: Project) -> list[dict]:
     return read_lines(signatures_path(project))
 
 
+def preliminary_results(content: dict) -> list[str]:
+    """Ids of results that mark a verdict as preliminary (``*.preliminary`` steps with a non-zero value)."""
+    out = []
+    for r in content.get("results", []):
+        if str(r.get("id", "")).endswith(".preliminary"):
+            try:
+                if float(r.get("value") or 0) != 0:
+                    out.append(r["id"])
+            except (TypeError, ValueError):
+                out.append(r["id"])
+    return out
+
+
 def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
                  key: str | Path | None = None) -> dict:
     """Add a sign-off record for the project's current run; returns the record.
@@ -183,6 +198,11 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     if role == "approved" and not any(s.record.get("role") == "checked" for s in current):
         raise ProjectError("cannot be approved before a current 'checked' sign-off exists",
                            input_name=str(project.folder))
+    held = preliminary_results(content)
+    if role in ("checked", "approved") and held:
+        raise ProjectError("a verdict rests on a hand estimate alone (" + ", ".join(held) + "): the package is "
+                           "preliminary and cannot be marked " + role, input_name=str(project.folder),
+                           hint="Confirm it numerically (raise the Bloch bands or revise the design) and rerun")
     failing = [r["id"] for r in content["results"] if r.get("ok") is False]
     if role in ("checked", "approved") and failing and not comment:
         raise InputError("checks are NOT OK (" + ", ".join(failing) + "): say in a comment how this was resolved",

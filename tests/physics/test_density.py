@@ -32,7 +32,7 @@ def _cell(kind, r_over_l, frame=None):
 
 
 @pytest.mark.parametrize(("kind", "expected"), [
-    # derived slender forms (struts per cell x pi r^2 l / a^3), REFERENCES values at r/l = 0.05
+    # derived slender forms (struts per cell x pi r^2 l / a^3, no node overlap), evaluated at r/l = 0.05
     ("simple-cubic", 3 * math.pi * 0.05**2),
     ("bcc", 3 * math.sqrt(3) * math.pi * 0.05**2),          # 0.040810
     ("fcc", 3 * math.sqrt(2) * math.pi * 0.05**2),
@@ -49,7 +49,8 @@ def test_closed_forms(kind, expected):
 
 
 def test_bcc_reference_value():
-    # REFERENCES.md [D]: BCC 3 sqrt(3) pi (r/l)^2 = 0.040810 at r/l = 0.05 (rounded figure)
+    # derived (8 half-diagonal struts, slender, no node overlap): BCC 3 sqrt(3) pi (r/l)^2 = 0.040810 at
+    # r/l = 0.05 (rounded figure)
     assert_quantity_close(relative_density(_cell("bcc", 0.05)).value, Q_(0.040810, ""), rtol=0.0,
                           atol=5e-7)  # half a unit in the last printed place
 
@@ -67,7 +68,8 @@ def test_simple_cubic_geometric_matches_exact_overlap(r_over_l):
 
 
 def test_simple_cubic_reference_value():
-    # REFERENCES.md [D]: 0.022148 at r/l = 0.05 (rounded figure)
+    # derived (inclusion-exclusion of three orthogonal cylinders, Steinmetz solids):
+    # 3 pi (r/l)^2 - 8 sqrt(2) (r/l)^3 = 0.022148 at r/l = 0.05 (rounded figure)
     result = relative_density(_cell("simple-cubic", 0.05), "geometric")
     assert_quantity_close(result.value, Q_(0.022148, ""), rtol=RTOL_GEOMETRIC_EXACT)
 

@@ -39,7 +39,9 @@ def _panel(kind="octet", frame=FRAME_D, **kw):
 
 
 def test_octet_lattice_alone_uses_stretch_scaling():
-    # octet <100>: E* = rho E_s / 9 (Deshpande, Fleck & Ashby 2001, pin-jointed affine; [D] in REFERENCES)
+    # octet <100>: E* = rho E_s / 9 (pin-jointed affine struts, derived in
+    # tests/validation/test_deshpande_fleck_ashby_2001.py; Deshpande, Fleck & Ashby, J. Mech. Phys. Solids 49
+    # (2001) 1747-1769 [from memory])
     cell, res = _panel(frame=None)
     rbar = relative_density(cell).value
     e_star = rbar * PU.long_term_modulus() / 9

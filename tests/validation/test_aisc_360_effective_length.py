@@ -1,9 +1,10 @@
 """Effective-length factors against AISC 360 Commentary Table C-A-7.1.
 
 ANSI/AISC 360-22, Specification for Structural Steel Buildings, Commentary, Table C-A-7.1 "Approximate
-values of effective length factor, K" (page 16.1-650, seen in a copy of the 2022 commentary [C]):
+values of effective length factor, K" (page 16.1-650, seen in a copy of the 2022 commentary):
 cases (a)-(f), theoretical K 0.5, 0.7, 1.0, 1.0, 2.0, 2.0; recommended design values 0.65, 0.80, 1.2,
-1.0, 2.1, 2.0.  Exact fixed-pinned K = pi / 4.493409458 = 0.699156 (first root of tan x = x, [D]).
+1.0, 2.1, 2.0.  Exact fixed-pinned K = pi / 4.493409458 = 0.699156 (derived: 4.493409458 is the first
+positive root of tan x = x, the fixed-pinned Euler column's characteristic equation).
 """
 
 from __future__ import annotations

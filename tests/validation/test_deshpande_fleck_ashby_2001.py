@@ -3,8 +3,8 @@
 Deshpande, V. S., Fleck, N. A. & Ashby, M. F., "Effective properties of the octet-truss lattice
 material", J. Mech. Phys. Solids 49 (2001) 1747-1769.  The octet cell of strut length l and radius r
 (FCC cell of edge a = sqrt(2) l, 24 struts per cell) has relative density 6 sqrt(2) pi (r/l)^2
-(equation number from memory; the paper and the formula's form seen in a copy of the abstract and in
-REFERENCES.md [C]).  Pin-jointed, affine: E_100 = rho E_s / 9 ([D], consistent with the paper [from memory]).
+(equation number from memory; the formula's form seen in a copy of the paper's abstract).  Pin-jointed,
+affine: E_100 = rho E_s / 9 (derived below from C11 and C12, consistent with the paper [from memory]).
 """
 
 from __future__ import annotations
@@ -20,7 +20,8 @@ from latticecalc.physics.density import relative_density
 RTOL_FORMULA = 1e-12
 RTOL_ROUNDED = 1e-5  # the rounded figure 0.066643 has 5 significant figures
 
-# REFERENCES.md, octet at r/l = 0.05: 0.066643 [D] (rounded figure, kept apart from the recomputed one)
+# the paper's 6 sqrt(2) pi (r/l)^2 evaluated at r/l = 0.05: 0.066643 (rounded to 5 figures, kept apart from
+# the recomputed one)
 ROUNDED_AT_005 = 0.066643
 
 
@@ -50,7 +51,8 @@ def test_relative_density_scales_with_square_of_r_over_l():
 
 
 def test_affine_uniaxial_strain_modulus_is_c11():
-    # pin-jointed affine octet: C11 = rho E_s / 6 (REFERENCES.md [D], consistent with the paper [from memory]);
+    # pin-jointed affine octet: C11 = rho E_s / 6 (derived: affine strain of the 24 struts, sum of A l t_z^4 over
+    # the cell volume; consistent with Deshpande, Fleck & Ashby 2001 [from memory]);
     # the self-weight strut-force distribution uses the same sum, E_s / a^3 * sum(w A l t_z^4)
     from latticecalc.physics.selfweight import _affine_sums
 
@@ -62,7 +64,7 @@ def test_affine_uniaxial_strain_modulus_is_c11():
 
 
 def test_stretch_modulus_is_one_ninth():
-    # E_100 = rho E_s / 9 (pin-jointed affine, REFERENCES.md [D]; Deshpande, Fleck & Ashby 2001 [from memory]);
+    # E_100 = rho E_s / 9 (pin-jointed affine, derived here; Deshpande, Fleck & Ashby 2001 [from memory]);
     # from C11 = rho E/6 and C12 = rho E/12: E = (C11 - C12)(C11 + 2 C12)/(C11 + C12) = rho E / 9
     c11, c12 = 1 / 6, 1 / 12
     assert math.isclose((c11 - c12) * (c11 + 2 * c12) / (c11 + c12), 1 / 9, rel_tol=RTOL_FORMULA)

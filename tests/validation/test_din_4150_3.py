@@ -1,9 +1,10 @@
 """DIN 4150-3 structural damage guideline values (short-term vibration at the foundation).
 
-Reference: DIN 4150-3:2016, Table 1 (values as reproduced in a secondary source, REFERENCES
-"[C, secondary]"; the standard itself not opened here): peak particle velocity in mm/s at
-1–10 / 10–50 / 50–100 Hz: commercial 20 / 20–40 / 40–50; dwellings 5 / 5–15 / 15–20;
-sensitive 3 / 3–8 / 8–10.  Between corner values the kit interpolates linearly in frequency
+Reference: DIN 4150-3:2016, Vibrations in buildings – Part 3: Effects on structures, Table 1
+(from memory: the values were seen in a secondary source that is not named, and the standard itself
+was not opened here; in the register of values to confirm as criteria.din-4150-3): peak particle
+velocity in mm/s at 1–10 / 10–50 / 50–100 Hz: commercial 20 / 20–40 / 40–50; dwellings 5 / 5–15 /
+15–20; sensitive 3 / 3–8 / 8–10.  Between corner values the kit interpolates linearly in frequency
 (the straight lines of the standard's Figure 1, from memory).
 """
 
@@ -52,3 +53,13 @@ def test_assessment_verdicts():
     assert ok.step("criterion.din-4150-3-check").ok                 # 4 <= 10 mm/s
     bad = C.din_4150_3_assessment(ppv=Q_(4, "mm/s"), frequency=Q_(8, "Hz"), building="sensitive")
     assert not bad.step("criterion.din-4150-3-check").ok            # 4 > 3 mm/s
+
+
+def test_the_guideline_is_marked_for_confirmation():
+    # recalled values: the source says so, and a check on them is named by the approval rule
+    from latticecalc.sources_register import blocks_approval, register_entries
+
+    assert C.DIN_4150_3.from_memory
+    assert [e.id for e in register_entries(C.DIN_4150_3)] == ["criteria.din-4150-3"]
+    res = C.din_4150_3_assessment(ppv=Q_(4, "mm/s"), frequency=Q_(30, "Hz"), building="dwelling")
+    assert blocks_approval(res) == [C.DIN_4150_3]

@@ -3,9 +3,10 @@
 Greenhill, A. G., "Determination of the greatest height consistent with stability that a vertical
 pole or mast can be made", Proc. Camb. Phil. Soc. 4 (1881) 65-73: a uniform column fixed at the base,
 free at the top, buckles under its own weight q per unit length when L > (7.8373 E I / q)^(1/3).
-Coefficient 7.8373 seen in secondary copies of the "Self-buckling" encyclopedia article [C];
+Coefficient 7.8373 seen in secondary copies of the "Self-buckling" encyclopedia article;
 Timoshenko & Gere, Theory of Elastic Stability (1961), §2.13 [from memory].  Coefficient = (9/4) j^2,
-j = 1.866350859 the first zero of J_(-1/3) (REFERENCES.md [D]).
+j = 1.866350859 the first zero of J_(-1/3) (derived: the root of the Bessel function, computed to 10
+figures; it reproduces Greenhill's printed coefficient).
 """
 
 from __future__ import annotations
@@ -21,7 +22,7 @@ from latticecalc import Q_
 from latticecalc.physics.selfweight import bessel_zero_minus_third, greenhill_coefficient, greenhill_height
 
 PUBLISHED_COEFFICIENT = 7.8373      # Greenhill 1881, as printed (5 significant figures)
-PUBLISHED_ZERO = 1.866350859        # first zero of J_(-1/3), REFERENCES.md [D], 10 figures
+PUBLISHED_ZERO = 1.866350859        # first zero of J_(-1/3), computed to 10 figures (derived; see docstring)
 RTOL_PRINTED_5 = 0.5e-4 / 7.8373    # half a unit in the last printed place
 RTOL_PRINTED_10 = 1e-9
 RTOL_ODE = 1e-6                     # independent shooting solution, solver tolerance 1e-11

@@ -35,7 +35,7 @@ def bands():
 
 def test_printed_examples(bands):
     x = list(bands.value["index"])
-    for n, fm, f1, f2 in [(-12, 63.096, 56.234, 70.795), (-11, 79.433, 70.795, 89.125)]:  # IEC 61260-1 / REFERENCES [C]
+    for n, fm, f1, f2 in [(-12, 63.096, 56.234, 70.795), (-11, 79.433, 70.795, 89.125)]:  # IEC 61260-1:2014 printed
         i = x.index(n)
         assert_quantity_close(bands.centre[i], fm, unit="Hz", rtol=PRINTED_RTOL)
         assert_quantity_close(bands.lower[i], f1, unit="Hz", rtol=PRINTED_RTOL)
@@ -57,7 +57,7 @@ def test_exact_base_10_formula(bands):
 
 
 def test_nominal_labels_iso_266(bands):
-    # ISO 266:1997 R10 series (from memory); 25 Hz and up as printed in IEC 61260-1 tables [C]
+    # ISO 266:1997 R10 series (from memory); 25 Hz and up as printed in the IEC 61260-1:2014 tables
     expected = ["1", "1.25", "1.6", "2", "2.5", "3.15", "4", "5", "6.3", "8", "10", "12.5", "16", "20",
                 "25", "31.5", "40", "50", "63", "80", "100", "125", "160", "200", "250"]
     assert list(bands.value["nominal"]) == expected

@@ -1,6 +1,7 @@
 """Vibration criteria curves with their published sources, exceedance and required insertion loss.
 
-Three families, each selectable by id (see :data:`CRITERIA`):
+Four families, each selectable by id (see :data:`CRITERIA`); every criterion's title names the
+edition it comes from:
 
 - **Generic vibration criterion curves** for sensitive equipment (VC-A to VC-E): one-third-octave
   RMS velocity, constant from 1 to 80 Hz (Gordon 1991; Amick, Gendreau, Busch & Gordon 2005).
@@ -8,16 +9,24 @@ Three families, each selectable by id (see :data:`CRITERIA`):
   a = 10⁻² f^(−1/2) m/s², 4–8 Hz 5 × 10⁻³ m/s², 8–80 Hz 6.25 × 10⁻⁴ f m/s²) times a multiplying
   factor for the occupancy, converted to velocity per band, v = k a / (2π f_m).  Between 8 and
   80 Hz this is k × 99.5 µm/s, the "ISO" occupancy curves of Gordon (1991) (rounded there to
-  100 / 200 / 400 / 800 µm/s).
+  100 / 200 / 400 / 800 µm/s).  These are the 1989 edition's curves: the current edition,
+  ISO 2631-2:2003, gives a measurement method (the W_m weighting) and no base curve, and
+  BS 6472:1992 is replaced by BS 6472-1:2008.  The ``iso-*`` ids keep the 1989 curve and say so.
+- **BS 6472-1:2008 vibration dose value ranges** (Table 1, residential buildings, 16 h day and
+  8 h night) for intermittent vibration such as train pass-bys: the VDV of the period
+  (:mod:`latticecalc.signals.vdv`) against the upper end of a range, :func:`vdv_assessment`.
 - **Transit ground-borne vibration impact criteria** (US FTA), overall RMS velocity in VdB
-  re 1 µin/s, by land-use category and event frequency: 2006 manual Table 8-1 and 2018 manual
-  Table 6-3.  These limit the overall (1 s, slow) level, not a band; bands are screened against
-  the same value (necessary, not sufficient) and the overall level is checked.
+  re 1 µin/s, by land-use category and event frequency: 2006 manual Table 8-1 (the ids without an
+  edition, kept for existing projects) and 2018 manual Table 6-3 (the ``fta-2018-*`` ids).  These
+  limit the overall (1 s, slow) level, not a band; bands are screened against the same value
+  (necessary, not sufficient) and the overall level is checked.
 
 Optionally, the **DIN 4150-3** structural damage guideline: peak particle velocity at the foundation
 against a value interpolated linearly in frequency between the table's corner values.
 
-Values marked ``from memory`` could not be checked against the primary document here.
+Values whose source is tagged ``from memory`` could not be checked against the primary document
+here; they are listed, with where they are used, in the register of values to confirm
+(:func:`latticecalc.sources_register.register_entries`).
 """
 
 from __future__ import annotations
@@ -30,6 +39,7 @@ import sympy as sp
 from latticecalc.errors import InputError
 from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
 from latticecalc.signals.spectra import velocity_from_level
+from latticecalc.signals.vdv import VDV_UNIT
 from latticecalc.units import Q_, check_dimension
 
 GORDON_1991 = Source(author="Gordon, C. G.", title="Generic criteria for vibration-sensitive equipment. "
@@ -41,19 +51,29 @@ ISO_2631_2_1989 = Source(author="ISO", title="ISO 2631-2:1989 Evaluation of huma
                          "vibration – Part 2: Continuous and shock-induced vibration in buildings (1 to 80 Hz)",
                          year=1989, locator="base curve, z-axis acceleration; Annex A multiplying factors",
                          tag="from memory")
+ISO_2631_2_2003 = Source(author="ISO", title="ISO 2631-2:2003 Mechanical vibration and shock – Evaluation of "
+                         "human exposure to whole-body vibration – Part 2: Vibration in buildings (1 Hz to 80 Hz)",
+                         year=2003, locator="W_m frequency weighting; no base curve and no acceptable magnitudes "
+                         "(withdrawn from the 1989 edition)", tag="from memory")
 BS_6472_1992 = Source(author="BSI", title="BS 6472:1992 Guide to evaluation of human exposure to vibration "
                       "in buildings (1 Hz to 80 Hz)", year=1992, locator="Table 5, multiplying factors",
                       tag="from memory")
+BS_6472_1_2008 = Source(author="BSI", title="BS 6472-1:2008 Guide to evaluation of human exposure to vibration "
+                        "in buildings – Part 1: Vibration sources other than blasting", year=2008,
+                        locator="Table 1, vibration dose value ranges which might result in various probabilities "
+                        "of adverse comment within residential buildings",
+                        tag="values as reproduced by NoiseNet (UK); the standard itself not opened")
 FTA_2006 = Source(author="US Federal Transit Administration", title="Transit Noise and Vibration Impact "
                   "Assessment, FTA-VA-90-1003-06", year=2006,
-                  locator="Table 8-1, ground-borne vibration impact criteria (frequent, infrequent)")
+                  locator="Table 8-1, ground-borne vibration impact criteria (frequent, infrequent)",
+                  tag="values as reproduced in environmental impact statements citing the FTA criteria")
 FTA_2018 = Source(author="US Federal Transit Administration", title="Transit Noise and Vibration Impact "
                   "Assessment Manual, FTA Report No. 0123", year=2018,
                   locator="Table 6-3 (frequent, occasional, infrequent events)", tag="from memory")
 
 # --- formulas --------------------------------------------------------------------------------
 _f, _f0, _a0, _k, _a, _v, _vl, _dl, _margin = sp.symbols("f f_0 a_0 k a v v_lim Delta_L m")
-#: ISO 2631-2 base curve, three segments (1–4 Hz, 4–8 Hz, 8–80 Hz); f_0 = 1 Hz.
+#: ISO 2631-2:1989 base curve, three segments (1–4 Hz, 4–8 Hz, 8–80 Hz); f_0 = 1 Hz.
 BASE_CURVE_LOW = Formula("a_b", _a0 * (_f / _f0) ** sp.Rational(-1, 2))
 BASE_CURVE_MID = Formula("a_b", _a0)
 BASE_CURVE_HIGH = Formula("a_b", _a0 * (_f / _f0))
@@ -71,9 +91,11 @@ _BASE_SEGMENTS = ((1.0, 4.0, BASE_CURVE_LOW, 1e-2), (4.0, 8.0, BASE_CURVE_MID, 5
 class Criterion:
     """A selectable criterion.
 
-    ``kind`` is ``"vc"`` (flat band velocity), ``"iso"`` (base curve × factor) or ``"overall"``
-    (one VdB value for the overall level).  ``value`` is µm/s for ``vc``, the multiplying factor
-    for ``iso`` and VdB for ``overall``.
+    ``kind`` is ``"vc"`` (flat band velocity), ``"iso"`` (base curve × factor), ``"overall"``
+    (one VdB value for the overall level) or ``"vdv"`` (a vibration dose value range).  ``value``
+    is µm/s for ``vc``, the multiplying factor for ``iso``, VdB for ``overall`` and, for ``vdv``,
+    the upper end of the range in m/s^1.75 (the limit checked), ``lower`` its lower end.
+    ``edition`` names the published edition the values come from.
     """
 
     id: str
@@ -82,6 +104,9 @@ class Criterion:
     value: float
     source: Source
     note: str = ""
+    edition: str = ""
+    lower: float | None = None
+    period: str = ""
 
 
 CRITERIA: dict[str, Criterion] = {}
@@ -92,24 +117,62 @@ def _add(c: Criterion) -> None:
 
 
 for _id, _um in (("vc-a", 50.0), ("vc-b", 25.0), ("vc-c", 12.5), ("vc-d", 6.25), ("vc-e", 3.12)):
-    _add(Criterion(id=_id, title=f"{_id.upper()} generic vibration criterion ({_um:g} µm/s)", kind="vc",
-                   value=_um, source=AMICK_2005))
+    _add(Criterion(id=_id, title=f"{_id.upper()} generic vibration criterion ({_um:g} µm/s; Amick et al. 2005)",
+                   kind="vc", value=_um, source=AMICK_2005, edition="Amick et al. 2005"))
 for _id, _factor, _what in (("iso-critical", 1.0, "critical working areas (operating theatres)"),
                             ("iso-residential-night", 1.4, "residential, night"),
                             ("iso-residential-day", 2.0, "residential, day (factor 2 to 4)"),
                             ("iso-office", 4.0, "offices"), ("iso-workshop", 8.0, "workshops")):
-    _add(Criterion(id=_id, title=f"ISO 2631-2 base curve × {_factor:g}: {_what}", kind="iso", value=_factor,
-                   source=BS_6472_1992, note="continuous vibration; z-axis base curve"))
-for _id, _vdb, _what, _src in (
-        ("fta-cat1", 65.0, "category 1 (vibration-sensitive buildings), all event rates", FTA_2006),
-        ("fta-cat2-frequent", 72.0, "category 2 (residences), frequent events (> 70/day)", FTA_2006),
-        ("fta-cat2-occasional", 75.0, "category 2 (residences), occasional events (30–70/day)", FTA_2018),
-        ("fta-cat2-infrequent", 80.0, "category 2 (residences), infrequent events (< 30/day)", FTA_2006),
-        ("fta-cat3-frequent", 75.0, "category 3 (institutional, daytime), frequent events", FTA_2006),
-        ("fta-cat3-occasional", 78.0, "category 3 (institutional, daytime), occasional events", FTA_2018),
-        ("fta-cat3-infrequent", 83.0, "category 3 (institutional, daytime), infrequent events", FTA_2006)):
-    _add(Criterion(id=_id, title=f"FTA {_vdb:g} VdB: {_what}", kind="overall", value=_vdb, source=_src,
-                   note="limit on the overall RMS velocity (1 s, slow), re 1 µin/s"))
+    _add(Criterion(id=_id, title=f"ISO 2631-2:1989 base curve × {_factor:g} (BS 6472:1992): {_what}", kind="iso",
+                   value=_factor, source=BS_6472_1992, edition="ISO 2631-2:1989 / BS 6472:1992",
+                   note="continuous vibration; z-axis base curve of ISO 2631-2:1989 (the 2003 edition gives no "
+                        "base curve; BS 6472:1992 is replaced by BS 6472-1:2008)"))
+
+#: BS 6472-1:2008 Table 1, residential buildings: VDV ranges (m/s^1.75) by period and probability of comment.
+BS_6472_1_2008_TABLE_1 = {
+    ("day", "low"): (0.2, 0.4), ("day", "possible"): (0.4, 0.8), ("day", "probable"): (0.8, 1.6),
+    ("night", "low"): (0.1, 0.2), ("night", "possible"): (0.2, 0.4), ("night", "probable"): (0.4, 0.8),
+}
+_COMMENT = {"low": "low probability of adverse comment", "possible": "adverse comment possible",
+            "probable": "adverse comment probable"}
+_PERIOD = {"day": "16 h day (07:00–23:00)", "night": "8 h night (23:00–07:00)"}
+for (_period, _which), (_lo, _hi) in BS_6472_1_2008_TABLE_1.items():
+    _add(Criterion(id=f"bs6472-1-2008-{_period}-{_which}", kind="vdv", value=_hi, lower=_lo, period=_period,
+                   title=f"BS 6472-1:2008 residential, {_PERIOD[_period]}: VDV ≤ {_hi:g} m/s^1.75, upper end of "
+                         f"'{_COMMENT[_which]}' ({_lo:g}–{_hi:g})",
+                   source=BS_6472_1_2008, edition="BS 6472-1:2008",
+                   note="below the lowest range adverse comment is not expected; above the highest, very likely"))
+
+_FTA_NOTE = "limit on the overall RMS velocity (1 s, slow), re 1 µin/s"
+_CATEGORY = {1: "category 1 (vibration-sensitive buildings)", 2: "category 2 (residences)",
+             3: "category 3 (institutional, daytime)"}
+_EVENTS = {"frequent": "frequent events (> 70/day)", "occasional": "occasional events (30–70/day)",
+           "infrequent": "infrequent events (< 30/day)"}
+#: FTA 2018 manual, Table 6-3: ground-borne vibration impact criteria (VdB) by category and event rate.
+FTA_2018_TABLE_6_3 = {(1, "frequent"): 65.0, (1, "occasional"): 65.0, (1, "infrequent"): 65.0,
+                      (2, "frequent"): 72.0, (2, "occasional"): 75.0, (2, "infrequent"): 80.0,
+                      (3, "frequent"): 75.0, (3, "occasional"): 78.0, (3, "infrequent"): 83.0}
+#: FTA 2006 manual, Table 8-1 (frequent and infrequent events), under the ids projects already use.
+FTA_2006_TABLE_8_1 = {"fta-cat1": (1, "", 65.0), "fta-cat2-frequent": (2, "frequent", 72.0),
+                      "fta-cat2-infrequent": (2, "infrequent", 80.0), "fta-cat3-frequent": (3, "frequent", 75.0),
+                      "fta-cat3-infrequent": (3, "infrequent", 83.0)}
+for _id, (_cat, _ev, _vdb) in FTA_2006_TABLE_8_1.items():
+    # the reproductions of the 2006 table define frequent as more than 70 events a day and infrequent as
+    # fewer; the 2018 manual's occasional column splits the latter, so no bound is printed for infrequent
+    _what = f"{_CATEGORY[_cat]}, " + {"": "all event rates", "frequent": _EVENTS["frequent"],
+                                      "infrequent": "infrequent events"}[_ev]
+    _add(Criterion(id=_id, title=f"FTA 2006 (Table 8-1) {_vdb:g} VdB: {_what}", kind="overall", value=_vdb,
+                   source=FTA_2006, note=_FTA_NOTE, edition="FTA 2006"))
+# the occasional-events ids came with the 2018 manual's column; kept under their old ids
+for _cat in (2, 3):
+    _vdb = FTA_2018_TABLE_6_3[(_cat, "occasional")]
+    _add(Criterion(id=f"fta-cat{_cat}-occasional", kind="overall", value=_vdb, source=FTA_2018, note=_FTA_NOTE,
+                   title=f"FTA 2018 (Table 6-3) {_vdb:g} VdB: {_CATEGORY[_cat]}, {_EVENTS['occasional']}",
+                   edition="FTA 2018"))
+for (_cat, _ev), _vdb in FTA_2018_TABLE_6_3.items():
+    _add(Criterion(id=f"fta-2018-cat{_cat}-{_ev}", kind="overall", value=_vdb, source=FTA_2018, note=_FTA_NOTE,
+                   title=f"FTA 2018 (Table 6-3) {_vdb:g} VdB: {_CATEGORY[_cat]}, {_EVENTS[_ev]}",
+                   edition="FTA 2018"))
 
 
 def get_criterion(criterion: str) -> Criterion:
@@ -138,12 +201,12 @@ def base_curve(*, frequency) -> CalcResult:
         if not sel.any():
             continue
         step = evaluate(formula, id=f"criterion.base-curve-{k + 1}",
-                        description=f"ISO 2631-2 base curve, {lo:g}–{hi:g} Hz",
+                        description=f"ISO 2631-2:1989 base curve, {lo:g}–{hi:g} Hz",
                         values={"a_0": Q_(a0, "m/s^2"), "f": Q_(f[sel], "Hz"), "f_0": Q_(1.0, "Hz")},
                         unit="m/s^2", source=ISO_2631_2_1989)
         out[sel] = np.broadcast_to(step.result.m, sel.sum())
         steps.append(step)
-    return CalcResult(value=Q_(out, "m/s^2"), steps=tuple(steps), title="ISO 2631-2 base curve")
+    return CalcResult(value=Q_(out, "m/s^2"), steps=tuple(steps), title="ISO 2631-2:1989 base curve")
 
 
 def criterion_curve(*, criterion: str, centre) -> CriterionCurve:
@@ -153,6 +216,10 @@ def criterion_curve(*, criterion: str, centre) -> CriterionCurve:
     what they limit).
     """
     c = get_criterion(criterion)
+    if c.kind == "vdv":
+        raise InputError("a vibration dose value criterion limits the VDV of a period, not band levels",
+                         input_name="criterion", expected="a band criterion (vc-*, iso-*, fta-*), or "
+                         "vdv_assessment() for this one", got=repr(criterion))
     f = np.atleast_1d(check_dimension(centre, name="centre", expected="frequency").to("Hz").m)
     if c.kind == "vc":
         v = np.where((f >= 1.0 / 1.06) & (f <= 80.0 * 1.06), c.value * 1e-6, np.nan)
@@ -164,7 +231,7 @@ def criterion_curve(*, criterion: str, centre) -> CriterionCurve:
         a = base.value.m
         ok = np.isfinite(a)
         if not ok.any():
-            raise InputError("the ISO 2631-2 curve is defined from 1 to 80 Hz only", input_name="centre",
+            raise InputError("the ISO 2631-2:1989 curve is defined from 1 to 80 Hz only", input_name="centre",
                              expected="band frequencies between 1 and 80 Hz", got=f"{f.min():g}–{f.max():g} Hz")
         lim = evaluate(VELOCITY_LIMIT, id=f"criterion.{c.id}", description=f"{c.title}, as band velocity "
                        "(bands from 1 to 80 Hz)", values={"k": Q_(c.value, ""), "a": Q_(a[ok], "m/s^2"),
@@ -265,6 +332,30 @@ def assess(*, levels, criterion: str, margin=None, overall=None) -> Assessment:
                              "required_loss": Q_(req, "dB")},
                       steps=tuple(steps), criterion=curve.criterion, worst_band=worst,
                       worst_exceedance=worst_exc, title=f"Assessment against {curve.criterion.title}")
+
+
+def vdv_assessment(*, vdv, criterion: str) -> CalcResult:
+    """A period's vibration dose value ``vdv`` [m/s^1.75] against a BS 6472-1:2008 range.
+
+    ``criterion`` is a ``bs6472-1-2008-<day|night>-<low|possible|probable>`` id; the check passes
+    when the VDV does not exceed the upper end of that range (so the probability of adverse comment
+    is at most the range's).  Compute the VDV of the 16 h day or the 8 h night with
+    :mod:`latticecalc.signals.vdv` from the frequency-weighted acceleration.
+    """
+    c = get_criterion(criterion)
+    if c.kind != "vdv":
+        raise InputError("not a vibration dose value criterion", input_name="criterion",
+                         expected="one of " + ", ".join(k for k, v in CRITERIA.items() if v.kind == "vdv"),
+                         got=repr(criterion))
+    v = check_dimension(vdv, name="vdv", expected=VDV_UNIT).to(VDV_UNIT)
+    lim = quantity_step(id=f"criterion.{c.id}", description=c.title, value=Q_(c.value, VDV_UNIT), unit=VDV_UNIT,
+                        method=f"upper end of the range {c.lower:g}–{c.value:g} m/s^1.75 ({c.period})",
+                        source=c.source, note=c.note)
+    # a check re-reads its limit's unit from text, which a fractional power (m/s^1.75) does not survive:
+    # compare the magnitudes in m/s^1.75 and say so in the description
+    chk = check(id="criterion.vdv", description=f"Vibration dose value ({c.period}, in m/s^1.75) against {c.title}",
+                demand=float(v.m), limit=float(c.value), source=c.source, note=c.note)
+    return CalcResult(value=lim.result, steps=(lim, chk), title=f"Vibration dose value against {c.title}")
 
 
 def _db(step, values):

@@ -4,6 +4,10 @@ Euler–Bernoulli: f_n = λ_n² / (2π L²) · √(E I / (ρ A)).  The eigenvalu
 each support case's characteristic equation, found here numerically (never typed in), see
 Rao, *Mechanical Vibrations*, 6th ed. (2017), §8.5, Table 8.1.
 
+Sections: solid circle, rectangle and hollow circle (a tube of outer diameter D and wall thickness t,
+inner diameter d_i = D − 2t): A = π(D² − d_i²)/4, I = π(D⁴ − d_i⁴)/64, J = 2I (Roark's Formulas,
+7th ed., Table A.1, from memory), with Cowper's shear coefficient of the hollow circle.
+
 Timoshenko (shear deformation and rotary inertia, Cowper's shear coefficient): the pinned–pinned
 case has an exact closed form (Han, Benaroya & Wei 1999); the other support cases are solved
 numerically as the roots of the 4 × 4 boundary-condition determinant of the Timoshenko equations
@@ -29,6 +33,10 @@ RAO_2017 = Source(author="Rao, S. S.", title="Mechanical Vibrations, 6th ed.", y
                   locator="§8.5, eq. (8.82) and Table 8.1")
 COWPER_1966 = Source(author="Cowper, G. R.", title="The shear coefficient in Timoshenko's beam theory, "
                      "J. Appl. Mech. 33, 335–340", year=1966, locator="Table 1, solid circle and rectangle")
+COWPER_1966_TUBE = Source(author="Cowper, G. R.", title="The shear coefficient in Timoshenko's beam theory, "
+                          "J. Appl. Mech. 33, 335–340", year=1966,
+                          locator="Table 1, hollow circle, m = inner over outer radius (thin-walled round tube "
+                                  "at m → 1: 2(1 + ν)/(4 + 3ν))", tag="from memory")
 HAN_1999 = Source(author="Han, S. M., Benaroya, H. & Wei, T.",
                   title="Dynamics of transversely vibrating beams using four engineering theories, "
                   "J. Sound Vib. 225(5), 935–988", year=1999,
@@ -41,7 +49,7 @@ MODAL_MASS_SOURCE = Source(author="Chopra, A. K.", title="Dynamics of Structures
 
 SUPPORTS = ("clamped-clamped", "pinned-pinned", "clamped-pinned", "clamped-free")
 THEORIES = ("euler-bernoulli", "timoshenko")
-SHAPES = ("circle", "rectangle")
+SHAPES = ("circle", "rectangle", "tube")
 
 #: Timoshenko results more than this fraction below Euler–Bernoulli are flagged on the sheet.
 TIMOSHENKO_FLAG = 0.02
@@ -158,6 +166,19 @@ SHEAR_MODULUS = Formula("G", _E / (2 * (1 + _nu)))
 COWPER_CIRCLE = Formula("kappa", 6 * (1 + _nu) / (7 + 6 * _nu))
 COWPER_RECTANGLE = Formula("kappa", 10 * (1 + _nu) / (12 + 11 * _nu))
 
+# Hollow circle (tube): outer diameter D, wall thickness t, inner diameter d_i = D − 2t, m = d_i / D.
+_D, _di, _t, _m = sp.symbols("D d_i t m")
+_TUBE_NAMES = {"d_i": r"d_\mathrm{i}"}
+INNER_DIAMETER = Formula("d_i", _D - 2 * _t, _TUBE_NAMES)
+DIAMETER_RATIO = Formula("m", _di / _D, _TUBE_NAMES)
+AREA_TUBE = Formula("A", sp.pi * (_D**2 - _di**2) / 4, _TUBE_NAMES)
+SECOND_MOMENT_TUBE = Formula("I", sp.pi * (_D**4 - _di**4) / 64, _TUBE_NAMES)
+#: Torsion constant of a closed circular tube, J = 2I (the polar second moment).
+POLAR_MOMENT_TUBE = Formula("J", sp.pi * (_D**4 - _di**4) / 32, _TUBE_NAMES)
+#: Cowper (1966) Table 1, hollow circle; m = 0 gives the solid circle, m → 1 the thin-walled tube.
+COWPER_TUBE = Formula("kappa", 6 * (1 + _nu) * (1 + _m**2) ** 2
+                      / ((7 + 6 * _nu) * (1 + _m**2) ** 2 + (20 + 12 * _nu) * _m**2))
+
 # Han, Benaroya & Wei (1999), hinged–hinged Timoshenko beam, k = nπ/L:
 #   a ω⁴ − b ω² + c = 0 with a = ρ²I/(κG), b = ρA + ρI k² (1 + E/(κG)), c = E I k⁴.
 # The lower (bending) root is written ω² = 2c / (b + √(b² − 4ac)), the same root as
@@ -192,32 +213,96 @@ LENGTH_FOR_FREQUENCY = Formula("L", _solved_for(_L))
 SECTION_SOURCE = Source(author="Young, W. C. & Budynas, R. G.",
                         title="Roark's Formulas for Stress and Strain, 7th ed.", year=2002,
                         locator="Table A.1, solid circle and rectangle", tag="from memory")
+TUBE_SECTION_SOURCE = Source(author="Young, W. C. & Budynas, R. G.",
+                             title="Roark's Formulas for Stress and Strain, 7th ed.", year=2002,
+                             locator="Table A.1, hollow circle; Table 10.1, closed thin-walled tube J = 2I",
+                             tag="from memory")
 
 
 # --- sections ---------------------------------------------------------------------------------
 @dataclass(frozen=True, kw_only=True)
 class Section(CalcResult):
-    """A solid cross-section; ``value`` is the area.
+    """A cross-section; ``value`` is the area.
 
-    ``shape`` is ``"circle"`` or ``"rectangle"`` and selects Cowper's shear coefficient.
+    ``shape`` is ``"circle"``, ``"rectangle"`` or ``"tube"`` (hollow circle) and selects Cowper's
+    shear coefficient; a tube also carries its ``diameter_ratio`` m = d_i / D.
     """
 
     shape: str
     area: object
     second_moment: object
+    diameter_ratio: object = None
 
 
-def circular_section(*, diameter, id_prefix: str = "strut") -> Section:
-    """Area and second moment of area of a solid circle.
+def check_wall_thickness(wall_thickness, *, outer_diameter, name: str = "wall_thickness"):
+    """A tube's wall thickness [length], or None for a solid section (None or zero given).
+
+    The wall must be thinner than the outer radius: a wall of D/2 or more is a solid rod.
+    """
+    if wall_thickness is None:
+        return None
+    t = check_dimension(wall_thickness, name=name, expected="length")
+    tm = float(t.to("m").magnitude) if np.ndim(t.magnitude) == 0 else float("nan")
+    if not math.isfinite(tm) or tm < 0:
+        raise InputError("a wall thickness is a single length, zero (solid) or positive", input_name=name,
+                         expected=">= 0 mm (0 for a solid rod)", got=str(t))
+    if tm == 0:
+        return None
+    dm = float(_length(outer_diameter, "outer_diameter").to("m").magnitude)
+    if not tm < dm / 2:
+        raise InputError("the wall of a tube must be thinner than its outer radius", input_name=name,
+                         expected=f"less than {format_number(dm / 2 * 1e3, 4)} mm (half the outer diameter; "
+                                  "leave it out, or 0, for a solid rod)",
+                         got=f"{format_number(tm * 1e3, 4)} mm")
+    return t.to("mm")
+
+
+def tube_section(*, outer_diameter, wall_thickness, id_prefix: str = "strut") -> Section:
+    """Area, second moment and diameter ratio of a hollow circle (a tube).
+
+    Parameters
+    ----------
+    outer_diameter:
+        Outer diameter D [length].
+    wall_thickness:
+        Wall thickness t [length], 0 < t < D/2.
+    id_prefix:
+        Prefix of the step ids.
+    """
+    D = _length(outer_diameter, "outer_diameter")
+    t = check_wall_thickness(wall_thickness, outer_diameter=D)
+    if t is None:
+        raise InputError("a tube needs a wall thickness", input_name="wall_thickness",
+                         expected="a positive length below half the outer diameter", got="0 or none")
+    di = evaluate(INNER_DIAMETER, id=f"{id_prefix}.inner-diameter", description="Inner diameter of the tube",
+                  values={"D": D, "t": t}, unit="mm", source=TUBE_SECTION_SOURCE)
+    vals = {"D": D, "d_i": di.result}
+    a = evaluate(AREA_TUBE, id=f"{id_prefix}.area", description="Tube cross-section area", values=vals,
+                 unit="mm^2", source=TUBE_SECTION_SOURCE)
+    i = evaluate(SECOND_MOMENT_TUBE, id=f"{id_prefix}.second-moment",
+                 description="Second moment of area of the tube section", values=vals, unit="mm^4",
+                 source=TUBE_SECTION_SOURCE)
+    m = evaluate(DIAMETER_RATIO, id=f"{id_prefix}.diameter-ratio", description="Inner over outer diameter",
+                 values=vals, unit="", source=TUBE_SECTION_SOURCE, sig=6)
+    return Section(value=a.result, steps=(di, a, i, m), shape="tube", area=a.result, second_moment=i.result,
+                   diameter_ratio=m.result, title="Hollow circular section (tube)")
+
+
+def circular_section(*, diameter, wall_thickness=None, id_prefix: str = "strut") -> Section:
+    """Area and second moment of area of a solid circle, or of a tube when a wall thickness is given.
 
     Parameters
     ----------
     diameter:
-        Diameter [length].
+        (Outer) diameter [length].
+    wall_thickness:
+        Wall thickness of a tube [length]; None or zero for a solid circle.
     id_prefix:
         Prefix of the step ids.
     """
     d = _length(diameter, "diameter")
+    if check_wall_thickness(wall_thickness, outer_diameter=d) is not None:
+        return tube_section(outer_diameter=d, wall_thickness=wall_thickness, id_prefix=id_prefix)
     a = evaluate(AREA_CIRCLE, id=f"{id_prefix}.area", description="Strut cross-section area",
                  values={"d": d}, unit="mm^2", source=SECTION_SOURCE)
     i = evaluate(SECOND_MOMENT_CIRCLE, id=f"{id_prefix}.second-moment",
@@ -342,14 +427,15 @@ def section_bending_frequency(*, length, section: Section, youngs_modulus, densi
                               supports: str = "clamped-clamped", mode: int = 1,
                               theory: str = "euler-bernoulli", poissons_ratio=None,
                               id_prefix: str = "strut") -> BendingFrequency:
-    """Natural bending frequency of a uniform beam of a given solid section.
+    """Natural bending frequency of a uniform beam of a given section (solid, or a tube).
 
     Parameters
     ----------
     length:
         Length between the supports [length].
     section:
-        A :class:`Section` from :func:`circular_section` or :func:`rectangular_section`.
+        A :class:`Section` from :func:`circular_section`, :func:`tube_section` or
+        :func:`rectangular_section`.
     youngs_modulus:
         Young's modulus [pressure]; the dynamic modulus for an elastomer.
     density:
@@ -395,10 +481,15 @@ def section_bending_frequency(*, length, section: Section, youngs_modulus, densi
 
     g = evaluate(SHEAR_MODULUS, id=f"{id_prefix}.shear-modulus", description="Shear modulus (isotropic)",
                  values={"E": E, "nu": nu}, unit="MPa", source=ELASTICITY)
-    cowper = COWPER_CIRCLE if section.shape == "circle" else COWPER_RECTANGLE
-    k = evaluate(cowper, id=f"{id_prefix}.shear-coefficient",
-                 description=f"Shear coefficient of a solid {section.shape} (Cowper)",
-                 values={"nu": nu}, unit="", source=COWPER_1966, sig=6)
+    if section.shape == "tube":
+        k = evaluate(COWPER_TUBE, id=f"{id_prefix}.shear-coefficient",
+                     description="Shear coefficient of a hollow circle (Cowper)",
+                     values={"nu": nu, "m": section.diameter_ratio}, unit="", source=COWPER_1966_TUBE, sig=6)
+    else:
+        cowper = COWPER_CIRCLE if section.shape == "circle" else COWPER_RECTANGLE
+        k = evaluate(cowper, id=f"{id_prefix}.shear-coefficient",
+                     description=f"Shear coefficient of a solid {section.shape} (Cowper)",
+                     values={"nu": nu}, unit="", source=COWPER_1966, sig=6)
     t_id = f"{id_prefix}.f{n}-{tag}"
     t_desc = f"Bending frequency, mode {n}, {supports} (Timoshenko)"
     if supports == "pinned-pinned":

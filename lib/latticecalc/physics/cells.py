@@ -21,6 +21,10 @@ Conventions (the finite-element, density and mass code all rely on them)
 * **Groups.**  Each strut belongs to a group (``"lattice"``, ``"frame"``), each group with its
   own diameter (``diameters``) and, in the calculations, its own material.  ``frame_diameter``
   adds the 12 cube edges (split at any lattice node lying on them) as the ``"frame"`` group.
+* **Sections.**  A group's struts are solid circular rods of its diameter unless
+  ``wall_thicknesses`` gives the group a wall thickness t: then they are tubes of outer diameter
+  D and inner diameter D − 2t (see :meth:`Cell.with_wall_thicknesses`).  Every model (mass, FE
+  sections, buckling) reads the section from the cell.
 
 Octet truss: the face-centred cubic cell of edge a = √2 l has 14 nodes (8 corners, 6 face
 centres) and 36 struts of length l: 24 face half-diagonals of weight 1/2 and 12 interior struts
@@ -49,6 +53,7 @@ import numpy as np
 import pint
 
 from latticecalc.errors import InputError
+from latticecalc.physics.beams import INNER_DIAMETER, check_wall_thickness
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Source, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
@@ -165,6 +170,9 @@ class Cell:
     point_masses:
         Masses added at mid-span of every strut of a group: group -> (mass [mass], rotary inertia
         [mass × length²]) (see :meth:`with_point_mass`); empty by default.
+    wall_thicknesses:
+        Wall thickness [length] of each group whose struts are tubes (hollow circles of outer
+        diameter ``diameters[group]``); a group not listed is solid.  Empty by default.
     """
 
     kind: str
@@ -175,6 +183,8 @@ class Cell:
     diameters: Mapping[str, pint.Quantity]
     weights: np.ndarray
     point_masses: Mapping[str, tuple[pint.Quantity, pint.Quantity]] = dataclasses.field(
+        default_factory=lambda: MappingProxyType({}))
+    wall_thicknesses: Mapping[str, pint.Quantity] = dataclasses.field(
         default_factory=lambda: MappingProxyType({}))
 
     # geometry --------------------------------------------------------------------------------
@@ -203,8 +213,25 @@ class Cell:
 
     @property
     def strut_diameters(self) -> pint.Quantity:
-        """Diameter of each strut [m], from its group."""
+        """Diameter of each strut [m], from its group (the outer diameter of a tube)."""
         return Q_(np.array([self.diameters[g].to("m").magnitude for g in self.groups]), "m")
+
+    def is_hollow(self, group: str) -> bool:
+        """True when the struts of ``group`` are tubes (the group has a wall thickness)."""
+        self.group_mask(group)
+        return group in self.wall_thicknesses
+
+    def wall_thickness(self, group: str) -> pint.Quantity | None:
+        """Wall thickness of the tubes of ``group`` [length], or None for solid rods."""
+        self.group_mask(group)
+        return self.wall_thicknesses.get(group)
+
+    def inner_diameter(self, group: str) -> pint.Quantity:
+        """Inner diameter d_i = D − 2t of the tubes of ``group`` [m]; 0 m for solid rods."""
+        t = self.wall_thickness(group)
+        if t is None:
+            return Q_(0.0, "m")
+        return INNER_DIAMETER.evaluate({"D": self.diameters[group], "t": t}).to("m")
 
     def slenderness(self, group: str = "lattice") -> float:
         """Shortest strut length over diameter in ``group`` (frame: cube edge over diameter)."""
@@ -287,7 +314,29 @@ class Cell:
             new[name] = _check_size(d, name=f"{name} diameter")
         cell = dataclasses.replace(self, diameters=MappingProxyType(new))
         _check_fit(cell)
+        for name, t in cell.wall_thicknesses.items():  # a tube's wall must still fit its new diameter
+            check_wall_thickness(t, outer_diameter=cell.diameters[name], name=f"{name} wall thickness")
         return cell
+
+    def with_wall_thicknesses(self, wall_thicknesses: Mapping[str, Any] | None = None, **by_group: Any) -> Cell:
+        """A copy whose groups are tubes of the given wall thickness [length].
+
+        E.g. ``cell.with_wall_thicknesses(frame=Q_(1, "mm"))``.  The group's diameter is the tube's
+        outer diameter D; the wall thickness t must lie in 0 < t < D/2.  ``None`` or zero makes the
+        group solid again.
+        """
+        new = dict(self.wall_thicknesses)
+        for name, t in {**(wall_thicknesses or {}), **by_group}.items():
+            if name not in self.diameters:
+                raise InputError("no such strut group in the cell", input_name="wall_thicknesses",
+                                 expected="one of " + ", ".join(self.diameters), got=repr(name))
+            checked = check_wall_thickness(t, outer_diameter=self.diameters[name],
+                                           name=f"{name} wall thickness")
+            if checked is None:
+                new.pop(name, None)
+            else:
+                new[name] = checked.to("m")
+        return dataclasses.replace(self, wall_thicknesses=MappingProxyType(new))
 
     def with_point_mass(self, group: str, *, mass: Any, rotary_inertia: Any = None) -> Cell:
         """A copy with a mass [mass] at mid-span of every strut of ``group`` (zero mass removes it).
@@ -321,7 +370,9 @@ class Cell:
 
     def summary(self) -> str:
         """One line: kind, width, diameters, struts per cell, Z, regime."""
-        dia = ", ".join(f"{g} {format_quantity(d.to('mm'))}" for g, d in self.diameters.items())
+        dia = ", ".join(f"{g} {format_quantity(d.to('mm'))}" + (
+            f" tube, wall {format_quantity(self.wall_thicknesses[g].to('mm'))}" if g in self.wall_thicknesses else "")
+            for g, d in self.diameters.items())
         return (f"{self.kind} cell, a = {format_quantity(self.cell_width.to('mm'))}, {dia}; "
                 f"{self.struts_per_cell:g} struts and {self.nodes_per_cell:g} joints per cell, "
                 f"Z = {self.connectivity:.3g}, {self.regime}")
@@ -686,6 +737,11 @@ def describe_cell(cell: Cell, *, id_prefix: str = "cell") -> CalcResult:
                           method=f"error below {MIN_SLENDERNESS:g}, warning below {WARN_SLENDERNESS:g}",
                           source=COMMON_PRACTICE),
         ]
+        if cell.is_hollow(g):
+            steps.append(quantity_step(
+                id=f"{p}.{g}.wall-thickness", description=f"{g.capitalize()} members are tubes: wall thickness "
+                f"(outer diameter {format_quantity(cell.diameters[g].to('mm'))})", value=cell.wall_thickness(g),
+                unit="mm", method="input", source=geometry))
     steps += [
         quantity_step(id=f"{p}.joints-per-cell", description="Joints per cell of the infinite lattice",
                       value=Q_(cell.nodes_per_cell, ""), method="nodes weighted by their share", source=geometry),

@@ -8,7 +8,8 @@ Two methods, per strut group (``lattice``, ``frame``):
     simple cubic 3π (r/l)², BCC 3√3 π (r/l)², FCC (face diagonals) 3√2 π (r/l)², diamond
     (3√3/4) π (r/l)² (derived the same way: struts per cell × π r² l / a³, with a from l).  The
     frame and user-defined cells use the general sum ρ̄ = π d² Σ(w l) / (4 a³), with w the
-    strut's share of the cell (see :mod:`latticecalc.physics.cells`).
+    strut's share of the cell (see :mod:`latticecalc.physics.cells`).  A group of tubes (outer
+    diameter D, inner d_i) uses ρ̄ = π (D² − d_i²) Σ(w l) / (4 a³).
 
 ``geometric``
     The volume per cell of the actual solid: each strut a cylinder with hemispherical ends (the
@@ -20,7 +21,14 @@ Two methods, per strut group (``lattice``, ``frame``):
     strut overlap, the overlap belongs to the frame.  For simple cubic the result equals the
     exact inclusion–exclusion form 3π (r/l)² − 8√2 (r/l)³ (three orthogonal cylinders; the
     end caps lie inside the Steinmetz solid); the tests hold it to that.  The sampling error is
-    estimated from two independent scrambles and reported on the sheet.
+    estimated from two independent scrambles and reported on the sheet.  A tube (outer radius r,
+    inner r_i) is the set of points at a distance between r_i and r from its axis segment: a
+    cylindrical wall closed at each node by a hollow hemisphere, sampled the same way (annulus and
+    spherical shell), so merged tube walls at a joint also count once.
+
+Tubes: every strut volume is its section area times its length, with the area of a hollow
+circle A = π(D² − d_i²)/4 where the cell gives the group a wall thickness (Roark's Formulas,
+7th ed., Table A.1, from memory).
 """
 
 from __future__ import annotations
@@ -38,6 +46,7 @@ from scipy.stats import qmc
 
 from latticecalc.errors import InputError
 from latticecalc.materials import Material
+from latticecalc.physics.beams import AREA_TUBE, TUBE_SECTION_SOURCE
 from latticecalc.physics.cells import Cell
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive
@@ -45,8 +54,9 @@ from latticecalc.units import Q_, check_dimension, check_positive
 METHODS = ("closed-form", "geometric")
 
 _r, _l, _d, _a, _L = sp.symbols("r l d a L_w")
+_D, _di = sp.symbols("D d_i")
 _rho_rel = "rho_rel"
-_NAMES = {"rho_rel": r"\bar{\rho}", "L_w": r"\sum w_i l_i"}
+_NAMES = {"rho_rel": r"\bar{\rho}", "L_w": r"\sum w_i l_i", "d_i": r"d_\mathrm{i}"}
 
 DESHPANDE_FLECK_ASHBY_2001 = Source(
     author="Deshpande, V. S., Fleck, N. A. & Ashby, M. F.",
@@ -73,6 +83,8 @@ CLOSED_FORMS: Mapping[str, tuple[Formula, Source]] = {
 SIMPLE_CUBIC_EXACT = Formula(_rho_rel, 3 * sp.pi * (_r / _l) ** 2 - 8 * sp.sqrt(2) * (_r / _l) ** 3, _NAMES)
 #: General slender sum for any group: π d² Σ(w l) / (4 a³).
 STRUT_SUM = Formula(_rho_rel, sp.pi * _d**2 * _L / (4 * _a**3), _NAMES)
+#: The same for a group of tubes (outer diameter D, inner diameter d_i): π (D² − d_i²) Σ(w l) / (4 a³).
+STRUT_SUM_TUBE = Formula(_rho_rel, sp.pi * (_D**2 - _di**2) * _L / (4 * _a**3), _NAMES)
 CLOSED_FORM_ERROR = Formula("e_cf", (sp.Symbol("rho_cf") - sp.Symbol("rho_geo")) / sp.Symbol("rho_geo"),
                             {"e_cf": r"e_\mathrm{cf}", "rho_cf": r"\bar{\rho}_\mathrm{cf}",
                              "rho_geo": r"\bar{\rho}_\mathrm{geo}"})
@@ -87,6 +99,15 @@ def _check_cell(cell: Any) -> Cell:
         raise InputError("not a lattice cell", input_name="cell",
                          expected="a Cell from latticecalc.physics.cells.build_cell", got=type(cell).__name__)
     return cell
+
+
+def strut_areas(cell: Cell) -> np.ndarray:
+    """Section area of each strut of ``cell`` [m²]: π(D² − d_i²)/4, d_i = 0 for a solid rod."""
+    outer = {g: cell.diameters[g] for g in cell.group_names}
+    inner = {g: cell.inner_diameter(g) for g in cell.group_names}
+    by_group = {g: float(AREA_TUBE.evaluate({"D": outer[g], "d_i": inner[g]}).to("m^2").magnitude)
+                for g in cell.group_names}
+    return np.array([by_group[g] for g in cell.groups])
 
 
 def _group_priority(cell: Cell) -> list[str]:
@@ -104,7 +125,13 @@ def closed_form_steps(cell: Cell, *, id_prefix: str = "density") -> dict[str, An
         sid = f"{id_prefix}.{group}.closed-form"
         lengths = cell.strut_lengths[mask]
         uniform = np.allclose(lengths.magnitude, lengths.magnitude[0], rtol=1e-9)
-        if group == "lattice" and cell.kind in CLOSED_FORMS and uniform:
+        if cell.is_hollow(group):
+            lw = (cell.strut_lengths[mask] * cell.weights[mask]).sum()
+            steps[group] = evaluate(STRUT_SUM_TUBE, id=sid, description=f"Relative density of the {group} "
+                                    "tubes, sum of strut volumes per cell (slender, no node overlap)",
+                                    values={"D": d, "d_i": cell.inner_diameter(group), "L_w": lw, "a": a},
+                                    unit="", source=TUBE_SECTION_SOURCE)
+        elif group == "lattice" and cell.kind in CLOSED_FORMS and uniform:
             formula, source = CLOSED_FORMS[cell.kind]
             steps[group] = evaluate(formula, id=sid, description=f"Relative density of the {group} struts, "
                                     f"{cell.kind} cell, slender-strut closed form",
@@ -147,12 +174,14 @@ def _union_volumes(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
     a = cell.cell_width.to("m").magnitude
     x = cell.nodes.to("m").magnitude
     radii = cell.strut_diameters.magnitude / 2
+    inner_r = {g: float(cell.inner_diameter(g).to("m").magnitude) / 2 for g in cell.group_names}
+    radii_in = np.array([inner_r[g] for g in cell.groups])
     groups = np.array(cell.groups)
     priority = {g: k for k, g in enumerate(_group_priority(cell))}
     rank = np.array([priority[g] for g in groups])
     p0, p1 = x[cell.struts[:, 0]], x[cell.struts[:, 1]]
     # all struts of the 27 neighbouring cells, each spatial segment once
-    seg_a, seg_b, seg_r, seg_rank, seen = [], [], [], [], set()
+    seg_a, seg_b, seg_r, seg_ri, seg_rank, seen = [], [], [], [], [], set()
     for shift in itertools.product((-1, 0, 1), repeat=3):
         s = np.asarray(shift, dtype=float) * a
         for i in range(len(p0)):
@@ -163,9 +192,10 @@ def _union_volumes(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
             seg_a.append(p0[i] + s)
             seg_b.append(p1[i] + s)
             seg_r.append(radii[i])
+            seg_ri.append(radii_in[i])
             seg_rank.append(rank[i])
     seg_a, seg_b = np.array(seg_a), np.array(seg_b)
-    seg_r, seg_rank = np.array(seg_r), np.array(seg_rank)
+    seg_r, seg_ri, seg_rank = np.array(seg_r), np.array(seg_ri), np.array(seg_rank)
     mid = (seg_a + seg_b) / 2
     half = np.linalg.norm(seg_b - seg_a, axis=1) / 2
     cyl_u, ball_u = _strut_samples(samples, seed)
@@ -175,14 +205,14 @@ def _union_volumes(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
         axis = p1[i] - p0[i]
         length = float(np.linalg.norm(axis))
         axis /= length
-        r = radii[i]
+        r, ri = radii[i], radii_in[i]
         u, v = _frame_basis(axis)
         # neighbours whose bounding spheres meet this strut's, without the strut itself
         reach = np.linalg.norm(mid - (p0[i] + p1[i]) / 2, axis=1) <= half + length / 2 + seg_r + r + 1e-12
         itself = (np.linalg.norm(seg_a - p0[i], axis=1) < 1e-12 * a) & (
             np.linalg.norm(seg_b - p1[i], axis=1) < 1e-12 * a)
         reach &= ~itself
-        na, nb, nr, nk = seg_a[reach], seg_b[reach], seg_r[reach], seg_rank[reach]
+        na, nb, nr, nri, nk = seg_a[reach], seg_b[reach], seg_r[reach], seg_ri[reach], seg_rank[reach]
         # where along the axis another strut can reach this strut's cylinder: the distance from the
         # axis point to a segment is convex in t, so each neighbour marks one interval of grid cells
         on_axis = p0[i] + np.outer(grid * length, axis)
@@ -193,16 +223,17 @@ def _union_volumes(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
         marked[:-1] |= marked[1:].copy()
         cells_marked = np.flatnonzero(marked)
         frac_marked = cells_marked.size / _GRID
-        share = math.pi * r**2 * length * (1.0 - frac_marked)  # no other strut there: counted whole
+        wall = math.pi * (r**2 - ri**2)  # section area (a tube's annulus)
+        share = wall * length * (1.0 - frac_marked)  # no other strut there: counted whole
         ends = np.vstack([p0[i], p1[i]])
         cap_near = (_point_segment_distance(ends, na, nb) <= (nr + r)[None, :] * (1 + 1e-9)).any(axis=0)
-        parts = [(4.0 / 3.0 * math.pi * r**3, None, cap_near)]
+        parts = [(4.0 / 3.0 * math.pi * (r**3 - ri**3), None, cap_near)]
         if cells_marked.size:
-            parts.append((math.pi * r**2 * length * frac_marked, cells_marked, near.any(axis=0)))
+            parts.append((wall * length * frac_marked, cells_marked, near.any(axis=0)))
         for vol, where, keep in parts:
             if where is None:
                 # the ball of the end caps, each half moved to its end of the strut
-                rb = r * np.cbrt(ball_u[:, 0])
+                rb = np.cbrt(ri**3 + (r**3 - ri**3) * ball_u[:, 0])  # ball, or spherical shell of a tube
                 cos_t = 2 * ball_u[:, 1] - 1
                 sin_t = np.sqrt(np.clip(1 - cos_t**2, 0, None))
                 phib = 2 * math.pi * ball_u[:, 2]
@@ -212,11 +243,12 @@ def _union_volumes(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
             else:
                 pick = where[np.minimum((cyl_u[:, 0] * where.size).astype(int), where.size - 1)]
                 t = (pick + (cyl_u[:, 0] * where.size - np.floor(cyl_u[:, 0] * where.size))) / _GRID * length
-                rho = r * np.sqrt(cyl_u[:, 1])
+                rho = np.sqrt(ri**2 + (r**2 - ri**2) * cyl_u[:, 1])  # disc, or annulus of a tube
                 phi = 2 * math.pi * cyl_u[:, 2]
                 pts = (p0[i] + np.outer(t, axis) + np.outer(rho * np.cos(phi), u)
                        + np.outer(rho * np.sin(phi), v))
-            inside = _point_segment_distance(pts, na[keep], nb[keep]) <= nr[keep][None, :] * (1 + 1e-12)
+            dist = _point_segment_distance(pts, na[keep], nb[keep])
+            inside = (dist <= nr[keep][None, :] * (1 + 1e-12)) & (dist >= nri[keep][None, :] * (1 - 1e-12))
             higher = (inside & (nk[keep][None, :] < rank[i])).any(axis=1)
             same = 1 + (inside & (nk[keep][None, :] == rank[i])).sum(axis=1)
             weight = np.where(higher, 0.0, 1.0 / same)
@@ -290,7 +322,9 @@ def relative_density(cell: Cell, method: str = "closed-form", *, samples: int = 
             steps.append(quantity_step(
                 id=f"{id_prefix}.{g}.geometric", description=f"Relative density of the {g} struts from the "
                 "actual geometry, node overlap counted once", value=geo[g], unit="",
-                method=GEOMETRIC_METHOD.format(n=samples) + f"; sampling error about ±{err[g]:.1e}",
+                method=GEOMETRIC_METHOD.format(n=samples) + f"; sampling error about ±{err[g]:.1e}"
+                + ("; tubes: walls with hollow hemispherical ends, merged walls counted once"
+                   if cell.is_hollow(g) else ""),
                 source=Source(author="numerical", title="quasi-Monte Carlo volume of a union of solids",
                               tag="derived")))
             e = evaluate(CLOSED_FORM_ERROR, id=f"{id_prefix}.{g}.closed-form-error",
@@ -376,6 +410,46 @@ def panel_strut_counts(cell: Cell, *, cells_wide: int, cells_high: int, cells_de
     return factors.prod(axis=1)
 
 
+@dataclass(frozen=True, kw_only=True)
+class PanelVolume:
+    """Solid volume of one strut group in a finite panel, as drawn (see :func:`panel_volumes`)."""
+
+    volume: pint.Quantity
+    overlap: float
+    struts: float
+
+
+def panel_volumes(cell: Cell, *, cells_wide: int, cells_high: int, cells_deep: int,
+                  density: RelativeDensity) -> dict[str, PanelVolume]:
+    """Solid volume of each strut group in a ``cells_wide × cells_high × cells_deep`` panel.
+
+    Each strut counts as often as it occurs in the panel (:func:`panel_strut_counts`: struts on
+    the panel's outer faces in full), its volume the section area (a tube's annulus) times its
+    length, scaled by the group's node-overlap factor: the cell's ρ̄ from ``density`` over its
+    slender (no-overlap) value.
+
+    Parameters
+    ----------
+    cell:
+        The cell.
+    cells_wide, cells_high, cells_deep:
+        Cells across the column face, up the column, and away from it.
+    density:
+        :func:`relative_density` of ``cell`` (closed form: overlap factor 1).
+    """
+    counts = panel_strut_counts(cell, cells_wide=cells_wide, cells_high=cells_high, cells_deep=cells_deep)
+    a3 = cell.cell_width.to("m").magnitude ** 3
+    vol = strut_areas(cell) * cell.strut_lengths.magnitude
+    out = {}
+    for g in cell.group_names:
+        mask = cell.group_mask(g)
+        slender = float((vol[mask] * cell.weights[mask]).sum())
+        overlap = float(density.by_group[g].to("").magnitude) * a3 / slender
+        out[g] = PanelVolume(volume=Q_(float((vol[mask] * counts[mask]).sum()) * overlap, "m^3"), overlap=overlap,
+                             struts=float(counts[mask].sum()))
+    return out
+
+
 def panel_mass(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, cells_deep: int,
                column_mass_per_length: Any = None, faces_covered: int = 1, method: str = "geometric",
                density: RelativeDensity | None = None, id_prefix: str = "mass") -> PanelMass:
@@ -424,30 +498,27 @@ def panel_mass(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, 
     rd = density if density is not None else relative_density(cell, method, id_prefix=f"{id_prefix}.density")
     steps: list[Any] = list(rd.steps) if density is None else []
     a = cell.cell_width
-    counts = panel_strut_counts(cell, cells_wide=nx, cells_high=nz, cells_deep=ny)
+    volumes = panel_volumes(cell, cells_wide=nx, cells_high=nz, cells_deep=ny, density=rd)
     cell_mass, panel_by_group = {}, {}
     for g in cell.group_names:
-        mask = cell.group_mask(g)
         step = evaluate(CELL_MASS, id=f"{id_prefix}.cell.{g}", description=f"Mass of the {g} struts per cell",
                         values={"rho": mats[g].density, "rho_rel": rd.by_group[g], "a": a}, unit="g",
                         source=mats[g].source("density"))
         steps.append(step)
         cell_mass[g] = step.result
         # as-drawn panel: each strut counted as often as it occurs, slender volumes scaled for node overlap
-        vol = math.pi * (cell.diameters[g].to("m").magnitude ** 2) / 4 * cell.strut_lengths.magnitude[mask]
-        slender = float((vol * cell.weights[mask]).sum())
-        overlap = float(rd.by_group[g].to("").magnitude) * a.to("m").magnitude ** 3 / slender
-        panel_vol = float((vol * counts[mask]).sum()) * overlap
+        pv = volumes[g]
+        section = "tube section areas" if cell.is_hollow(g) else "strut volumes"
         panel_by_group[g] = quantity_step(
             id=f"{id_prefix}.panel.{g}", description=f"Mass of the {g} struts in the panel "
             f"({nx} × {nz} × {ny} cells, wide × high × deep)",
-            value=Q_(panel_vol, "m^3") * mats[g].density, unit="kg",
-            method=f"strut volumes × occurrences in the panel × node-overlap factor {overlap:.4f} × density",
-            source=PANEL_STRUTS)
+            value=pv.volume * mats[g].density, unit="kg",
+            method=f"{section} × lengths × occurrences in the panel × node-overlap factor {pv.overlap:.4f} "
+                   "× density", source=PANEL_STRUTS)
         steps.append(panel_by_group[g])
     total = sum((s.result for s in panel_by_group.values()), Q_(0.0, "kg"))
     for g, (m_added, _j) in getattr(cell, "point_masses", {}).items():
-        n_struts = int(round(float(counts[cell.group_mask(g)].sum())))
+        n_struts = int(round(volumes[g].struts))
         added = evaluate(ADDED_MASS, id=f"{id_prefix}.added.{g}", description=f"Masses added at mid-span of the "
                          f"{g} struts in the panel", values={"N": Q_(n_struts, ""), "M_a": m_added}, unit="kg",
                          source=PANEL_STRUTS)

@@ -94,8 +94,52 @@ _d = sp_sym.Symbol("d")
 POLAR_MOMENT_CIRCLE = Formula("J", sp_sym.pi * _d**4 / 32)
 
 
-def section_steps(group: str, *, diameter, youngs_modulus, poissons_ratio, id_prefix: str) -> tuple:
-    """Sheet steps for one group's section: area, second moment, torsion constant, G and Cowper's κ."""
+def section_steps(group: str, *, diameter, youngs_modulus, poissons_ratio, id_prefix: str,
+                  wall_thickness=None) -> tuple:
+    """Sheet steps for one group's section: area, second moment, torsion constant, G and Cowper's κ.
+
+    With a ``wall_thickness`` [length] the section is a tube of outer diameter ``diameter``: the steps
+    add its inner diameter and diameter ratio m, and use A = π(D² − d_i²)/4, I = π(D⁴ − d_i⁴)/64,
+    J = 2I (Roark, Table A.1, from memory) and Cowper's κ of the hollow circle (Cowper 1966, Table 1).
+    """
+    from latticecalc.physics.beams import (
+        AREA_TUBE,
+        COWPER_1966_TUBE,
+        COWPER_TUBE,
+        DIAMETER_RATIO,
+        INNER_DIAMETER,
+        POLAR_MOMENT_TUBE,
+        SECOND_MOMENT_TUBE,
+        TUBE_SECTION_SOURCE,
+        check_wall_thickness,
+    )
+
+    t = check_wall_thickness(wall_thickness, outer_diameter=diameter, name=f"{group} wall thickness")
+    if t is not None:
+        di = evaluate(INNER_DIAMETER, id=f"{id_prefix}.{group}.inner-diameter",
+                      description=f"Inner diameter of the tube, {group}", values={"D": diameter, "t": t},
+                      unit="mm", source=TUBE_SECTION_SOURCE)
+        dd = {"D": diameter, "d_i": di.result}
+        m = evaluate(DIAMETER_RATIO, id=f"{id_prefix}.{group}.diameter-ratio",
+                     description=f"Inner over outer diameter of the tube, {group}", values=dd, unit="",
+                     source=TUBE_SECTION_SOURCE, sig=6)
+        return (
+            di,
+            evaluate(AREA_TUBE, id=f"{id_prefix}.{group}.area", description=f"Tube area, {group}", values=dd,
+                     unit="mm^2", source=TUBE_SECTION_SOURCE),
+            evaluate(SECOND_MOMENT_TUBE, id=f"{id_prefix}.{group}.second-moment",
+                     description=f"Second moment of area of the tube, {group}", values=dd, unit="mm^4",
+                     source=TUBE_SECTION_SOURCE),
+            evaluate(POLAR_MOMENT_TUBE, id=f"{id_prefix}.{group}.torsion-constant",
+                     description=f"Torsion constant of the closed tube (J = 2I), {group}", values=dd,
+                     unit="mm^4", source=TUBE_SECTION_SOURCE),
+            evaluate(SHEAR_MODULUS, id=f"{id_prefix}.{group}.shear-modulus", description=f"Shear modulus, {group}",
+                     values={"E": youngs_modulus, "nu": poissons_ratio}, unit="MPa", source=SECTION_SOURCE),
+            m,
+            evaluate(COWPER_TUBE, id=f"{id_prefix}.{group}.kappa",
+                     description=f"Shear coefficient of the hollow circle (Cowper), {group}",
+                     values={"nu": poissons_ratio, "m": m.result}, unit="", source=COWPER_1966_TUBE, sig=6),
+        )
     d = {"d": diameter}
     return (
         evaluate(AREA_CIRCLE, id=f"{id_prefix}.{group}.area", description=f"Strut area, {group}", values=d,
@@ -145,7 +189,8 @@ def sections_for(cell: Any, materials: Mapping[str, Any], *, modulus: str = "dyn
     ----------
     cell:
         Anything with ``.groups`` (group name per strut) and ``.diameters`` (group -> diameter
-        [length]).
+        [length]); optionally ``.wall_thicknesses`` (group -> wall thickness [length]) for groups
+        whose struts are tubes (the diameter is then the outer diameter).
     materials:
         Mapping of group name to a material with ``youngs_modulus`` [pressure],
         ``poissons_ratio`` [-], ``density`` [density] and optionally ``loss_factor`` [-].
@@ -197,10 +242,10 @@ def sections_for(cell: Any, materials: Mapping[str, Any], *, modulus: str = "dyn
             raise InputError("loss factor out of range", input_name=f"materials[{g!r}].loss_factor",
                              expected="0 <= η < 1", got=f"{eta}")
         st = section_steps(g, diameter=d_q, youngs_modulus=Q_(E, "Pa"), poissons_ratio=Q_(nu, ""),
-                           id_prefix=id_prefix)
-        si = [float(x.result.to_base_units().magnitude) for x in st]
-        out[g] = Section(E=E, G=si[3], rho=rho, d=float(d_q.to("m").magnitude), nu=nu, A=si[0], I=si[1], J=si[2],
-                         kappa=si[4], eta=eta)
+                           id_prefix=id_prefix, wall_thickness=(getattr(cell, "wall_thicknesses", None) or {}).get(g))
+        si = {x.id.rsplit(".", 1)[1]: float(x.result.to_base_units().magnitude) for x in st}
+        out[g] = Section(E=E, G=si["shear-modulus"], rho=rho, d=float(d_q.to("m").magnitude), nu=nu, A=si["area"],
+                         I=si["second-moment"], J=si["torsion-constant"], kappa=si["kappa"], eta=eta)
         steps.extend(st)
     if with_steps:
         return out, tuple(steps)

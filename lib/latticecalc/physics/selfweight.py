@@ -6,16 +6,26 @@ Two load paths are assessed when the cell has a frame, one when it has not:
 ``lattice-alone``
     The lattice carries its own weight.  Its vertical modulus is the stretch-dominated octet
     value E* = ρ̄ E_s / 9 along ⟨100⟩ (pin-jointed, affine; Deshpande, Fleck & Ashby 2001), the
-    simple-cubic value ρ̄ E_s / 3 (a third of the struts lie along the load, derived), or for
-    bending-dominated cells the scaling E* ≈ ρ̄² E_s (Gibson & Ashby 1997, from memory).
+    simple-cubic lattice's vertical struts counted as posts (below), or for bending-dominated
+    cells the scaling E* ≈ ρ̄² E_s (Gibson & Ashby 1997, from memory).
 ``with-frame``
-    Frame and lattice share the weight of both in proportion to their stiffness; the frame's
-    vertical members give E*_f = E_f A_f / a² (one vertical member per cell in plan).
+    Frame and lattice share the weight of both in proportion to their stiffness.  The load paths
+    of the frame are counted in the finite panel, not per cell of an infinite lattice: a panel of
+    n_x × n_y cells in plan (wide × deep) has n_p = (n_x + 1)(n_y + 1) vertical frame posts at every
+    level (a 1 × 1 panel has its four corner posts), so the frame's vertical modulus smeared over
+    the panel's plan is E*_f = n_p E_f A_f / (W D).  The weight is the finite panel's own (every
+    strut as often as it occurs, outer faces in full, added masses included), smeared over its
+    volume: ρ_p = m / (W D H).
 
 For each path: shortening of a prismatic column under its own weight δ = ρ g H² / (2 E) (from
-σ(z) = ρ g (H − z), derived); the axial force and stress in the lowest vertical frame member;
-Euler buckling of that member, P_cr = π² E I / (K a)², and of the most heavily loaded lattice
-strut, with effective-length factors K from AISC 360 Commentary Table C-A-7.1 (the recommended
+σ(z) = ρ g (H − z), derived; with the panel's smeared ρ_p and E*_f it is the mean settlement of the
+posts' tops, m g H / (2 n_p E_f A_f) for the frame alone, also where the weight hangs on the level
+joints: the full top level's weight makes up for the unloaded base level); the axial force and
+stress in the most heavily loaded vertical frame member, the base stress over its tributary plan
+area (a × a for an interior post, a × a/2 on the long side of a panel one cell wide or deep,
+a/2 × a/2 for the corner posts of a 1 × 1 panel; conservative, as the smeared density spreads the
+heavier perimeter evenly); Euler buckling of that member, P_cr = π² E I / (K a)², and of the most
+heavily loaded lattice strut, with effective-length factors K from AISC 360 Commentary Table C-A-7.1 (the recommended
 design values by default, the theoretical values on request); and Greenhill's critical height of
 the panel as a free-standing heavy column fixed at its base, L_cr = (c E I / q)^{1/3} with
 c = (9/4) j², j the first zero of J₋₁/₃ (computed here with scipy, c = 7.8373).
@@ -23,6 +33,16 @@ c = (9/4) j², j the first zero of J₋₁/₃ (computed here with scipy, c = 7.
 The lattice strut forces follow the affine uniaxial-strain distribution: a strut of section A and
 vertical direction cosine t_z carries N = σ a³ A t_z² / Σ_i w_i A_i l_i t_z,i⁴, which balances the
 vertical stress σ exactly (for the octet, Σ gives C₁₁ = ρ̄ E_s / 6; derived).
+
+A simple-cubic lattice's vertical struts are posts like the frame's: their modulus is counted the
+same way, E* = n_p E_s A / (W D) (ρ̄ E_s / 3 of the infinite lattice, one post per cell), with the
+panel's own lattice weight.  Other lattices keep the
+per-cell values of the infinite lattice (ρ ρ̄ and E*), whose ratio does not change when the
+panel's outer-face struts add weight and stiffness alike.
+
+Tubes: a group the cell gives a wall thickness has A = π(D² − d_i²)/4 and I = π(D⁴ − d_i⁴)/64
+(Roark's Formulas, 7th ed., Table A.1, from memory) in the mass, the frame modulus, the stresses
+and the Euler loads.
 
 Elastomers creep under the permanent self-weight: the long-term modulus (material
 ``long_term_factor``) is used by default and the sheet carries a caution.
@@ -42,10 +62,29 @@ import sympy as sp
 from scipy.optimize import brentq
 from scipy.special import jv
 
-from latticecalc.errors import InputError
-from latticecalc.physics.beams import AREA_CIRCLE, SECOND_MOMENT_CIRCLE, SECTION_SOURCE
+from latticecalc.errors import InputError, ModelError
+from latticecalc.physics.beams import (
+    AREA_CIRCLE,
+    AREA_TUBE,
+    INNER_DIAMETER,
+    SECOND_MOMENT_CIRCLE,
+    SECOND_MOMENT_TUBE,
+    SECTION_SOURCE,
+    TUBE_SECTION_SOURCE,
+    check_wall_thickness,
+)
 from latticecalc.physics.cells import Cell
-from latticecalc.physics.density import RelativeDensity, _materials_for, _positive_int, relative_density
+from latticecalc.physics.density import (
+    ADDED_MASS,
+    PANEL_STRUTS,
+    RelativeDensity,
+    _materials_for,
+    _positive_int,
+    panel_strut_counts,
+    panel_volumes,
+    relative_density,
+    strut_areas,
+)
 from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
@@ -68,6 +107,9 @@ GIBSON_ASHBY_1997 = Source(author="Gibson, L. J. & Ashby, M. F.", title="Cellula
 DERIVED = Source(author="derived", title="statics of a prismatic column under its own weight", tag="derived")
 DERIVED_AFFINE = Source(author="derived", title="affine uniaxial strain of pin-jointed struts, virial stress",
                         tag="derived")
+DERIVED_POSTS = Source(author="derived", title="load paths of the finite panel: one vertical post on every "
+                       "cube-edge line, (n_x + 1)(n_y + 1) per level, each carrying its tributary plan area",
+                       tag="derived")
 
 #: AISC 360 Commentary Table C-A-7.1: end condition -> (case, theoretical K, recommended design K).
 EFFECTIVE_LENGTH_FACTORS: Mapping[str, tuple[str, float, float]] = {
@@ -88,17 +130,28 @@ _S, _t2, _sig = sp.symbols("S t_z2 sigma")
 _LATEX = dict(rho_rel=r"\bar{\rho}", E_s=r"E_s", E_f=r"E_f", A_f=r"A_f", E_l=r"E^*_l", E_c=r"E^*_c",
               P_cr=r"P_\mathrm{cr}", t_z2=r"t_z^2", delta=r"\delta", L_cr=r"L_\mathrm{cr}", n_b=r"n_b",
               sigma=r"\sigma", rho=r"\rho", E_star=r"E^*", E_fs=r"E^*_f", N_s=r"N_s", N_f=r"N_f",
-              rho_p=r"\rho_p", sigma_f=r"\sigma_f")
+              rho_p=r"\rho_p", sigma_f=r"\sigma_f", n_p=r"n_p", n_x=r"n_x", n_y=r"n_y")
 
 SHORTENING = Formula("delta", _rho * _g * _H**2 / (2 * _E), _LATEX)
 OCTET_MODULUS = Formula("E_star", _rbar * _Es / 9, _LATEX)
 AXIAL_MODULUS = Formula("E_star", _rbar * _Es / 3, _LATEX)
 BENDING_MODULUS = Formula("E_star", _rbar**2 * _Es, _LATEX)
-FRAME_MODULUS = Formula("E_fs", _Ef * _Af / _a**2, _LATEX)
+_np, _nx, _ny, _W, _D, _m = sp.symbols("n_p n_x n_y W D m")
+#: Vertical posts of a panel n_x × n_y cells in plan: one on every cube edge line, shared posts once.
+POSTS = Formula("n_p", (_nx + 1) * (_ny + 1), _LATEX)
+#: The posts' axial stiffness smeared over the panel's plan W × D.
+FRAME_MODULUS = Formula("E_fs", _np * _Ef * _Af / (_W * _D), _LATEX)
+POST_LATTICE_MODULUS = Formula("E_star", _np * _Es * _A / (_W * _D), _LATEX)
+#: The finite panel's weight smeared over its volume.
+PANEL_DENSITY = Formula("rho_p", _m / (_W * _D * _H), _LATEX)
+#: Masses added at mid-span of the lattice struts, smeared per cell of the infinite lattice.
+ADDED_DENSITY = Formula("rho_la", sp.Symbol("rho_l") + sp.Symbol("n_c") * sp.Symbol("M_a") / _a**3,
+                        {**_LATEX, "rho_la": r"\rho_p", "rho_l": r"\rho_l", "n_c": r"n_\mathrm{c}",
+                         "M_a": r"M_\mathrm{a}"})
 COMBINED_MODULUS = Formula("E_c", _El + sp.Symbol("E_fs"), _LATEX)
 SMEARED_DENSITY = Formula("rho_p", _rho * _rbar, _LATEX)
 BASE_STRESS = Formula("sigma", _rho * _g * _H, _LATEX)
-FRAME_FORCE = Formula("N_f", _sig * _a**2 * sp.Symbol("E_fs") / _Ec, _LATEX)
+FRAME_FORCE = Formula("N_f", _sig * sp.Symbol("A_t") * sp.Symbol("E_fs") / _Ec, {**_LATEX, "A_t": r"A_t"})
 LATTICE_STRESS_SHARE = Formula("sigma_l", _sig * _El / _Ec, {**_LATEX, "sigma_l": r"\sigma_l"})
 LOCAL_LATTICE_STRESS = Formula("sigma_loc", _rho * _g * _a, {**_LATEX, "sigma_loc": r"\sigma_\mathrm{loc}"})
 FRAME_STRESS = Formula("sigma_f", sp.Symbol("N_f") / _A, _LATEX)
@@ -189,15 +242,17 @@ def self_weight_shortening(*, density, height, youngs_modulus, id: str = "selfwe
 
 
 def euler_buckling_load(*, youngs_modulus, diameter, length, end_condition: str = "pinned-pinned",
-                        k_value: str = "design", id_prefix: str = "buckling") -> CalcResult:
-    """Euler critical load P_cr = π² E I / (K L)² of a solid circular strut.
+                        k_value: str = "design", wall_thickness=None, id_prefix: str = "buckling") -> CalcResult:
+    """Euler critical load P_cr = π² E I / (K L)² of a circular strut, solid or a tube.
 
     Parameters
     ----------
     youngs_modulus:
         E [pressure].
     diameter:
-        Strut diameter [length].
+        Strut diameter [length] (outer diameter of a tube).
+    wall_thickness:
+        Wall thickness of a tube [length]; None or zero for a solid rod.
     length:
         Unbraced length L [length].
     end_condition, k_value:
@@ -209,11 +264,14 @@ def euler_buckling_load(*, youngs_modulus, diameter, length, end_condition: str 
     d = _q(diameter, name="diameter", dim="length")
     length = _q(length, name="length", dim="length")
     k = _k_step(end_condition, k_value, id=f"{id_prefix}.k", what="strut")
-    i = evaluate(SECOND_MOMENT_CIRCLE, id=f"{id_prefix}.second-moment", description="Second moment of area",
-                 values={"d": d}, unit="mm^4", source=SECTION_SOURCE)
+    di = _inner_diameter_step(d, check_wall_thickness(wall_thickness, outer_diameter=d),
+                              id=f"{id_prefix}.inner-diameter", what="strut")
+    i = _second_moment_step(d, None if di is None else di.result, id=f"{id_prefix}.second-moment",
+                            description="Second moment of area")
     p = evaluate(EULER_LOAD, id=f"{id_prefix}.p-cr", description="Euler critical load",
                  values={"E": e, "I": i.result, "K": k.result, "L": length}, unit="N", source=EULER_SOURCE)
-    return CalcResult(value=p.result, steps=(k, i, p), title="Euler buckling load")
+    return CalcResult(value=p.result, steps=tuple(x for x in (k, di, i, p) if x is not None),
+                      title="Euler buckling load")
 
 
 def greenhill_height(*, youngs_modulus, second_moment, weight_per_length,
@@ -241,6 +299,71 @@ def greenhill_height(*, youngs_modulus, second_moment, weight_per_length,
     step = evaluate(GREENHILL_HEIGHT, id=id, description="Greenhill's critical self-weight height",
                     values={"c": c.result, "E": e, "I": i, "q": q}, unit="m", source=GREENHILL_1881)
     return CalcResult(value=step.result, steps=(c, step), title="Greenhill's critical height")
+
+
+# --- sections: solid rods or tubes ------------------------------------------------------------------
+def _inner_diameter_step(diameter, wall_thickness, *, id: str, what: str):
+    """The inner diameter d_i = D − 2t of a tube, as a step (None for a solid rod, t None)."""
+    if wall_thickness is None:
+        return None
+    return evaluate(INNER_DIAMETER, id=id, description=f"Inner diameter of the {what} tube",
+                    values={"D": diameter, "t": wall_thickness}, unit="mm", source=TUBE_SECTION_SOURCE)
+
+
+def _area_step(diameter, inner, *, id: str, description: str):
+    """π d²/4 of a rod, or π(D² − d_i²)/4 of a tube when ``inner`` (the d_i step's result) is given."""
+    if inner is None:
+        return evaluate(AREA_CIRCLE, id=id, description=description, values={"d": diameter}, unit="mm^2",
+                        source=SECTION_SOURCE)
+    return evaluate(AREA_TUBE, id=id, description=description + " (tube)", values={"D": diameter, "d_i": inner},
+                    unit="mm^2", source=TUBE_SECTION_SOURCE)
+
+
+def _second_moment_step(diameter, inner, *, id: str, description: str):
+    """π d⁴/64 of a rod, or π(D⁴ − d_i⁴)/64 of a tube when ``inner`` is given."""
+    if inner is None:
+        return evaluate(SECOND_MOMENT_CIRCLE, id=id, description=description, values={"d": diameter},
+                        unit="mm^4", source=SECTION_SOURCE)
+    return evaluate(SECOND_MOMENT_TUBE, id=id, description=description + " (tube)",
+                    values={"D": diameter, "d_i": inner}, unit="mm^4", source=TUBE_SECTION_SOURCE)
+
+
+def _vertical_members(cell: Cell, group: str, counts: np.ndarray, height_cells: int) -> tuple[float, bool]:
+    """Vertical members of ``group`` per level of the panel, and whether all lie on the cube's edge lines."""
+    vec = cell.strut_vectors.magnitude
+    lengths = np.linalg.norm(vec, axis=1)
+    a = cell.cell_width.to("m").magnitude
+    vertical = cell.group_mask(group) & (np.abs(vec[:, 2]) > (1 - 1e-9) * lengths)
+    per_level = float((counts[vertical] * lengths[vertical]).sum() / (height_cells * a))
+    x = cell.nodes.to("m").magnitude[cell.struts[vertical, 0]] / a
+    on_edges = bool(np.all(np.isclose(x[:, :2], 0.0, atol=1e-9) | np.isclose(x[:, :2], 1.0, atol=1e-9)))
+    return per_level, on_edges
+
+
+def _posts_step(cell: Cell, group: str, *, nx: int, ny: int, nz: int, id: str):
+    """The vertical posts of ``group`` per level of the finite panel, as a step (None if it has none)."""
+    counts = panel_strut_counts(cell, cells_wide=nx, cells_high=nz, cells_deep=ny)
+    n, on_edges = _vertical_members(cell, group, counts, nz)
+    if n == 0:
+        return None
+    what = f"Vertical {group} members (load paths) per level of the {nx} × {ny}-cell panel (wide × deep)"
+    if on_edges and np.isclose(n, (nx + 1) * (ny + 1)):
+        return evaluate(POSTS, id=id, description=what + ": one on every cube-edge line, shared posts counted once",
+                        values={"n_x": Q_(nx, ""), "n_y": Q_(ny, "")}, unit="", source=DERIVED_POSTS)
+    return quantity_step(id=id, description=what, value=Q_(n, ""), unit="", source=PANEL_STRUTS,
+                         method="vertical struts of the panel, each as often as it occurs, by length over the height")
+
+
+def _tributary_area(a, nx: int, ny: int, *, id: str):
+    """Plan area carried by the most heavily loaded post of a panel n_x × n_y cells in plan."""
+    bx, by = (1.0 if nx >= 2 else 0.5), (1.0 if ny >= 2 else 0.5)
+    where = {(1.0, 1.0): "an interior post (a × a)", (0.5, 0.5): "a corner post of a one-cell panel (a/2 × a/2)"}
+    method = where.get((bx, by), "a post on the long side of a panel one cell wide or deep (a × a/2)")
+    return quantity_step(id=id, description="Plan area carried by the most heavily loaded vertical frame member "
+                         "(tributary area)", value=(bx * a) * (by * a), unit="mm^2", method=method,
+                         source=DERIVED_POSTS,
+                         note="Weight is spread evenly over the plan (smeared density): conservative for this "
+                              "post, as the heavier perimeter members load the edge posts.")
 
 
 # --- the panel -------------------------------------------------------------------------------------
@@ -278,10 +401,9 @@ def _lattice_modulus(cell: Cell, rbar, e_s, *, id: str):
 
 
 def _affine_sums(cell: Cell) -> tuple[float, float, float, int]:
-    """Σ w A l t_z⁴ [m³] over the lattice, and A t_z², t_z² and index of the most loaded lattice strut."""
+    """Σ w A l t_z⁴ [m³] over the lattice, and A, t_z² and index of the most loaded lattice strut."""
     mask = cell.group_mask("lattice")
-    d = cell.diameters["lattice"].to("m").magnitude
-    area = math.pi * d**2 / 4
+    area = float(strut_areas(cell)[mask][0])  # one section per group (a tube's annulus)
     vec = cell.strut_vectors.magnitude
     lengths = np.linalg.norm(vec, axis=1)
     tz2 = (vec[:, 2] / lengths) ** 2
@@ -352,18 +474,67 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
 
     steps.append(quantity_step(id=f"{p}.height", description="Panel height", value=height, unit="m",
                                method=f"{nz} cells × {format_quantity(a.to('mm'))}"))
+    width, depth = (nx * a).to("m"), (ny * a).to("m")
+    inner = {g: _inner_diameter_step(cell.diameters[g], cell.wall_thickness(g), id=f"{p}.{g}-inner-diameter",
+                                     what=f"{g} member") for g in ("lattice", "frame") if g in cell.group_names}
+    inner_d = {g: None if st is None else st.result for g, st in inner.items()}
+    steps += [st for st in inner.values() if st is not None]
+    # the load paths of the finite panel: vertical posts on the cube-edge lines
+    lattice_posts = _posts_step(cell, "lattice", nx=nx, ny=ny, nz=nz, id=f"{p}.lattice-posts") \
+        if cell.kind == "simple-cubic" else None
+
+    # the finite panel's weight: every strut as often as it occurs (outer faces in full), added masses
+    panel_m: dict[str, Any] = {}
+    if has_frame or lattice_posts is not None:
+        volumes = panel_volumes(cell, cells_wide=nx, cells_high=nz, cells_deep=ny, density=rd)
+        for g in cell.group_names:
+            what = "tube section areas" if cell.is_hollow(g) else "strut sections"
+            panel_m[g] = quantity_step(
+                id=f"{p}.panel-mass.{g}", description=f"Mass of the {g} struts in the panel ({nx} × {nz} × {ny} "
+                "cells, wide × high × deep)", value=volumes[g].volume * mats[g].density, unit="kg",
+                method=f"{what} × lengths × occurrences in the panel × node-overlap factor "
+                       f"{volumes[g].overlap:.4f} × density", source=PANEL_STRUTS)
+        for g, (m_added, _j) in cell.point_masses.items():
+            panel_m[f"added-{g}"] = evaluate(
+                ADDED_MASS, id=f"{p}.panel-mass.added-{g}", description=f"Masses added at mid-span of the {g} "
+                "struts in the panel", values={"N": Q_(int(round(volumes[g].struts)), ""), "M_a": m_added},
+                unit="kg", source=PANEL_STRUTS)
+        steps += list(panel_m.values())
     # smeared densities
     rho_p = {}
-    for g in cell.group_names:
-        st = evaluate(SMEARED_DENSITY, id=f"{p}.smeared-density.{g}", description=f"Mass of the {g} struts "
-                      "smeared over the panel volume", values={"rho": mats[g].density, "rho_rel": rd.by_group[g]},
-                      unit="kg/m^3", source=mats[g].source("density"))
+    if lattice_posts is not None:
+        m_lat = sum((st.result for k, st in panel_m.items() if k in ("lattice", "added-lattice")), Q_(0.0, "kg"))
+        st = evaluate(PANEL_DENSITY, id=f"{p}.smeared-density.lattice", description="Weight of the lattice "
+                      "struts (and added masses) of the panel smeared over its volume",
+                      values={"m": m_lat, "W": width, "D": depth, "H": height}, unit="kg/m^3", source=DERIVED)
         steps.append(st)
-        rho_p[g] = st.result
-    rho_all = sum(rho_p.values(), Q_(0.0, "kg/m^3"))
+        rho_p["lattice"] = st.result
+    else:
+        st = evaluate(SMEARED_DENSITY, id=f"{p}.smeared-density.lattice", description="Mass of the lattice "
+                      "struts smeared over the panel volume (per cell of the infinite lattice)",
+                      values={"rho": mats["lattice"].density, "rho_rel": rd.by_group["lattice"]},
+                      unit="kg/m^3", source=mats["lattice"].source("density"))
+        steps.append(st)
+        rho_p["lattice"] = st.result
+        if "lattice" in cell.point_masses:
+            st = evaluate(ADDED_DENSITY, id=f"{p}.smeared-density.lattice-added", description="With the "
+                          "masses added at mid-span of the lattice struts (lattice struts per cell)",
+                          values={"rho_l": rho_p["lattice"], "n_c": Q_(cell.weights[cell.group_mask("lattice")]
+                                                                         .sum(), ""),
+                                  "M_a": cell.point_masses["lattice"][0], "a": a}, unit="kg/m^3", source=DERIVED)
+            steps.append(st)
+            rho_p["lattice"] = st.result
+    rho_all = rho_p["lattice"]
     if has_frame:
-        steps.append(quantity_step(id=f"{p}.smeared-density", description="Smeared density of the panel",
-                                   value=rho_all, unit="kg/m^3", method="sum over the groups"))
+        m_all = sum((st.result for st in panel_m.values()), Q_(0.0, "kg"))
+        steps.append(quantity_step(id=f"{p}.panel-mass", description="Panel mass, all strut groups"
+                                   + (" and added masses" if cell.point_masses else ""), value=m_all, unit="kg",
+                                   method="sum of the above"))
+        st = evaluate(PANEL_DENSITY, id=f"{p}.smeared-density", description="Weight of the panel smeared over its "
+                      "volume W × D × H", values={"m": m_all, "W": width, "D": depth, "H": height},
+                      unit="kg/m^3", source=DERIVED)
+        steps.append(st)
+        rho_all = st.result
     # lattice modulus
     e_s, which = modulus("lattice")
     creep_note = ""
@@ -374,20 +545,28 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
                                f"({which})", value=e_s, unit="MPa", method=which,
                                source=mats["lattice"].source("long_term_factor" if "long" in which
                                                              else "youngs_modulus"), note=creep_note))
-    e_l = _lattice_modulus(cell, rd.by_group["lattice"], e_s, id=f"{p}.lattice-modulus")
-    steps.append(e_l)
+    d_l = cell.diameters["lattice"]
+    if lattice_posts is not None:
+        a_l = _area_step(d_l, inner_d["lattice"], id=f"{p}.lattice-area", description="Section area of a "
+                         "lattice strut")
+        e_l = evaluate(POST_LATTICE_MODULUS, id=f"{p}.lattice-modulus", description="Vertical modulus of the "
+                       "lattice: its vertical struts are posts, counted in the finite panel, smeared over the plan",
+                       values={"n_p": lattice_posts.result, "E_s": e_s, "A": a_l.result, "W": width, "D": depth},
+                       unit="MPa", source=DERIVED_POSTS)
+        steps += [lattice_posts, a_l, e_l]
+    else:
+        e_l = _lattice_modulus(cell, rd.by_group["lattice"], e_s, id=f"{p}.lattice-modulus")
+        steps.append(e_l)
     s_sum, strut_area, tz2, strut_idx = _affine_sums(cell)
     strut_len = cell.strut_lengths[strut_idx]
-    d_l = cell.diameters["lattice"]
-    i_l = evaluate(SECOND_MOMENT_CIRCLE, id=f"{p}.strut-second-moment", description="Second moment of area "
-                   "of a lattice strut", values={"d": d_l}, unit="mm^4", source=SECTION_SOURCE)
+    i_l = _second_moment_step(d_l, inner_d["lattice"], id=f"{p}.strut-second-moment",
+                              description="Second moment of area of a lattice strut")
     k_s = _k_step(strut_end_condition, k_value, id=f"{p}.strut-k", what="lattice strut between nodes")
     p_s = evaluate(EULER_LOAD, id=f"{p}.strut-p-cr", description="Euler critical load of the most heavily loaded "
                    "lattice strut", values={"E": e_s, "I": i_l.result, "K": k_s.result, "L": strut_len},
                    unit="N", source=EULER_SOURCE)
     steps += [i_l, k_s, p_s]
 
-    width, depth = (nx * a).to("m"), (ny * a).to("m")
     big, small = (width, depth) if width >= depth else (depth, width)
     i_panel = evaluate(PANEL_SECOND_MOMENT, id=f"{p}.panel-second-moment", description="Second moment of area "
                        "of the panel section about its weaker axis", values={"W": big, "D": small}, unit="m^4",
@@ -397,17 +576,23 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
     frame_parts: dict[str, Any] = {}
     if has_frame:
         e_f, which_f = modulus("frame")
-        a_f = evaluate(AREA_CIRCLE, id=f"{p}.frame-area", description="Section area of a frame member",
-                       values={"d": cell.diameters["frame"]}, unit="mm^2", source=SECTION_SOURCE)
+        posts = _posts_step(cell, "frame", nx=nx, ny=ny, nz=nz, id=f"{p}.frame-posts")
+        if posts is None:
+            raise ModelError("the frame has no vertical members to carry the panel's weight", input_name="cell",
+                             expected="a frame group with members along z (the cube's vertical edges)",
+                             got="no vertical frame strut")
+        a_f = _area_step(cell.diameters["frame"], inner_d["frame"], id=f"{p}.frame-area",
+                         description="Section area of a frame member")
         e_fs = evaluate(FRAME_MODULUS, id=f"{p}.frame-modulus", description="Vertical modulus of the frame "
-                        f"members smeared over the panel ({which_f})", values={"E_f": e_f, "A_f": a_f.result,
-                                                                                "a": a}, unit="MPa",
-                        source=DERIVED)
+                        f"posts smeared over the panel's plan ({which_f})",
+                        values={"n_p": posts.result, "E_f": e_f, "A_f": a_f.result, "W": width, "D": depth},
+                        unit="MPa", source=DERIVED_POSTS)
         e_c = evaluate(COMBINED_MODULUS, id=f"{p}.combined-modulus", description="Vertical modulus of frame and "
                        "lattice together (parallel load paths)", values={"E_l": e_l.result, "E_fs": e_fs.result},
                        unit="MPa", source=DERIVED)
-        steps += [a_f, e_fs, e_c]
-        frame_parts = {"E_f": e_f, "A_f": a_f, "E_fs": e_fs, "E_c": e_c}
+        a_t = _tributary_area(a, nx, ny, id=f"{p}.frame-tributary-area")
+        steps += [posts, a_f, e_fs, e_c, a_t]
+        frame_parts = {"E_f": e_f, "A_f": a_f, "E_fs": e_fs, "E_c": e_c, "A_t": a_t}
 
     shortening, moduli, strut_sf, greenhill = {}, {}, {}, {}
     frame_stress = frame_sf = None
@@ -446,16 +631,17 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
                                       "the strut force (larger of the stiffness share and the local weight)",
                                       value=sigma_l, unit="kPa", method="maximum of the two")
             steps += [share, local, governing]
-            n_f = evaluate(FRAME_FORCE, id=f"{cp}.frame-force", description="Axial force in a vertical frame "
-                           "member at the base (its stiffness share of one cell's plan area)",
-                           values={"sigma": sig.result, "a": a, "E_fs": frame_parts["E_fs"].result,
-                                   "E_c": e_case}, unit="N", source=DERIVED)
-            s_f = evaluate(FRAME_STRESS, id=f"{cp}.frame-stress", description="Axial stress in the lowest "
-                           "vertical frame member", values={"N_f": n_f.result, "A": frame_parts["A_f"].result},
+            n_f = evaluate(FRAME_FORCE, id=f"{cp}.frame-force", description="Axial force in the most heavily "
+                           "loaded vertical frame member at the base (the frame's stiffness share of the weight "
+                           "over its tributary area)",
+                           values={"sigma": sig.result, "A_t": frame_parts["A_t"].result,
+                                   "E_fs": frame_parts["E_fs"].result, "E_c": e_case}, unit="N", source=DERIVED_POSTS)
+            s_f = evaluate(FRAME_STRESS, id=f"{cp}.frame-stress", description="Axial stress in the most "
+                           "heavily loaded vertical frame member at the base",
+                           values={"N_f": n_f.result, "A": frame_parts["A_f"].result},
                            unit="kPa", source=DERIVED)
-            i_f = evaluate(SECOND_MOMENT_CIRCLE, id=f"{cp}.frame-second-moment", description="Second moment "
-                           "of area of a frame member", values={"d": cell.diameters["frame"]}, unit="mm^4",
-                           source=SECTION_SOURCE)
+            i_f = _second_moment_step(cell.diameters["frame"], inner_d["frame"], id=f"{cp}.frame-second-moment",
+                                      description="Second moment of area of a frame member")
             k_f = _k_step(frame_end_condition, k_value, id=f"{cp}.frame-k",
                           what="vertical frame member, one cell high")
             p_f = evaluate(EULER_LOAD, id=f"{cp}.frame-p-cr", description="Euler critical load of a vertical "

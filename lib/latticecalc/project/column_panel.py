@@ -66,6 +66,8 @@ def project_materials(inputs: Inputs) -> Mapping[str, Any] | None:
 def cell_from_inputs(inputs: Inputs) -> Cell:
     """The cell: a built-in kind, or ``custom`` from ``[cell.custom]`` nodes and struts.
 
+    With ``frame.wall_thickness`` above zero the frame members are tubes of outer diameter
+    ``frame.strut_diameter`` (see :meth:`~latticecalc.physics.cells.Cell.with_wall_thicknesses`).
     A custom cell gives ``nodes`` as fractions of the cell width (``[[0, 0, 0], [0.5, 0.5, 0.5], …]``)
     and ``struts`` as pairs of node indices (0-based).
     """
@@ -80,8 +82,17 @@ def cell_from_inputs(inputs: Inputs) -> Cell:
         nodes, struts = custom["nodes"], custom["struts"]
     # simple-cubic struts lie on the cube edges, where the frame would go: that cell has no frame
     framed = inputs.get("frame.enabled", True) and kind != "simple-cubic"
-    return build_cell(kind, cell_width=inputs["cell.width"], strut_diameter=inputs["lattice.strut_diameter"],
+    cell = build_cell(kind, cell_width=inputs["cell.width"], strut_diameter=inputs["lattice.strut_diameter"],
                       frame_diameter=inputs["frame.strut_diameter"] if framed else None, nodes=nodes, struts=struts)
+    # frame members as tubes: frame.strut_diameter is the outer diameter; 0 or absent is a solid rod
+    wall = inputs.get("frame.wall_thickness") if framed else None
+    if wall is not None and wall.to("mm").magnitude > 0:
+        try:
+            cell = cell.with_wall_thicknesses(frame=wall)
+        except InputError as exc:
+            raise InputError(exc.message, input_name="frame.wall_thickness", expected=exc.expected, got=exc.got,
+                             file=inputs.file) from None
+    return cell
 
 
 def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDesign:

@@ -476,11 +476,15 @@ class CalibratedMaterial(CalcResult):
 
 
 def calibrated(material: Material, *, dynamic_modulus: Any, source: Source,
-               id_prefix: str = "material.calibrated") -> CalibratedMaterial:
+               id_prefix: str = "material.calibrated", rescale_long_term: bool = False) -> CalibratedMaterial:
     """The material with its modulus scaled so its dynamic modulus equals a measured one.
 
-    The static, temperature and long-term moduli all follow (they are factors on E), so one
-    calibration from a prototype test moves every use of the material consistently.
+    The static and temperature moduli follow (they are factors on E).  The long-term (creep)
+    modulus does not: a dynamic test says nothing about creep under sustained load, so by default
+    the long-term modulus is kept at its value before the calibration (its factor is restated
+    against the new static modulus, and capped at 1 should the calibrated static modulus fall
+    below the old long-term one).  ``rescale_long_term=True`` moves it with the calibration too
+    (the user says the creep factor holds for the calibrated material).
 
     Parameters
     ----------
@@ -492,17 +496,42 @@ def calibrated(material: Material, *, dynamic_modulus: Any, source: Source,
         Where the calibration comes from (the prototype test's package).
     id_prefix:
         Prefix of the step ids.
+    rescale_long_term:
+        Scale the long-term (creep) modulus with the calibration (default False: keep it).
     """
     e_dyn = check_positive(check_dimension(dynamic_modulus, name="dynamic_modulus", expected="pressure"),
                            name="dynamic_modulus")
     given = quantity_step(id=f"{id_prefix}.dynamic-modulus", description=f"{material.name}: calibrated dynamic "
                           "modulus at the design frequency", value=e_dyn.to("MPa"), unit="MPa",
                           method="prototype test", source=source)
+    e_new = STATIC_FROM_DYNAMIC.evaluate({"E_dyn": e_dyn, "k": material.dynamic_to_static}).to("MPa")
+    sources = dict(material.sources) | {"youngs_modulus": source}
+    changes: dict[str, Any] = {}
+    note = f"replaces the catalogue value {format_quantity(material.youngs_modulus.to('MPa'))}"
+    e_lt = material.long_term_modulus()
+    if rescale_long_term:
+        note += (f"; the long-term (creep) modulus is rescaled with it (factor {material.long_term_factor:g} "
+                 "kept, as asked)")
+    elif material.long_term_factor != 1.0 or material.is_stated("long_term_factor"):
+        k_new = min(1.0, float((e_lt / e_new).to("").magnitude))
+        changes["long_term_factor"] = k_new
+        capped = k_new == 1.0 and e_lt > e_new
+        if capped:
+            note += (f"; the long-term (creep) modulus is not rescaled by a dynamic calibration, but its value "
+                     f"before ({format_quantity(e_lt.to('MPa'))}) exceeds the calibrated static modulus: it is "
+                     f"taken equal to that (long-term factor {material.long_term_factor:g} → 1)")
+        else:
+            note += (f"; the long-term (creep) modulus is not rescaled by a dynamic calibration: it stays "
+                     f"{format_quantity(e_lt.to('MPa'))} (long-term factor {material.long_term_factor:g} → "
+                     f"{k_new:.4g})")
+        was = material.source("long_term_factor")
+        sources["long_term_factor"] = Source(
+            author=was.author, title=f"long-term modulus {format_quantity(e_lt.to('MPa'))} kept through the "
+            f"dynamic calibration, over the calibrated static modulus; factor before: {material.long_term_factor:g} "
+            f"({was.title})", year=was.year, locator=was.locator, tag=was.tag)
     step = evaluate(STATIC_FROM_DYNAMIC, id=f"{id_prefix}.static-modulus", unit="MPa", source=source,
                     description=f"{material.name}: static modulus implied by the calibration",
-                    values={"E_dyn": e_dyn, "k": material.dynamic_to_static},
-                    note=f"replaces the catalogue value {format_quantity(material.youngs_modulus.to('MPa'))}")
-    sources = dict(material.sources) | {"youngs_modulus": source}
-    new = replace(material, youngs_modulus=step.result, sources=sources)
+                    values={"E_dyn": e_dyn, "k": material.dynamic_to_static}, note=note)
+    new = replace(material, youngs_modulus=step.result, sources=sources, **changes)
     return CalibratedMaterial(value=step.result, steps=(given, step), material=new,
                               title=f"Calibrated modulus of {material.name}")

@@ -11,15 +11,27 @@ Two answers are given side by side:
   states only that the value lies inside it) or a normal distribution with the tolerance taken
   as three standard deviations and truncated at the tolerance; the 5 %, 50 % and 95 % points of
   the sample are reported.  The same seed gives the same numbers on every run.
+
+For a result that is a product of powers of its inputs (a strut frequency, a modulus calibrated
+from one), the first-order propagation of ± half-widths is written out as formulas derived by
+sympy from the forward formula (never retyped): the exponent of each input is its logarithmic
+sensitivity ∂ln F/∂ln x, the worst case adds |exponent| × relative half-width
+(:func:`relative_bound`), and the standard uncertainty adds them in quadrature with each input
+spread uniformly over its tolerance (JCGM 100:2008 §5.1.2 eq. (10) and §4.3.7;
+:func:`relative_standard_uncertainty`).  :func:`strut_frequency_factors` and
+:func:`density_frequency_factors` give the factors by which the diameter, length and density
+tolerances move a strut frequency.
 """
 
 from __future__ import annotations
 
 import itertools
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
 import pint
+import sympy as sp
 from scipy.stats import truncnorm
 
 from latticecalc.errors import DimensionError, InputError
@@ -31,10 +43,18 @@ from latticecalc.physics.beams import (
     bending_frequency,
     eigenvalue,
 )
-from latticecalc.sheet import COMMON_PRACTICE, CalcResult, quantity_step
+from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
 DISTRIBUTIONS = ("uniform", "normal")
+
+GUM_2008 = Source(author="JCGM", title="JCGM 100:2008 Evaluation of measurement data – Guide to the "
+                  "expression of uncertainty in measurement", year=2008,
+                  locator="§5.1.2, eq. (10) (law of propagation); §4.3.7 (rectangular distribution, u = a/√3)")
+#: The worst case of a first-order propagation: each input at the end of its tolerance that moves
+#: the result the same way, the relative changes added with their sensitivities.
+WORST_CASE_SOURCE = Source(author="common practice", title="first-order worst-case propagation: sum of "
+                           "|∂ln F/∂ln x| × Δx/x (Taylor expansion to first order)", tag="common practice")
 
 #: The inputs that carry a tolerance: (argument name, tolerance argument name, dimension).
 TOLERANCED = (("diameter", "diameter_tolerance", "length"),
@@ -195,3 +215,146 @@ def frequency_tolerance(*, length, diameter, youngs_modulus, density, length_tol
     return FrequencyRange(value=value, steps=tuple(steps), samples=f_mc, distribution=distribution,
                           seed=seed, corners=f_corner,
                           title=f"Strut frequency under tolerances ({supports}, mode {mode})")
+
+
+# --- first-order propagation of ± half-widths through a product of powers ----------------------------
+def _symbol(expr: sp.Expr, name: str) -> sp.Symbol:
+    for sym in expr.free_symbols:
+        if sym.name == name:
+            return sym
+    raise InputError("the formula has no such symbol", input_name=name,
+                     expected=", ".join(sorted(s.name for s in expr.free_symbols)), got=repr(name))
+
+
+def log_sensitivities(formula: Formula, over: Sequence[str]) -> dict[str, sp.Expr]:
+    """∂ln F/∂ln x = (x/F) ∂F/∂x of ``formula`` for each name in ``over`` (sympy, simplified).
+
+    For a product of powers this is the exponent of x (2 for f in E ∝ f²).
+    """
+    expr = formula.expr
+    out = {}
+    for name in over:
+        x = _symbol(expr, name)
+        out[name] = sp.simplify(sp.diff(expr, x) * x / expr)
+    return out
+
+
+def _half_width_symbols(formula: Formula, over: Sequence[str]) -> tuple[dict, dict]:
+    symbols, latex = {}, {}
+    for name in over:
+        x = _symbol(formula.expr, name)
+        shown = formula.latex_names.get(name, sp.latex(x))
+        symbols[name] = sp.Symbol(f"Delta_{name}")
+        latex[f"Delta_{name}"] = rf"\Delta_{{{shown}}}"
+        latex[name] = shown
+    return symbols, latex
+
+
+def relative_bound(formula: Formula, over: Sequence[str], *, target: str, target_latex: str = "") -> Formula:
+    """The worst-case relative half-width of ``formula``: δ = Σ |∂ln F/∂ln x| · Δ_x / x.
+
+    Derived by sympy from ``formula`` (first order); its symbols are the names in ``over`` and a
+    half-width ``Delta_<name>`` for each.  E.g. for E = 64 π² f² L⁴ ρ / (λ⁴ d²):
+    δ_E = 2 Δf/f + 4 ΔL/L + 2 Δd/d + Δρ/ρ.
+    """
+    sens = log_sensitivities(formula, over)
+    deltas, latex = _half_width_symbols(formula, over)
+    expr = sum(sp.Abs(sens[n]) * deltas[n] / _symbol(formula.expr, n) for n in over)
+    if target_latex:
+        latex[target] = target_latex
+    return Formula(target, expr, latex)
+
+
+def relative_standard_uncertainty(formula: Formula, over: Sequence[str], *, target: str,
+                                  target_latex: str = "") -> Formula:
+    """The relative standard uncertainty of ``formula`` with each input uniform over ± Δ_x.
+
+    w = √(Σ (∂ln F/∂ln x · Δ_x / x)² / 3): the law of propagation of uncertainty for
+    uncorrelated inputs (JCGM 100:2008 §5.1.2, eq. (10)) with u(x) = Δ_x/√3 for a rectangular
+    distribution of half-width Δ_x (§4.3.7).  Same symbols as :func:`relative_bound`.
+    """
+    sens = log_sensitivities(formula, over)
+    deltas, latex = _half_width_symbols(formula, over)
+    total = sum((sens[n] * deltas[n] / _symbol(formula.expr, n)) ** 2 for n in over)
+    # kept unevaluated so the sheet shows √(Σ … / 3) rather than sympy's √3 √(Σ …) / 3
+    expr = sp.Pow(sp.Mul(total, sp.Pow(3, -1, evaluate=False), evaluate=False), sp.Rational(1, 2), evaluate=False)
+    if target_latex:
+        latex[target] = target_latex
+    return Formula(target, expr, latex)
+
+
+# --- the factors by which geometry and density tolerances move a strut frequency -----------------------
+def _strut_frequency_expr() -> sp.Expr:
+    """Euler–Bernoulli frequency of a solid circular strut, symbols positive (for simplification)."""
+    eb = EULER_BERNOULLI_FREQUENCY.expr
+    expr = eb.subs({_symbol(eb, "I"): SECOND_MOMENT_CIRCLE.expr, _symbol(eb, "A"): AREA_CIRCLE.expr})
+    return expr.subs({s: sp.Symbol(s.name, positive=True) for s in expr.free_symbols})
+
+
+_F = _strut_frequency_expr()
+_d, _L, _rho = (_symbol(_F, n) for n in ("d", "L", "rho"))
+_d2, _L2, _rho2 = sp.symbols("d_2 L_2 rho_2", positive=True)
+#: A strut frequency with changed diameter and length over the nominal one (E, ρ, λ fixed):
+#: the Euler–Bernoulli formula (Rao 2017 eq. 8.82) divided by itself, simplified by sympy.
+GEOMETRY_FREQUENCY_RATIO = Formula("s_g", sp.simplify(_F.subs({_d: _d2, _L: _L2}) / _F),
+                                   {"s_g": r"s_{\mathrm{geo}}", "d_2": "d'", "L_2": "L'"})
+#: A strut frequency with a changed density over the nominal one (E, geometry fixed).
+DENSITY_FREQUENCY_RATIO = Formula("s_rho", sp.simplify(_F.subs({_rho: _rho2}) / _F),
+                                  {"s_rho": r"s_{\rho}", "rho_2": r"\rho'"})
+
+
+def strut_frequency_factors(*, length, diameter, length_tolerance=None, diameter_tolerance=None,
+                            id_prefix: str = "strut.geometry") -> CalcResult:
+    """Lowest and highest strut-frequency factors under the diameter and length tolerances.
+
+    f ∝ d / L² (Euler–Bernoulli, solid circle, Rao 2017 eq. 8.82), so the frequency is lowest at
+    (d − Δd, L + ΔL) and highest at (d + Δd, L − ΔL): the worst case over the tolerance box.
+
+    Parameters
+    ----------
+    length, diameter:
+        Nominal strut length and diameter [length].
+    length_tolerance, diameter_tolerance:
+        ± half-widths: a length, or a dimensionless fraction; ``None`` for none.
+    id_prefix:
+        Prefix of the step ids (``<prefix>.factor-low``, ``<prefix>.factor-high``).
+
+    Returns
+    -------
+    CalcResult
+        ``value`` = (low, high) as floats; two steps showing the ratio formula evaluated.
+    """
+    L = check_positive(check_dimension(length, name="length", expected="length"), name="length").to("mm")
+    d = check_positive(check_dimension(diameter, name="diameter", expected="length"), name="diameter").to("mm")
+    hl = half_width(L, length_tolerance, name="length_tolerance").to("mm")
+    hd = half_width(d, diameter_tolerance, name="diameter_tolerance").to("mm")
+    lo = evaluate(GEOMETRY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-low", unit="", sig=4, source=RAO_2017,
+                  description="Strut frequency factor, thinnest and longest strut within the tolerances "
+                              f"(d − {format_quantity(hd)}, L + {format_quantity(hl)})",
+                  values={"d": d, "L": L, "d_2": d - hd, "L_2": L + hl})
+    hi = evaluate(GEOMETRY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-high", unit="", sig=4, source=RAO_2017,
+                  description="Strut frequency factor, thickest and shortest strut within the tolerances "
+                              f"(d + {format_quantity(hd)}, L − {format_quantity(hl)})",
+                  values={"d": d, "L": L, "d_2": d + hd, "L_2": L - hl})
+    return CalcResult(value=(float(lo.result.m), float(hi.result.m)), steps=(lo, hi),
+                      title="Strut frequency factors under the geometry tolerances")
+
+
+def density_frequency_factors(*, density, density_tolerance=None, id_prefix: str = "strut.density") -> CalcResult:
+    """Lowest and highest strut-frequency factors under a density tolerance (f ∝ 1/√ρ, Rao 2017 eq. 8.82).
+
+    ``density`` [mass / length³]; ``density_tolerance`` a ± half-width (density or fraction) or ``None``.
+    ``value`` = (low, high) as floats.
+    """
+    rho = check_positive(check_dimension(density, name="density", expected="density"), name="density").to("kg/m^3")
+    hr = half_width(rho, density_tolerance, name="density_tolerance").to("kg/m^3")
+    lo = evaluate(DENSITY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-low", unit="", sig=4, source=RAO_2017,
+                  description="Strut frequency factor, densest material within the tolerance "
+                              f"(ρ + {format_quantity(hr)})",
+                  values={"rho": rho, "rho_2": rho + hr})
+    hi = evaluate(DENSITY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-high", unit="", sig=4, source=RAO_2017,
+                  description="Strut frequency factor, lightest material within the tolerance "
+                              f"(ρ − {format_quantity(hr)})",
+                  values={"rho": rho, "rho_2": rho - hr})
+    return CalcResult(value=(float(lo.result.m), float(hi.result.m)), steps=(lo, hi),
+                      title="Strut frequency factors under the density tolerance")

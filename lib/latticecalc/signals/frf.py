@@ -7,8 +7,14 @@
   |T| stays below a chosen level (e.g. −10 dB); edges interpolated linearly in dB between bins.
 - Calibration of the elastomer's dynamic modulus: at fixed geometry and density every resonance
   of the strut scales with √E (Euler–Bernoulli f_n = λ_n²/(2π L²) √(E I/(ρ A)), Rao 2017 eq.
-  8.82), so E_cal = E_nom (f_measured / f_predicted)², with the first-order uncertainty
+  8.82), so E_cal = E_nom (f_measured / f_predicted)².  With the frequency alone uncertain,
   u(E_cal) = 2 E_cal u(f) / f_measured (JCGM 100:2008, law of propagation of uncertainty).
+  From a strut (:func:`calibrate_from_strut`) the coupon's geometry and density are uncertain too:
+  the same formula solved for E by sympy, E = 64 π² f² L⁴ ρ / (λ⁴ d²) for a solid circle, gives
+  the sensitivities (2, 4, −2, 1), so the worst-case relative half-width is
+  δ_E = 2 Δf/f + 4 ΔL/L + 2 Δd/d + Δρ/ρ and the standard uncertainty, each input uniform over its
+  tolerance, w_E = (1/√3) √((2 Δf/f)² + (4 ΔL/L)² + (2 Δd/d)² + (Δρ/ρ)²) (JCGM 100:2008 §5.1.2,
+  §4.3.7).  ±0.15 mm on a 3 mm strut alone gives δ_E = 10 %.
 """
 
 from __future__ import annotations
@@ -24,15 +30,14 @@ from scipy import fft as sfft
 from scipy import signal as ssig
 
 from latticecalc.errors import InputError, RecordError
-from latticecalc.physics import beams
+from latticecalc.physics import beams, tolerance
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
-from latticecalc.units import Q_, check_dimension, check_positive
+from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
 BENDAT_PIERSOL_2010 = Source(author="Bendat, J. S. & Piersol, A. G.", title="Random Data: Analysis and "
                              "Measurement Procedures, 4th ed.", year=2010, locator="§9.2.2 (H1), §9.2.3 "
                              "(coherence)", tag="from memory")
-GUM_2008 = Source(author="JCGM", title="JCGM 100:2008 Evaluation of measurement data – Guide to the "
-                  "expression of uncertainty in measurement", year=2008, locator="§5.1.2, eq. (10)")
+GUM_2008 = tolerance.GUM_2008
 
 _Gxy, _Gxx, _Gyy = sp.symbols("G_xy G_xx G_yy")
 H1 = Formula("H_1", _Gxy / _Gxx, {"G_xy": "G_{xy}", "G_xx": "G_{xx}", "H_1": "H_{1}"})
@@ -47,6 +52,35 @@ CALIBRATED_MODULUS = Formula("E_cal", _En * (_fm / _fp) ** 2,
 MODULUS_UNCERTAINTY = Formula("u_E", 2 * _Ec * _uf / _fm,
                               {"E_cal": r"E_{\mathrm{cal}}", "f_meas": r"f_{\mathrm{meas}}", "u_E": "u_{E}",
                                "u_f": "u_{f}"})
+
+
+def _strut_modulus() -> Formula:
+    """E solved by sympy from the Euler–Bernoulli frequency of a solid circular strut (Rao 2017 eq. 8.82)."""
+    eb = beams.EULER_BERNOULLI_FREQUENCY.expr
+    syms = {s.name: s for s in eb.free_symbols}
+    expr = eb.subs({syms["I"]: beams.SECOND_MOMENT_CIRCLE.expr, syms["A"]: beams.AREA_CIRCLE.expr})
+    (solved,) = sp.solve(sp.Eq(_fm, expr), syms["E"])
+    return Formula("E_cal", solved, {"E_cal": r"E_{\mathrm{cal}}", "f_meas": r"f_{\mathrm{meas}}"})
+
+
+#: The calibrated modulus straight from the strut formula: E = 64 π² f² L⁴ ρ / (λ⁴ d²).
+STRUT_MODULUS = _strut_modulus()
+#: The inputs of a strut calibration that carry a tolerance, in the order shown.
+CALIBRATION_INPUTS = ("f_meas", "L", "d", "rho")
+#: Worst-case relative half-width of the calibrated modulus, δ_E = Σ |∂ln E/∂ln x| Δx/x (derived).
+MODULUS_RELATIVE_BOUND = tolerance.relative_bound(STRUT_MODULUS, CALIBRATION_INPUTS, target="delta_E",
+                                                  target_latex=r"\delta_{E}")
+#: Relative standard uncertainty of the calibrated modulus, each input uniform over ± Δx (derived).
+MODULUS_RELATIVE_UNCERTAINTY = tolerance.relative_standard_uncertainty(STRUT_MODULUS, CALIBRATION_INPUTS,
+                                                                       target="w_E", target_latex="w_{E}")
+_dE, _wE = sp.symbols("delta_E w_E")
+MODULUS_BOUND = Formula("U_E", _dE * _Ec, {"U_E": r"\Delta E_{\mathrm{cal}}", "delta_E": r"\delta_{E}",
+                                           "E_cal": r"E_{\mathrm{cal}}"})
+MODULUS_STANDARD_UNCERTAINTY = Formula("u_E", _wE * _Ec, {"u_E": "u_{E}", "w_E": "w_{E}",
+                                                          "E_cal": r"E_{\mathrm{cal}}"})
+#: Half-width of a uniform distribution with standard uncertainty u (JCGM 100:2008 §4.3.7: u = a/√3).
+HALF_WIDTH_FROM_STANDARD = Formula("Delta_f_meas", sp.sqrt(3) * _uf,
+                                   {"Delta_f_meas": r"\Delta_{f_{\mathrm{meas}}}", "u_f": "u_{f}"})
 
 DEFAULT_RESOLUTION = Q_(0.5, "Hz")
 
@@ -193,10 +227,15 @@ def attenuation_band(frf: Transmissibility, *, level=-10.0, lowest=None, highest
 
 @dataclass(frozen=True, kw_only=True)
 class Calibration(CalcResult):
-    """Calibrated modulus; ``value`` is E_cal [pressure]; ``uncertainty`` its standard uncertainty."""
+    """Calibrated modulus; ``value`` is E_cal [pressure]; ``uncertainty`` its standard uncertainty.
+
+    ``bound`` is the worst-case ± half-width [pressure] (every tolerance at its limit, first order)
+    when the calibration propagated the coupon's tolerances (:func:`calibrate_from_strut`), else None.
+    """
 
     uncertainty: object
     predicted_frequency: object
+    bound: object = None
 
 
 def calibrate_modulus(*, nominal_modulus, measured_frequency, predicted_frequency,
@@ -238,21 +277,100 @@ def calibrate_modulus(*, nominal_modulus, measured_frequency, predicted_frequenc
 
 
 def calibrate_from_strut(*, measured_frequency, length, diameter, nominal_modulus, density,
-                         supports: str = "clamped-clamped", mode: int = 1, frequency_uncertainty=None) -> Calibration:
-    """Calibrate E from a measured strut resonance, predicting it with :func:`beams.bending_frequency`.
+                         supports: str = "clamped-clamped", mode: int = 1, frequency_uncertainty=None,
+                         frequency_half_width=None, length_tolerance=None, diameter_tolerance=None,
+                         density_tolerance=None) -> Calibration:
+    """Calibrate E from a measured strut resonance, with the coupon's tolerances propagated.
 
-    Parameters as for :func:`latticecalc.physics.beams.bending_frequency` and :func:`calibrate_modulus`.
-    The result's steps include the prediction and a check that E_cal reproduces the measured frequency.
+    The resonance is predicted with :func:`beams.bending_frequency` at the nominal modulus and
+    E_cal = E_nom (f_meas / f_pred)².  The uncertainty of E_cal carries the measured frequency's and
+    the coupon's length, diameter and density tolerances through E = 64 π² f² L⁴ ρ / (λ⁴ d²) (the
+    strut formula solved for E): worst case δ_E = 2 Δf/f + 4 ΔL/L + 2 Δd/d + Δρ/ρ (``bound``) and
+    standard uncertainty w_E = (1/√3) √(Σ (n_x Δx/x)²) (``uncertainty``, JCGM 100:2008 §5.1.2 with
+    each input uniform over ± its half-width, §4.3.7).
+
+    Parameters
+    ----------
+    measured_frequency:
+        Measured strut resonance [frequency].
+    length, diameter, nominal_modulus, density, supports, mode:
+        As for :func:`latticecalc.physics.beams.bending_frequency` (nominal coupon values).
+    frequency_uncertainty:
+        Standard uncertainty of the measured frequency [frequency] (e.g. Δf/√12 of a bin); its
+        half-width is taken as √3 u (uniform) when ``frequency_half_width`` is not given.
+    frequency_half_width:
+        ± half-width of the measured frequency [frequency] (e.g. half the frequency resolution).
+    length_tolerance, diameter_tolerance, density_tolerance:
+        ± half-widths of the coupon's strut length, diameter [length or fraction] and density
+        [density or fraction]; ``None`` for none.
+
+    The result's steps include the prediction, the modulus from the strut formula, the uncertainty
+    steps and a check that E_cal reproduces the measured frequency.
     """
     pred = beams.bending_frequency(length=length, diameter=diameter, youngs_modulus=nominal_modulus,
                                    density=density, supports=supports, mode=mode, id_prefix="calibration.predicted")
-    cal = calibrate_modulus(nominal_modulus=nominal_modulus, measured_frequency=measured_frequency,
-                            predicted_frequency=pred.value, frequency_uncertainty=frequency_uncertainty)
-    again = beams.bending_frequency(length=length, diameter=diameter, youngs_modulus=cal.value, density=density,
+    en = check_positive(check_dimension(nominal_modulus, name="nominal_modulus", expected="pressure"),
+                        name="nominal_modulus")
+    fm = check_positive(check_dimension(measured_frequency, name="measured_frequency", expected="frequency"),
+                        name="measured_frequency").to("Hz")
+    L = check_dimension(length, name="length", expected="length").to("mm")
+    d = check_dimension(diameter, name="diameter", expected="length").to("mm")
+    rho = check_dimension(density, name="density", expected="density").to("kg/m^3")
+    uf = None if frequency_uncertainty is None else check_positive(
+        check_dimension(frequency_uncertainty, name="frequency_uncertainty", expected="frequency"),
+        name="frequency_uncertainty", allow_zero=True).to("Hz")
+    steps = list(pred.steps)
+    e = evaluate(CALIBRATED_MODULUS, id="calibration.modulus", description="Calibrated dynamic modulus "
+                 "(frequencies scale with √E at fixed geometry and density)",
+                 values={"E_nom": en, "f_meas": fm, "f_pred": pred.value}, unit="MPa", source=beams.RAO_2017)
+    lam = Q_(beams.eigenvalue(supports=supports, mode=mode), "")
+    direct = evaluate(STRUT_MODULUS, id="calibration.strut-modulus", unit="MPa", source=beams.RAO_2017,
+                      description=f"The same modulus from the strut formula solved for E ({supports}, mode {mode}, "
+                                  "solid circle): the formula whose sensitivities carry the tolerances below",
+                      values={"f_meas": fm, "L": L, "d": d, "rho": rho, "lambda_n": lam})
+    steps += [e, direct]
+    if frequency_half_width is not None:
+        af = check_positive(check_dimension(frequency_half_width, name="frequency_half_width",
+                                            expected="frequency"), name="frequency_half_width",
+                            allow_zero=True).to("Hz")
+        steps.append(quantity_step(id="calibration.frequency-half-width", description="± half-width of the "
+                                   "measured frequency", value=af, unit="Hz", sig=3,
+                                   method="given (half the frequency resolution for a spectral bin)"))
+    elif uf is not None:
+        half = evaluate(HALF_WIDTH_FROM_STANDARD, id="calibration.frequency-half-width", unit="Hz", sig=3,
+                        description="± half-width of the measured frequency, uniform over the bin",
+                        values={"u_f": uf}, source=GUM_2008)
+        af = half.result
+        steps.append(half)
+    else:
+        af = Q_(0.0, "Hz")
+    hl = tolerance.half_width(L, length_tolerance, name="length_tolerance").to("mm")
+    hd = tolerance.half_width(d, diameter_tolerance, name="diameter_tolerance").to("mm")
+    hr = tolerance.half_width(rho, density_tolerance, name="density_tolerance").to("kg/m^3")
+    vals = {"f_meas": fm, "Delta_f_meas": af, "L": L, "Delta_L": hl, "d": d, "Delta_d": hd, "rho": rho,
+            "Delta_rho": hr}
+    given = (f"f = {format_quantity(fm)} ± {format_quantity(af)}, L = {format_quantity(L)} ± {format_quantity(hl)}, "
+             f"d = {format_quantity(d)} ± {format_quantity(hd)}, ρ = {format_quantity(rho)} ± {format_quantity(hr)}")
+    rel_b = evaluate(MODULUS_RELATIVE_BOUND, id="calibration.relative-bound", unit="percent", sig=3,
+                     source=tolerance.WORST_CASE_SOURCE, values=vals,
+                     description="Worst-case relative half-width of the calibrated modulus: the exponents of "
+                                 f"E = 64π²f²L⁴ρ/(λ⁴d²) times the relative half-widths ({given})")
+    bound = evaluate(MODULUS_BOUND, id="calibration.bound", unit="MPa", source=tolerance.WORST_CASE_SOURCE,
+                     description="Worst-case ± half-width of the calibrated modulus (every tolerance at its "
+                                 "limit at once)", values={"delta_E": rel_b.result, "E_cal": e.result})
+    rel_u = evaluate(MODULUS_RELATIVE_UNCERTAINTY, id="calibration.relative-uncertainty", unit="percent", sig=3,
+                     source=GUM_2008, values=vals,
+                     description="Relative standard uncertainty of the calibrated modulus: law of propagation, "
+                                 "each input uniform over its ± half-width (u = Δ/√3)")
+    u = evaluate(MODULUS_STANDARD_UNCERTAINTY, id="calibration.uncertainty", unit="MPa", source=GUM_2008,
+                 description="Standard uncertainty of the calibrated modulus (frequency, length, diameter and "
+                             "density of the coupon)", values={"w_E": rel_u.result, "E_cal": e.result})
+    again = beams.bending_frequency(length=length, diameter=diameter, youngs_modulus=e.result, density=density,
                                     supports=supports, mode=mode, id_prefix="calibration.recomputed")
-    return Calibration(value=cal.value, steps=pred.steps + cal.steps + again.steps[-1:],
-                       uncertainty=cal.uncertainty, predicted_frequency=pred.value,
-                       title="Calibrated dynamic modulus from a strut resonance")
+    steps += [rel_b, bound, rel_u, u, again.steps[-1]]
+    return Calibration(value=e.result, steps=tuple(steps), uncertainty=u.result, bound=bound.result,
+                       predicted_frequency=pred.value,
+                       title="Calibrated dynamic modulus from a strut resonance, with its uncertainty")
 
 
 def resonance(frf: Transmissibility, *, lowest, highest, extremum: str = "max") -> CalcResult:
@@ -292,10 +410,16 @@ class ExportedCalibration:
     modulus: pint.Quantity
     uncertainty: pint.Quantity | None
     source: Source
+    bound: pint.Quantity | None = None
+    relative_bound: pint.Quantity | None = None
 
 
 def calibration_from_export(path) -> ExportedCalibration:
     """The calibrated dynamic modulus (``calibration.modulus``) from a prototype-test export JSON.
+
+    Also read when exported: its standard uncertainty (``calibration.uncertainty``) and the
+    worst-case half-width (``calibration.bound``, ``calibration.relative-bound``) that carries the
+    coupon's tolerances; exports made before the tolerances were propagated have no bound (None).
 
     Parameters
     ----------
@@ -323,5 +447,8 @@ def calibration_from_export(path) -> ExportedCalibration:
     source = Source(author=f"{meta.get('prepared_by', '')}, prototype test {meta.get('calc_id', '')} "
                     f"rev {meta.get('revision', '')}".strip(", "), title=meta.get("title", "prototype test"),
                     year=str(data.get("generated", ""))[:4], locator=f"step calibration.modulus, {p.name}")
+    bound, rel = rows.get("calibration.bound"), rows.get("calibration.relative-bound")
     return ExportedCalibration(modulus=quantity(rows["calibration.modulus"]),
-                               uncertainty=quantity(unc) if unc else None, source=source)
+                               uncertainty=quantity(unc) if unc else None, source=source,
+                               bound=quantity(bound) if bound else None,
+                               relative_bound=quantity(rel).to("") if rel else None)

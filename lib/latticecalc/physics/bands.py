@@ -194,6 +194,26 @@ class BandEstimate(CalcResult):
         return rows
 
 
+def direction_weight(*, lengths, weights, directions) -> tuple[float, str]:
+    """Share w of the struts' bending driven by the host motion, and how it was found.
+
+    The smallest over the wave axes x, y, z of the length-weighted mean of 1 − (d·e)²; with no
+    directions, 2/3 (any strut set averaged over three axes, since Σ_d (d·e)² = 1) [derived].
+    """
+    if directions is None:
+        return 2.0 / 3.0, "any strut set averaged over three axes: Σ_d (d·e)² = 1, so the mean of 1 − (d·e)² is 2/3"
+    lengths = np.atleast_1d(np.asarray(lengths, dtype=float))
+    e = np.asarray(directions, dtype=float)
+    if e.shape != (lengths.size, 3):
+        raise InputError("one direction per strut", input_name="strut_directions",
+                         expected=f"shape ({lengths.size}, 3)", got=f"shape {e.shape}")
+    e = e / np.linalg.norm(e, axis=1)[:, None]
+    share = np.asarray(weights, dtype=float) * lengths
+    per_axis = [float((share * (1.0 - e[:, k] ** 2)).sum() / share.sum()) for k in range(3)]
+    return min(per_axis), ("smallest over the wave axes x, y, z of the length-weighted mean of 1 − (d·e)²: "
+                           + ", ".join(f"{v:.4g}" for v in per_axis))
+
+
 def _kernel(*, L, Ltot, d, E, rho, m_host, a, mu, lam, w):
     """The band formulas on (array) Quantities: the same Formula objects as the sheet, vectorised."""
     area = AREA_CIRCLE.evaluate({"d": d})
@@ -305,20 +325,7 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
     ms = evaluate(STRUT_MASS, id=f"{p}.strut-mass", unit="g", source=COMMON_PRACTICE,
                   description="Mass of the resonating struts per cell (slender struts, node overlap neglected)",
                   values={"rho": rho, "A": area.result, "L_tot": L_tot})
-    if strut_directions is None:
-        w_val = 2.0 / 3.0
-        w_method = "any strut set averaged over three axes: Σ_d (d·e)² = 1, so the mean of 1 − (d·e)² is 2/3"
-    else:
-        e = np.asarray(strut_directions, dtype=float)
-        if e.shape != (lengths.magnitude.size, 3):
-            raise InputError("one direction per strut", input_name="strut_directions",
-                             expected=f"shape ({lengths.magnitude.size}, 3)", got=f"shape {e.shape}")
-        e = e / np.linalg.norm(e, axis=1)[:, None]
-        share = weights * lengths.magnitude
-        per_axis = [float((share * (1.0 - e[:, k] ** 2)).sum() / share.sum()) for k in range(3)]
-        w_val = min(per_axis)
-        w_method = ("smallest over the wave axes x, y, z of the length-weighted mean of 1 − (d·e)²: "
-                    + ", ".join(f"{v:.4g}" for v in per_axis))
+    w_val, w_method = direction_weight(lengths=lengths.magnitude, weights=weights, directions=strut_directions)
     w_dir = quantity_step(id=f"{p}.direction-weight", description="Direction weight w: share of the struts' "
                           "bending that the host motion drives", value=Q_(w_val, ""), sig=4, method=w_method,
                           source=DIRECTION_WEIGHT_SOURCE)

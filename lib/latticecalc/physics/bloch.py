@@ -604,7 +604,8 @@ def _cell_key(cell: Any, materials: Mapping[str, Any]) -> tuple:
     mats = {g: {a: getattr(m, a, None) for a in props} for g, m in materials.items()}
     return (np.asarray(cell.nodes.to("m").magnitude), np.asarray(cell.struts), list(map(str, cell.groups)),
             dict(cell.diameters), np.asarray(getattr(cell, "weights", [])), mats,
-            sorted(fe.cell_point_masses(cell).items()))
+            sorted(fe.cell_point_masses(cell).items()),
+            sorted((g, str(t)) for g, t in getattr(cell, "wall_thicknesses", {}).items()))
 
 
 def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, n_bands: int = 30,

@@ -24,6 +24,7 @@ from latticecalc.physics.bands import (
     WAVE_SPEED,
     _kernel,
     cell_band_inputs,
+    direction_weight,
 )
 from latticecalc.physics.beams import AREA_CIRCLE, eigenvalue, modal_mass_fraction
 from latticecalc.sheet import CalcResult, quantity_step
@@ -107,18 +108,20 @@ def band_sweep(*, cell, lattice_material, parameter: str, values, frame_material
                          for r in rows]), "mm")
     d, E, rho = stack("strut_diameter", "mm"), stack("youngs_modulus", "MPa"), stack("density", "kg/m^3")
     host, a, Ee = stack("host_mass", "g"), stack("cell_width", "mm"), stack("effective_modulus", "MPa")
+    w = Q_(np.array([direction_weight(lengths=r["strut_lengths"].to("m").magnitude, weights=r["strut_weights"],
+                                      directions=r.get("strut_directions"))[0] for r in rows]), "")
 
     out = {"parameter_values": Q_(mags, unit)}
     for fix in FIXITIES:
         mu = modal_mass_fraction(supports=fix).value
         lam = Q_(eigenvalue(supports=fix, mode=1), "")
-        f0, fh = _kernel(L=L_long, Ltot=L_tot, d=d, E=E, rho=rho, m_host=host, a=a, mu=mu, lam=lam)
+        f0, fh = _kernel(L=L_long, Ltot=L_tot, d=d, E=E, rho=rho, m_host=host, a=a, mu=mu, lam=lam, w=w)
         suffix = "" if fix == "clamped-clamped" else "_pinned"
         out["f_low" + suffix], out["f_high" + suffix] = f0, fh
         if fix == "clamped-clamped":
             ms = STRUT_MASS.evaluate({"rho": rho, "A": AREA_CIRCLE.evaluate({"d": d}), "L_tot": L_tot})
-            m2 = RESONATING_MASS.evaluate({"mu": mu, "m_s": ms})
-            m1 = HOST_MASS.evaluate({"m_h": host, "mu": mu, "m_s": ms})
+            m2 = RESONATING_MASS.evaluate({"w": w, "mu": mu, "m_s": ms})
+            m1 = HOST_MASS.evaluate({"m_h": host, "w": w, "mu": mu, "m_s": ms})
             rho_eff = EFFECTIVE_DENSITY.evaluate({"m_1": m1, "m_2": m2, "a": a})
             speed = WAVE_SPEED.evaluate({"E_eff": Ee, "rho_eff": rho_eff})
             out["f_bragg"] = BRAGG_FREQUENCY.evaluate({"c": speed, "a": a}).to("Hz")

@@ -27,11 +27,12 @@ def band_figure(estimate, *, measured=None):
     ax.axvspan(v["envelope_low"], v["envelope_high"], color="#dde8f3", label="envelope (fixity, scatter)")
     ax.axvspan(v["f_low_min"], v["f_high_max"], color="#a9c4e0", label="clamped–clamped, with scatter")
     ax.axvspan(v["f_low"], v["f_high"], color="#4f7fb3", label="nominal band")
-    ys = {"clamped-clamped": 0.75, "pinned-pinned": 0.35}
+    ys = {"clamped-clamped": 0.75, "clamped-pinned": 0.55, "pinned-pinned": 0.35}
     for _, mode, fix, f in estimate.cluster:
         ax.plot(f.to("Hz").magnitude, ys[fix], marker="o^s"[min(mode, 3) - 1], color="k", linestyle="none",
                 markersize=5)
     ax.text(0.01, 0.80, "strut modes, clamped ends", transform=ax.transAxes, fontsize=7)
+    ax.text(0.01, 0.60, "strut modes, one end pinned", transform=ax.transAxes, fontsize=7)
     ax.text(0.01, 0.40, "strut modes, pinned ends", transform=ax.transAxes, fontsize=7)
     ax.text(0.01, 0.05, "● mode 1   ▲ mode 2   ■ mode 3", transform=ax.transAxes, fontsize=7)
     ax.axvline(v["f_bragg"], color="#b33", linestyle="--", label="Bragg c/(2a)")

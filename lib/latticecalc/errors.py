@@ -93,3 +93,20 @@ class NotebookError(ProjectError):
 
 class ModelError(LatticeCalcError, ValueError):
     """A numerical model cannot be built or solved as specified (mechanism, bad mesh, bad geometry)."""
+
+
+class KernelDiedError(NotebookError):
+    """The notebook kernel stopped (crashed, exited or was killed) while a notebook was running."""
+
+
+class RunTimeoutError(NotebookError):
+    """A cell, or the whole run, took longer than allowed; the kernel was stopped."""
+
+
+class RunInterruptedError(NotebookError):
+    """The run was stopped by a signal (SIGINT or SIGTERM); the kernel was stopped.
+
+    ``signal_name`` is the signal's name (``"SIGTERM"``), for a command that exits with 128 + its number.
+    """
+
+    signal_name: str | None = None

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 import os
+import re
 from typing import Any
 
 import numpy as np
@@ -62,9 +63,130 @@ def describe_dimension(expected: str) -> str:
     return f"a quantity in units compatible with {expected}"
 
 
+#: Longest text :func:`parse` reads as a quantity; longer text is refused before any parsing.
+MAX_QUANTITY_CHARS = 200
+#: Longest number part of a quantity (sign, digits, point, exponent).
+MAX_NUMBER_CHARS = 40
+#: Largest magnitude of an exponent in a unit expression (``m^3``, ``s^-2``).
+MAX_UNIT_EXPONENT = 12
+#: Deepest nesting of parentheses in a unit expression.
+MAX_UNIT_NESTING = 3
+
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+_NON_FINITE = re.compile(r"[+-]?(?:nan|inf(?:inity)?)(?![^\W\d])", re.IGNORECASE)
+_UNIT_NAME = re.compile(r"°?[^\W\d]\w*|%")
+_POWER = re.compile(r"[ \t]*(?:\^|\*\*)[ \t]*(?:\([ \t]*([+-]?[0-9]+(?:\.[0-9]+)?)[ \t]*\)|([+-]?[0-9]+(?:\.[0-9]+)?))")
+_SUPERSCRIPT = re.compile("⁻?[⁰¹²³⁴⁵⁶⁷⁸⁹]+")
+_SUPERSCRIPT_DIGITS = str.maketrans("⁻⁰¹²³⁴⁵⁶⁷⁸⁹", "-0123456789")
+_OPERATORS = "*/·⋅"
+_EXPECTED_TEXT = "a number and a unit such as '5 mm', '10 MPa' or '1150 kg/m^3'"
+
+
+def _shown(text: str, limit: int = 40) -> str:
+    return repr(text if len(text) <= limit else text[:limit] + "…")
+
+
+def _unit_problem(text: str, pos: int) -> str | None:
+    """What is wrong with the unit expression ``text[pos:]``, or None if it keeps to the grammar.
+
+    The grammar: unit names joined by ``*``, ``/``, ``·`` or a space, each name or parenthesised
+    group optionally raised to a small number with ``^``, ``**`` or superscript digits; the
+    expression may open with ``/`` (``"1/s"``). One pass, no backtracking: its time is linear in
+    the (already capped) length.
+    """
+    n = len(text)
+    depth = 0
+    while pos < n and text[pos].isspace():
+        pos += 1
+    if pos == n:
+        return None
+    if text[pos] == "/":
+        pos += 1
+    expect_term = True
+    while True:
+        if expect_term:
+            while pos < n and text[pos].isspace():
+                pos += 1
+            if pos < n and text[pos] == "(":
+                depth += 1
+                if depth > MAX_UNIT_NESTING:
+                    return f"parentheses nested deeper than {MAX_UNIT_NESTING}"
+                pos += 1
+                continue
+            name = _UNIT_NAME.match(text, pos)
+            if name is None:
+                return f"expected a unit name at {_shown(text[pos:])}"
+            pos, expect_term = name.end(), False
+        # after a unit name or a closing parenthesis: an optional power, then what joins the next term
+        power = _POWER.match(text, pos)
+        superscript = None if power else _SUPERSCRIPT.match(text, pos)
+        if power or superscript:
+            digits = (power.group(1) or power.group(2)) if power else superscript.group().translate(
+                _SUPERSCRIPT_DIGITS)
+            if abs(float(digits)) > MAX_UNIT_EXPONENT:
+                return f"unit exponent {digits} is larger than {MAX_UNIT_EXPONENT}"
+            pos = (power or superscript).end()
+        spaced = pos < n and text[pos].isspace()
+        while pos < n and text[pos].isspace():
+            pos += 1
+        if pos == n:
+            return None if depth == 0 else "a parenthesis is not closed"
+        char = text[pos]
+        if char == ")":
+            if depth == 0:
+                return "a closing parenthesis has no opening one"
+            depth -= 1
+            pos += 1
+        elif char in _OPERATORS:
+            pos += 1
+            expect_term = True
+        elif spaced and (char == "(" or _UNIT_NAME.match(text, pos)):
+            expect_term = True
+        else:
+            return f"unexpected {_shown(text[pos:])}"
+
+
+def _read_text(stripped: str, *, name: str, file: str | None, line: int | None) -> pint.Quantity:
+    """Check ``stripped`` against the number-and-unit grammar, bounded, before pint parses it."""
+    def refuse(message: str, expected: str = _EXPECTED_TEXT) -> InputError:
+        return InputError(message, input_name=name, expected=expected, got=_shown(stripped), file=file, line=line)
+
+    if len(stripped) > MAX_QUANTITY_CHARS:
+        raise refuse(f"text too long to be a quantity ({len(stripped)} characters, at most {MAX_QUANTITY_CHARS})")
+    if _NON_FINITE.match(stripped):
+        raise refuse("not a finite number", "a finite number and a unit such as '5 mm'")
+    number = _NUMBER.match(stripped)
+    if number is None:
+        raise refuse("does not start with a number")
+    if number.end() > MAX_NUMBER_CHARS:
+        raise refuse(f"number too long ({number.end()} characters, at most {MAX_NUMBER_CHARS})")
+    if not math.isfinite(float(number.group())):
+        raise refuse("not a finite number (too large)", "a finite number and a unit such as '5 mm'")
+    problem = _unit_problem(stripped, number.end())
+    if problem is not None:
+        raise refuse(f"cannot read {_shown(stripped)} as a quantity ({problem})")
+    try:
+        q = ureg.Quantity(stripped)
+    except (pint.errors.PintError, SyntaxError, ValueError, TypeError, AttributeError, ArithmeticError,
+            RecursionError) as exc:
+        raise refuse(f"cannot read {_shown(stripped)} as a quantity ({exc})") from None
+    if not isinstance(q, pint.Quantity):
+        q = Q_(float(q), "")
+    if not np.all(np.isfinite(q.magnitude)):
+        raise refuse("not a finite number", "a finite number and a unit such as '5 mm'")
+    return q
+
+
 def parse(text: Any, *, name: str, expected: str | None = None, file: str | None = None,
           line: int | None = None) -> pint.Quantity:
     """Parse ``"5 mm"``-style text (or a number, or a Quantity) into a Quantity of the registry.
+
+    Text must be a number (optionally with a decimal exponent) followed by a unit expression:
+    unit names joined by ``*``, ``/``, ``·`` or spaces, with small exponents (``^``, ``**``,
+    superscripts) and parentheses. It is checked against that grammar, with caps on its length
+    (:data:`MAX_QUANTITY_CHARS`), the number's length and the exponents, before pint's parser
+    sees it, so no text can make parsing slow (``"9**9**9 mm"`` is refused, not evaluated).
+    Text and plain numbers must be finite: ``"nan mm"``, ``"inf Hz"`` and NaN are refused.
 
     Parameters
     ----------
@@ -84,22 +206,21 @@ def parse(text: Any, *, name: str, expected: str | None = None, file: str | None
                          expected=describe_dimension(expected) if expected else "a quantity",
                          got=repr(text), file=file, line=line)
     elif isinstance(text, (int, float)):
-        q = Q_(float(text), "")
+        try:
+            value = float(text)
+        except OverflowError:
+            value = math.inf
+        if not math.isfinite(value):
+            raise InputError("not a finite number", input_name=name, expected="a finite number",
+                             got=_shown(repr(text)), file=file, line=line)
+        q = Q_(value, "")
     elif isinstance(text, str):
         stripped = text.strip()
         if not stripped:
             raise InputError("empty value", input_name=name,
                              expected=describe_dimension(expected) if expected else "a quantity",
                              got="''", file=file, line=line)
-        try:
-            q = ureg.Quantity(stripped)
-        except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError,
-                SyntaxError, ValueError, TypeError, AttributeError) as exc:
-            raise InputError(f"cannot read {stripped!r} as a quantity ({exc})", input_name=name,
-                             expected="a number and a unit such as '5 mm' or '10 MPa'",
-                             got=repr(stripped), file=file, line=line) from None
-        if not isinstance(q, pint.Quantity):
-            q = Q_(float(q), "")
+        q = _read_text(stripped, name=name, file=file, line=line)
     else:
         raise InputError("not a quantity", input_name=name,
                          expected="text such as '5 mm', a number, or a Quantity",

@@ -8,6 +8,7 @@ and order survive a round trip (tomlkit). Every error names the input, the file 
 from __future__ import annotations
 
 import difflib
+import math
 import re
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
@@ -24,6 +25,8 @@ from latticecalc.project.schema import InputSpec, TemplateSpec
 from latticecalc.units import format_number, format_quantity, parse, unit_text
 
 INPUTS_FILE = "inputs.toml"
+#: Most items a quantity-list input may hold (each item is parsed on its own).
+MAX_LIST_ITEMS = 1000
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -183,6 +186,12 @@ def read_document(path: Path) -> tomlkit.TOMLDocument:
 
 
 def _check_range(spec: InputSpec, q: Any, *, file: str, line: int | None) -> None:
+    if spec.positive:
+        for v in q if isinstance(q, list) else [q]:
+            if not v.magnitude > 0:
+                raise InputError("must be greater than zero", input_name=spec.name,
+                                 expected=f"{spec.description or spec.name}: a {spec.dimension} greater than zero",
+                                 got=format_quantity(v), file=file, line=line)
     for bound, op, word in ((spec.min, lambda a, b: a < b, "below"), (spec.max, lambda a, b: a > b, "above")):
         if bound is None:
             continue
@@ -206,15 +215,24 @@ def validate_value(spec: InputSpec, raw: Any, *, file: str, line: int | None) ->
     if kind == "quantity":
         q = parse(raw, name=spec.name, expected=spec.dimension, file=file, line=line)
     elif kind == "quantity-list":
+        if isinstance(raw, str) and len(raw) > MAX_LIST_ITEMS * 50:
+            raise InputError(f"text too long for a list ({len(raw)} characters)", input_name=spec.name,
+                             expected=spec.expected, got=repr(raw[:40] + "…"), file=file, line=line)
         items = raw if isinstance(raw, list) else [x for x in str(raw).split(",") if x.strip()]
         if not items and not spec.optional:
             raise InputError("empty list", input_name=spec.name, expected=spec.expected, file=file, line=line)
+        if len(items) > MAX_LIST_ITEMS:
+            raise InputError(f"too many values ({len(items)}, at most {MAX_LIST_ITEMS})", input_name=spec.name,
+                             expected=spec.expected, file=file, line=line)
         q = [parse(x, name=f"{spec.name}[{i}]", expected=spec.dimension, file=file, line=line)
              for i, x in enumerate(items)]
     elif kind in ("number", "integer"):
         wrong_integer = kind == "integer" and not isinstance(raw, int)
         if isinstance(raw, bool) or not isinstance(raw, (int, float)) or wrong_integer:
             raise InputError("wrong type", input_name=spec.name, expected=spec.expected, got=repr(raw),
+                             file=file, line=line)
+        if isinstance(raw, float) and not math.isfinite(raw):
+            raise InputError("not a finite number", input_name=spec.name, expected=spec.expected, got=repr(raw),
                              file=file, line=line)
         q = raw
     elif kind == "bool":

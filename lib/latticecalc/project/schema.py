@@ -13,6 +13,11 @@ from latticecalc.units import DIMENSIONS
 KINDS = ("quantity", "quantity-list", "number", "integer", "text", "choice", "bool", "path", "table")
 _SPEC_KEYS = {"name", "description", "kind", "dimension", "default", "min", "max", "choices",
               "optional", "source", "unit"}
+#: Dimensions whose values must be greater than zero by their physics: a frequency (a sample
+#: rate, a band edge, a measured peak, a target) is a rate of cycles, and a negative or zero one
+#: means a typing error. A quantity or quantity-list input of one of these dimensions that
+#: declares no ``min`` must be > 0; a declared ``min`` replaces the rule.
+POSITIVE_DIMENSIONS = frozenset({"frequency"})
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -46,6 +51,12 @@ class InputSpec:
     unit: str = ""
 
     @property
+    def positive(self) -> bool:
+        """Whether every value must be > 0 although no ``min`` is declared (:data:`POSITIVE_DIMENSIONS`)."""
+        return (self.kind in ("quantity", "quantity-list") and self.dimension in POSITIVE_DIMENSIONS
+                and self.min is None)
+
+    @property
     def expected(self) -> str:
         """What a valid value looks like, for error messages and the form."""
         if self.kind == "quantity":
@@ -62,6 +73,8 @@ class InputSpec:
             text = "true or false"
         else:
             text = self.kind
+        if self.positive:
+            text += " greater than zero"
         if self.min is not None or self.max is not None:
             text += f" in [{self.min if self.min is not None else '−∞'}, {self.max if self.max is not None else '∞'}]"
         if self.default is not None and self.kind in ("quantity", "number", "integer"):

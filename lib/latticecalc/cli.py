@@ -110,6 +110,12 @@ def main(argv: Sequence[str] | None = None) -> int:
         return args.func(args)
     except LatticeCalcError as exc:
         print(f"latticecalc {args.command}: error: {exc}", file=sys.stderr)
+        sig = getattr(exc, "signal_name", None)
+        if sig:
+            import signal
+
+            # stopped by a signal: the shell's convention, 128 + its number (130 Ctrl-C, 143 SIGTERM)
+            return 128 + int(getattr(signal, sig, signal.SIGTERM))
         return 2
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)

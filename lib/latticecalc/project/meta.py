@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import re
 import tomllib
+import unicodedata
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -11,6 +12,29 @@ from latticecalc.errors import InputError
 
 PROJECT_FILE = "project.toml"
 _SAFE_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
+# Characters that change how text is laid out or read rather than what it says: the bidirectional
+# embeddings, overrides, isolates and marks (they can make a title read differently from its bytes).
+_BIDI_CONTROLS = frozenset("\u061c\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069")
+
+
+class ControlCharacterError(InputError):
+    """A text field of ``project.toml`` holds a control character (newline, tab, C0/C1, bidi control).
+
+    These fields are one line of plain text on the title block, the page header and in file
+    names; a line break or a direction override there is never intended, and a line break could
+    end the page header's CSS string.
+    """
+
+
+def _control_character(text: str) -> str | None:
+    """The first control character in ``text`` as ``U+XXXX (name)``, or None."""
+    for ch in text:
+        cat = unicodedata.category(ch)
+        if cat in ("Cc", "Zl", "Zp") or ch in _BIDI_CONTROLS:
+            name = unicodedata.name(ch, {"\n": "LINE FEED", "\r": "CARRIAGE RETURN",
+                                         "\t": "CHARACTER TABULATION"}.get(ch, "control character"))
+            return f"U+{ord(ch):04X} ({name})"
+    return None
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -39,7 +63,17 @@ class ProjectMeta:
 
 
 def load_meta(path: Path) -> ProjectMeta:
-    """Read and check ``project.toml``; calc id and revision must be safe in a file name."""
+    """Read and check ``project.toml``.
+
+    Calc id and revision must be safe in a file name; no text field may hold a control character.
+
+    Raises
+    ------
+    InputError
+        If the file is missing, not TOML, or a required field is missing or empty.
+    ControlCharacterError
+        If a text field holds a newline, tab, other C0/C1 control or a bidirectional control.
+    """
     path = Path(path)
     try:
         data = tomllib.loads(path.read_text(encoding="utf-8"))
@@ -56,6 +90,14 @@ def load_meta(path: Path) -> ProjectMeta:
         if not isinstance(val, (str, int)) or (isinstance(val, str) and not val.strip()):
             raise InputError("missing or empty", input_name=key, file=path.name,
                              expected="a non-empty text value in quotes", got=repr(val))
+    fields |= {"project.client": proj.get("client", ""), "calc.description": calc.get("description", "")}
+    for key, val in fields.items():
+        bad = _control_character(val) if isinstance(val, str) else None
+        if bad is not None:
+            raise ControlCharacterError("a line break, tab or other control character is not allowed here",
+                                        input_name=key, file=str(path), expected="one line of plain text",
+                                        got=f"{val!r}, which holds {bad}",
+                                        hint=f"Edit {key} in {path.name} to a single line")
     for key in ("calc.id", "calc.revision"):
         if not _SAFE_ID.match(str(fields[key])):
             raise InputError("used in file names, so letters, digits, '.', '_' and '-' only",

@@ -7,9 +7,13 @@ from records is escaped; math is MathML made by :mod:`latticecalc.sheet.mathml`.
 
 from __future__ import annotations
 
+import re
 from html import escape
 
 from latticecalc.sheet.mathml import to_mathml
+
+_BASE64 = re.compile(r"[A-Za-z0-9+/]*={0,2}")
+_NOTE_CATEGORIES = ("assumption", "caution", "note")
 
 
 def _source_html(source: dict | None) -> str:
@@ -61,14 +65,16 @@ def figure_html(rec: dict, *, number: int | None = None) -> str:
     """A figure with its caption; the image is an inline ``data:`` PNG."""
     label = f"Figure {number}. " if number is not None else ""
     fid = escape(rec["id"])
+    png = rec["png"] if isinstance(rec.get("png"), str) and _BASE64.fullmatch(rec["png"]) else ""
     return (f'<figure class="lc-figure" id="fig-{fid}" data-figure="{fid}">'
-            f'<img alt="{escape(rec["caption"])}" src="data:image/png;base64,{rec["png"]}">'
+            f'<img alt="{escape(rec["caption"])}" src="data:image/png;base64,{png}">'
             f'<figcaption>{escape(label)}{escape(rec["caption"])}</figcaption></figure>')
 
 
 def note_html(rec: dict) -> str:
     """An assumption, caution or remark."""
-    return (f'<div class="lc-remark lc-{escape(rec["category"])}"><strong>'
+    category = rec["category"] if rec["category"] in _NOTE_CATEGORIES else "note"
+    return (f'<div class="lc-remark lc-{category}"><strong>'
             f'{escape(rec["category"].capitalize())}:</strong> {escape(rec["text"])}'
             + (f' <span class="lc-source">({escape(rec["source"]["cite"])})</span>'
                if rec.get("source") else "") + "</div>")

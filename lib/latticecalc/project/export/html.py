@@ -50,6 +50,25 @@ class PackageExtras:
     embedded_json: str = ""
 
 
+def css_string(text: str) -> str:
+    r"""``text`` as a quoted CSS string in which only letters, digits and spaces stay literal.
+
+    Every other character is a CSS hex escape (``\a `` for a newline, ``\22 `` for a quote,
+    ``\3c `` for ``<``), so no text, however hostile, can end the string, the rule or the
+    ``<style>`` element it sits in. NUL and surrogates become U+FFFD, as a CSS parser would read them.
+    """
+    out = []
+    for ch in str(text):
+        code = ord(ch)
+        if ch.isascii() and (ch.isalnum() or ch == " "):
+            out.append(ch)
+        else:
+            if code == 0 or 0xD800 <= code <= 0xDFFF:
+                code = 0xFFFD
+            out.append(f"\\{code:x} ")
+    return '"' + "".join(out) + '"'
+
+
 def _css() -> str:
     return (resources.files("latticecalc.project.export") / "package.css").read_text(encoding="utf-8")
 
@@ -131,7 +150,7 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
     cautions = [n for n in notes if n["category"] == "caution"]
     summaries = ([summary] if summary else []) + doc.records("summary")
     running = f"{meta['calc_id']} rev {meta['revision']} — {meta['title']}"
-    running_css = '"' + running.replace("\\", "\\\\").replace('"', '\\"').replace("<", "\\3c ") + '"'
+    running_css = css_string(running)
 
     contents = ['<li><a href="#inputs">Inputs</a></li>', '<li><a href="#checks">Checks summary</a></li>']
     contents += [f'<li><a href="#{s.anchor}">{s.number}. {escape(s.title)}</a></li>' for s in doc.sections]

@@ -167,3 +167,33 @@ def test_every_step_of_a_demo_run_reevaluates(tmp_path, monkeypatch, demo):
         if s.id in getattr(step_module, "PENDING_FORMULA_FIX", ()):
             continue            # listed, and warned about, until its module shows the formula it applies
         _reevaluate(s)
+
+
+@pytest.mark.slow
+def test_every_step_of_a_column_panel_run_reevaluates(tmp_path, monkeypatch):
+    # the kit's promise (DEVELOPERS.md: the formula a step shows is the one it evaluates), on the
+    # column-panel template with its own example inputs, coarsened so the run takes about a minute
+    from tests.helpers import make_quick
+
+    from latticecalc.project.inputs import set_values
+    from latticecalc.project.schema import load_template_spec
+    from latticecalc.project.templates import new_project
+
+    folder = make_quick(new_project(tmp_path / "panel", template="column-panel"))
+    spec = load_template_spec(folder / "template.toml")
+    set_values(folder / "inputs.toml", spec, {"receiver.frequencies": 40, "sweep.added_masses": ["0 g", "50 g"]})
+    made: list[Step] = []
+    original = Step.__post_init__
+
+    def record_step(self):
+        made.append(self)
+        original(self)
+
+    monkeypatch.setattr(Step, "__post_init__", record_step)
+    monkeypatch.chdir(folder)
+    _run_notebooks(folder)
+    formula_steps = [s for s in made if s.formula is not None]
+    ids = {s.id for s in formula_steps}
+    assert {"receiver.mass-ratio", "receiver.il-bound", "receiver.band-high", "strut.f1-cc"} <= ids
+    for s in formula_steps:
+        _reevaluate(s)

@@ -1,4 +1,13 @@
-"""What a run saw: hashes of the inputs and notebook code, to tell when a project is stale."""
+"""What a run saw: hashes of the inputs, notebook code and executed outputs, to tell when a project is stale.
+
+``current_state`` hashes what a run reads (inputs, project, template, each notebook's code, the
+kit version); the runner records it before it starts and refuses to finish if it changed.
+``executed_outputs`` hashes what a run wrote: each executed notebook in ``out/executed/`` (its
+cells' sources and outputs, and the notebook's ``latticecalc`` metadata, which is everything the
+export reads). The run record (``out/run-record.json``) keeps both; ``stale_files`` names every
+file whose hash differs since, so an executed notebook edited by hand after the run makes the
+project stale like an edited input: export and sign refuse until it is run again.
+"""
 
 from __future__ import annotations
 
@@ -16,6 +25,8 @@ from latticecalc.project.project import TEMPLATE_FILE, Project
 
 RUN_RECORD = "run-record.json"
 EXECUTED_DIR = "executed"
+#: The run record's key for the hashes of the executed notebooks.
+OUTPUTS_KEY = "outputs"
 
 
 def notebook_code(path: Path) -> str:
@@ -41,22 +52,69 @@ def current_state(project: Project) -> dict[str, str]:
     return state
 
 
+def executed_path(project: Project, name: str) -> Path:
+    """Where the run put the executed copy of notebook ``name``."""
+    return project.out / EXECUTED_DIR / name
+
+
+def _executed_label(project: Project, name: str) -> str:
+    path = executed_path(project, name)
+    try:
+        return path.relative_to(project.folder).as_posix()
+    except ValueError:
+        return f"{EXECUTED_DIR}/{name}"
+
+
+def output_hash(path: Path) -> str:
+    """SHA-256 of an executed notebook's cells (type, source, outputs) and ``latticecalc`` metadata.
+
+    Execution timestamps and other cell metadata are left out: they change nothing the export shows.
+    """
+    try:
+        nb = nbformat.read(str(path), as_version=4)
+    except FileNotFoundError:
+        return "missing"
+    except Exception as exc:  # unreadable JSON or notebook format: not the notebook the run wrote
+        return f"unreadable ({type(exc).__name__})"
+    body = {"metadata": nb.metadata.get("latticecalc"),
+            "cells": [{"type": c.cell_type, "source": c.source, "outputs": c.get("outputs", [])} for c in nb.cells]}
+    text = json.dumps(body, sort_keys=True, separators=(",", ":"), ensure_ascii=False, default=str)
+    return _sha(text.encode("utf-8"))
+
+
+def executed_outputs(project: Project) -> dict[str, str]:
+    """Hash of each executed notebook (:func:`output_hash`), by notebook name; the run records it last."""
+    return {nb.name: output_hash(executed_path(project, nb.name)) for nb in project.notebooks}
+
+
 def read_run_record(project: Project) -> dict | None:
     """The record the last successful run wrote, or None."""
     path = project.out / RUN_RECORD
     if not path.is_file():
         return None
     try:
-        return json.loads(path.read_text(encoding="utf-8"))
+        record = json.loads(path.read_text(encoding="utf-8"))
     except json.JSONDecodeError:
         return None
+    return record if isinstance(record, dict) else None
 
 
 def stale_files(project: Project) -> list[str]:
-    """Files changed since the last successful run (``["(never run)"]`` if there was none)."""
+    """Files changed since the last successful run (``["(never run)"]`` if there was none).
+
+    Inputs, project, template and notebook code by name (``inputs.toml``, ``70_coverage.ipynb``);
+    executed notebooks edited since the run by their path (``out/executed/70_coverage.ipynb``),
+    when the run record holds their hashes.
+    """
     record = read_run_record(project)
     if record is None:
         return ["(never run)"]
     now = current_state(project)
     then = record.get("state", {})
-    return sorted(k for k in set(now) | set(then) if now.get(k) != then.get(k))
+    changed = sorted(k for k in set(now) | set(then) if now.get(k) != then.get(k))
+    outputs = record.get(OUTPUTS_KEY)
+    if isinstance(outputs, dict):
+        current = executed_outputs(project)
+        changed += sorted(_executed_label(project, k) for k in set(current) | set(outputs)
+                          if current.get(k) != outputs.get(k))
+    return changed

@@ -13,6 +13,7 @@ _WHERE = {
     "sign_project": "records",
     "add_comment": "review", "reply_comment": "review", "close_comment": "review", "list_comments": "review",
     "compare_revisions": "revisions",
+    "trust_key": "trust", "same_person": "identity",
     "seal_package": "verify", "verify_package": "verify",
 }
 

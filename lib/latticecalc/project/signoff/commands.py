@@ -1,4 +1,4 @@
-"""Sub-commands ``sign``, ``keygen``, ``verify``, ``review`` and ``compare`` of ``latticecalc``.
+"""Sub-commands ``sign``, ``keygen``, ``trust``, ``verify``, ``review`` and ``compare`` of ``latticecalc``.
 
 Each turns its arguments into one library call; errors are LatticeCalcErrors, which ``cli.main``
 prints and turns into exit status 2. ``verify`` exits 1 when the package does not verify.
@@ -26,6 +26,16 @@ def _keygen(args: argparse.Namespace) -> int:
     print(f"Private key (keep it secret): {files.private}")
     print(f"Public key (give it to whoever verifies): {files.public}")
     print(f"Key id: {files.key_id}")
+    print(f"Key fingerprint: {files.fingerprint}")
+    return 0
+
+
+def _trust(args: argparse.Namespace) -> int:
+    from latticecalc.project.signoff.trust import trust_key, trust_path
+
+    entry = trust_key(args.dir, public=args.key, person=args.person, roles=args.role)
+    print(f"Trusted key {entry.fingerprint[:16]}… of {entry.person} for {', '.join(entry.roles)} "
+          f"in {trust_path(args.dir)}")
     return 0
 
 
@@ -96,9 +106,18 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--name", default="signing", help="file name of the pair: NAME.key and NAME.pub")
     p.set_defaults(func=_keygen)
 
+    p = sub.add_parser("trust", help="list a public key in the project's trusted keys: whose it is, what it may sign")
+    p.add_argument("dir", help="project folder")
+    p.add_argument("--key", required=True, help="the signer's public key file (NAME.pub from 'latticecalc keygen')")
+    p.add_argument("--person", required=True, help="whose key it is (sign-offs with it must bear this name)")
+    p.add_argument("--role", required=True, action="append", choices=["prepared", "checked", "approved"],
+                   help="a role the key may sign (repeat for more)")
+    p.set_defaults(func=_trust)
+
     p = sub.add_parser("verify", help="check an exported package's content hash and signatures")
     p.add_argument("package", help="the exported .html package")
-    p.add_argument("--keys", default=None, help="folder of trusted public keys (*.pub)")
+    p.add_argument("--keys", default=None,
+                   help="trusted keys: a trusted-keys.toml, a project or folder holding one, or a folder of *.pub")
     p.set_defaults(func=_verify)
 
     p = sub.add_parser("review", help="review comments against step ids: add, reply, close, list")

@@ -7,10 +7,12 @@ from html import escape
 from latticecalc.project.export.html import PackageExtras, SignRow
 from latticecalc.project.project import Project
 from latticecalc.project.signoff.fingerprint import fingerprint_content, fingerprint_of
+from latticecalc.project.signoff.journal import head_problem
 from latticecalc.project.signoff.keys import chain_problems
-from latticecalc.project.signoff.records import ROLES, SignoffState, judge, load_records, status_of
-from latticecalc.project.signoff.review import ReviewComment, load_comments
+from latticecalc.project.signoff.records import ROLES, SignoffState, judge, load_records, signatures_path, status_of
+from latticecalc.project.signoff.review import ReviewComment, load_comments, review_problems
 from latticecalc.project.signoff.revisions import history_html, load_revisions, record_export, revision_record
+from latticecalc.project.signoff.trust import project_trust
 from latticecalc.project.signoff.verify import EMBED_FORMAT, SEAL_PLACEHOLDER
 
 #: Longest "what changed" text shown in the title block (the sign-off table shows all of it).
@@ -41,12 +43,12 @@ def _sign_rows(states: list[SignoffState]) -> list[SignRow]:
     return rows
 
 
-def _signature_block(states: list[SignoffState]) -> str:
-    broken = chain_problems([s.record for s in states])
+def _signature_block(states: list[SignoffState], extra: list[str]) -> str:
+    broken = chain_problems([s.record for s in states]) + extra
     warning = "".join(f'<p class="lc-verdict-notok"><strong>{escape(p)}</strong></p>' for p in broken)
     if not states:
-        return ('<section id="signoffs"><h2>Sign-off record</h2><p>Not signed off: this package is '
-                "preliminary.</p></section>")
+        return ('<section id="signoffs"><h2>Sign-off record</h2>' + warning + "<p>Not signed off: this package "
+                "is preliminary.</p></section>")
     rows = []
     for s in states:
         r = s.record
@@ -68,9 +70,10 @@ def _signature_block(states: list[SignoffState]) -> str:
             "check with <code>latticecalc verify</code>.</p></section>")
 
 
-def _comments_html(comments: list[ReviewComment]) -> str:
+def _comments_html(comments: list[ReviewComment], problems: list[str]) -> str:
+    warning = "".join(f'<p class="lc-verdict-notok"><strong>{escape(p)}</strong></p>' for p in problems)
     if not comments:
-        return ""
+        return warning
     rows = []
     for c in comments:
         replies = "".join(f"<br>↳ {escape(r['author'])}: {escape(r['text'])}" for r in c.replies)
@@ -79,15 +82,15 @@ def _comments_html(comments: list[ReviewComment]) -> str:
                     f'<td><a href="#step-{escape(c.step)}">{escape(c.step)}</a></td>'
                     f'<td class="{cls}">{escape(c.status)}</td><td>{escape(c.author)}: {escape(c.text)}{replies}</td>'
                     f"</tr>")
-    return ('<table class="lc-review"><thead><tr><th>Id</th><th>Step</th><th>Status</th><th>Comment and replies'
-            "</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
+    return (warning + '<table class="lc-review"><thead><tr><th>Id</th><th>Step</th><th>Status</th>'
+            "<th>Comment and replies</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
 
 
 def signoff_view(project: Project, data: dict, doc) -> tuple[str, dict, list[SignoffState], str]:
     """Fingerprint, its content, the judged sign-offs and the status, for package ``data``."""
     content = fingerprint_content(project, data, doc)
     fp = fingerprint_of(content)
-    states = judge(load_records(project), fp, content)
+    states = judge(load_records(project), fp, content, trust=project_trust(project.folder))
     return fp, content, states, status_of(states)
 
 
@@ -97,6 +100,9 @@ def package_extras(project: Project, data: dict, doc) -> PackageExtras:
 
     fp, content, states, status = signoff_view(project, data, doc)
     comments = load_comments(project)
+    records = [s.record for s in states]
+    review_broken = review_problems(project, signoffs=records)
+    head = head_problem(signatures_path(project), records, what="sign-off")
     by_step: dict[str, list[dict]] = {}
     for c in comments:
         by_step.setdefault(c.step, []).append(c.to_dict())
@@ -110,9 +116,11 @@ def package_extras(project: Project, data: dict, doc) -> PackageExtras:
                              for s in states],
                 "seal": SEAL_PLACEHOLDER}
     return PackageExtras(status=status, fingerprint=fp, signatures=_sign_rows(states), comments_by_step=by_step,
-                         comments_html=_comments_html(comments), open_comments=embedded["open_comments"],
+                         comments_html=_comments_html(comments, review_broken),
+                         open_comments=embedded["open_comments"],
                          revision_history_html=history_html(stored, current, frozen=frozen),
-                         signature_block_html=_signature_block(states), embedded_json=embed_json(embedded))
+                         signature_block_html=_signature_block(states, [head] if head else []),
+                         embedded_json=embed_json(embedded))
 
 
 def after_export(project: Project, data: dict, doc) -> None:

@@ -20,6 +20,12 @@ of the *fingerprint content*:
 ``shown``
     The text of every step and check as the package shows it (formula, substituted values,
     result, source), so that an edited figure on the page no longer matches.
+``checks``
+    Every check as recorded: id, description, demand and limit (values and texts), sense,
+    utilisation and verdict: what the checks summary shows, and what its verdict follows from.
+``summary``
+    The summary boxes the package opens with, row by row (label, text, step, and whether the
+    text is a result, the count of checks or the governing check).
 ``kit_version``
     The latticecalc version that produced the results.
 
@@ -27,6 +33,10 @@ Input values are rounded the same way. Shown texts carry the 4 significant figur
 prints: a rerun elsewhere that changes a printed digit voids a sign-off, as it should, since the
 package would then show a different figure. The content is embedded in the package beside the
 fingerprint, so anyone can recompute it from the HTML alone (``latticecalc verify``).
+
+The *display digest* (:func:`display_digest`) is the SHA-256 of the part a reader sees (checks,
+summary boxes, steps and inputs as shown); a sign-off records it beside the fingerprint, so a
+keyed signature names the displayed document it signed.
 """
 
 from __future__ import annotations
@@ -43,7 +53,9 @@ if TYPE_CHECKING:
 #: Significant figures kept of every number in the fingerprint content.
 RESULT_SIG_FIGS = 10
 
-CONTENT_FORMAT = "latticecalc-fingerprint-content/1"
+CONTENT_FORMAT = "latticecalc-fingerprint-content/2"
+#: The parts of the content a reader sees on the page.
+DISPLAYED = ("checks", "summary", "shown", "inputs_shown")
 
 
 def round_sig(value: Any, sig: int = RESULT_SIG_FIGS) -> Any:
@@ -75,6 +87,11 @@ def fingerprint_of(content: dict) -> str:
     return hashlib.sha256(canonical_json(content).encode("utf-8")).hexdigest()
 
 
+def display_digest(content: dict) -> str:
+    """SHA-256 (hex) of the displayed part of a fingerprint content (:data:`DISPLAYED`)."""
+    return fingerprint_of({k: content.get(k) for k in DISPLAYED})
+
+
 def _result_entry(row: dict) -> dict:
     entry = {"id": row["id"], "value": row["value"], "unit": row.get("unit", ""), "text": row.get("text", "")}
     if "verdict" in row:
@@ -98,6 +115,7 @@ def shown_steps(doc) -> dict[str, str]:
 
 def fingerprint_content(project: Project, data: dict, doc) -> dict:
     """The content the fingerprint covers, from the project, its package JSON ``data`` and sheet ``doc``."""
+    from latticecalc.project.signoff.display import checks_content, summary_content
     from latticecalc.project.state import notebook_code
 
     meta = {k: v for k, v in data["project"].items() if k not in ("template", "kit_version")}
@@ -109,6 +127,8 @@ def fingerprint_content(project: Project, data: dict, doc) -> dict:
         "notebooks": [{"name": nb.name, "code": notebook_code(nb)} for nb in project.notebooks],
         "results": [_result_entry(r) for r in data["results"]],
         "shown": shown_steps(doc),
+        "checks": checks_content(doc),
+        "summary": summary_content(project, doc),
         "kit_version": data["project"]["kit_version"],
     })
 
@@ -191,5 +211,5 @@ def diff_content(old: dict, new: dict) -> ContentChanges:
     return ContentChanges(inputs=inputs, results=results, notebooks=notebooks, project=project, kit_version=kit)
 
 
-__all__ = ["RESULT_SIG_FIGS", "ContentChanges", "canonical_json", "diff_content", "fingerprint_content",
-           "fingerprint_of", "round_sig"]
+__all__ = ["RESULT_SIG_FIGS", "ContentChanges", "canonical_json", "diff_content", "display_digest",
+           "fingerprint_content", "fingerprint_of", "round_sig"]

@@ -3,8 +3,9 @@
 ``generate_keypair`` writes ``<name>.key`` (PKCS#8 PEM, file mode 0600) and ``<name>.pub``
 (SubjectPublicKeyInfo PEM) and never replaces an existing file. A signature is made over the
 canonical JSON of the sign-off record's signed fields; the record carries the raw public key
-(base64) and its key id (the first 16 hex digits of the SHA-256 of the raw public key), so a
-package can be checked on its own, and against a folder of trusted public keys.
+(base64) and its key id (the first 16 hex digits of the SHA-256 of the raw public key, whose
+64 digits are the key's fingerprint), so a package can be checked on its own, and against a
+project's list of trusted keys (:mod:`~latticecalc.project.signoff.trust`).
 """
 
 from __future__ import annotations
@@ -22,24 +23,28 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey,
 
 from latticecalc.errors import InputError
 from latticecalc.project.signoff.fingerprint import canonical_json
+from latticecalc.project.signoff.journal import UNLINKED_FIELDS, chain_breaks, record_link
 
 PRIVATE_SUFFIX = ".key"
 PUBLIC_SUFFIX = ".pub"
 ALGORITHM = "ed25519"
-#: The fields of a sign-off record a signature covers (the fingerprint binds it to the content).
-SIGNED_FIELDS = ("seq", "role", "name", "time", "fingerprint", "comment", "calc_id", "revision", "previous")
-#: Fields left out of a record's link hash: the bulky content (bound through the fingerprint) and
-#: what an export adds to the embedded copy.
-UNLINKED_FIELDS = ("content", "state")
+#: The fields of a sign-off record a signature covers: the fingerprint binds it to the content,
+#: ``document`` to what the reader sees (checks summary, summary box, steps, inputs), ``status``
+#: to the status the package takes with it, ``review`` to the review events the signer saw.
+SIGNED_FIELDS = ("seq", "role", "name", "time", "fingerprint", "comment", "calc_id", "revision", "previous",
+                 "document", "status", "review")
+#: Signed as ``null`` when missing (the fields every record has had).
+_ALWAYS_SIGNED = SIGNED_FIELDS[:9]
 
 
 @dataclass(frozen=True, kw_only=True)
 class KeyPairFiles:
-    """Where ``generate_keypair`` put the two halves, and the key id."""
+    """Where ``generate_keypair`` put the two halves, the key id and the fingerprint (SHA-256 of the public key)."""
 
     private: Path
     public: Path
     key_id: str
+    fingerprint: str
 
 
 def key_id(public_raw: bytes) -> str:
@@ -94,7 +99,9 @@ def generate_keypair(out: str | Path, *, name: str = "signing") -> KeyPairFiles:
                                                 serialization.PublicFormat.SubjectPublicKeyInfo)
     _write_new(priv_path, priv_pem, 0o600)
     _write_new(pub_path, pub_pem, 0o644)
-    return KeyPairFiles(private=priv_path, public=pub_path, key_id=key_id(_raw(private.public_key())))
+    raw = _raw(private.public_key())
+    return KeyPairFiles(private=priv_path, public=pub_path, key_id=key_id(raw),
+                        fingerprint=hashlib.sha256(raw).hexdigest())
 
 
 def load_private_key(path: str | Path) -> Ed25519PrivateKey:
@@ -112,43 +119,20 @@ def load_private_key(path: str | Path) -> Ed25519PrivateKey:
     return key
 
 
-def load_public_keys(folder: str | Path) -> dict[str, Path]:
-    """Trusted public keys in ``folder`` (``*.pub``): key id -> file."""
-    folder = Path(folder)
-    if not folder.is_dir():
-        raise InputError("not a folder of public keys", input_name="--keys", got=str(folder))
-    keys = {}
-    for p in sorted(folder.glob(f"*{PUBLIC_SUFFIX}")):
-        try:
-            pub = serialization.load_pem_public_key(p.read_bytes())
-        except ValueError as exc:
-            raise InputError(f"not a readable public key ({exc})", input_name="--keys", got=str(p)) from None
-        if isinstance(pub, Ed25519PublicKey):
-            keys[key_id(_raw(pub))] = p
-    return keys
-
-
 def signed_message(record: dict) -> bytes:
-    """The bytes an Ed25519 signature covers: canonical JSON of the record's signed fields."""
-    return canonical_json({k: record.get(k) for k in SIGNED_FIELDS}).encode("utf-8")
+    """The bytes an Ed25519 signature covers: canonical JSON of the record's signed fields.
 
-
-def record_link(record: dict) -> str:
-    """SHA-256 of a record's canonical JSON (minus :data:`UNLINKED_FIELDS`); the next record's ``previous``."""
-    body = {k: v for k, v in record.items() if k not in UNLINKED_FIELDS}
-    return hashlib.sha256(canonical_json(body).encode("utf-8")).hexdigest()
+    The fields of :data:`SIGNED_FIELDS` the record has (records made before ``document``,
+    ``status`` and ``review`` existed keep verifying; removing a field breaks the signature).
+    """
+    return canonical_json({k: record.get(k) for k in SIGNED_FIELDS
+                           if k in record or k in _ALWAYS_SIGNED}).encode("utf-8")
 
 
 def chain_problems(records: list[dict]) -> list[str]:
     """Where the chain of sign-off records is broken (a record removed, reordered or altered)."""
-    problems = []
-    previous = ""
-    for n, rec in enumerate(records, start=1):
-        if rec.get("seq") != n or rec.get("previous", "") != previous:
-            problems.append(f"sign-off {rec.get('seq')} ({rec.get('role')}, {rec.get('name')}): the record "
-                            "before it is missing or was altered (the chain of sign-offs is broken)")
-        previous = record_link(rec)
-    return problems
+    return [f"sign-off {records[i].get('seq')} ({records[i].get('role')}, {records[i].get('name')}): the record "
+            "before it is missing or was altered (the chain of sign-offs is broken)" for i in chain_breaks(records)]
 
 
 def sign_bytes(private: Ed25519PrivateKey, message: bytes) -> dict:
@@ -169,10 +153,10 @@ def check_signature(signature: dict, message: bytes) -> str:
         Ed25519PublicKey.from_public_bytes(raw).verify(base64.b64decode(signature["value"], validate=True), message)
     except InvalidSignature:
         return "signature does not match the signed content"
-    except (KeyError, ValueError, TypeError) as exc:
+    except (KeyError, ValueError, TypeError, AttributeError) as exc:
         return f"malformed signature ({exc})"
     return ""
 
 
-__all__ = ["SIGNED_FIELDS", "KeyPairFiles", "chain_problems", "check_signature", "generate_keypair", "key_id",
-           "load_private_key", "load_public_keys", "record_link", "sign_bytes", "signed_message"]
+__all__ = ["SIGNED_FIELDS", "UNLINKED_FIELDS", "KeyPairFiles", "chain_problems", "check_signature",
+           "generate_keypair", "key_id", "load_private_key", "record_link", "sign_bytes", "signed_message"]

@@ -2,22 +2,33 @@
 
 A record holds the role (prepared, checked, approved), the name, the UTC time, the fingerprint
 signed, a comment, the revision, and the fingerprint content itself, so that a later export can
-say exactly what changed when a sign-off no longer matches (it is then VOID). With a key, the
-record also carries an Ed25519 signature of its signed fields (``keys.SIGNED_FIELDS``). Each
-record holds the hash of the one before it (``previous``), so a removed or altered record shows.
+say exactly what changed when a sign-off no longer matches (it is then VOID). It also holds the
+*display digest* of what the reader sees (``document``: checks summary, summary box, steps and
+inputs as shown), the status the package takes with it (``status``) and the head of the review
+file its signer saw (``review``). With a key, the record also carries an Ed25519 signature of
+its signed fields (``keys.SIGNED_FIELDS``). Each record holds the hash of the one before it
+(``previous``), so a removed or altered record shows.
 
 Rules ``sign_project`` enforces:
 
-* the project must have a valid run that matches its current inputs and notebooks (not stale,
-  not failed, not never run);
-* ``checked`` is refused while review comments are open, and when the checker is the preparer;
+* the project must have a valid run that matches its current inputs, notebooks and executed
+  outputs (not stale, not failed, not never run), and every verdict must follow from its
+  demand and limit;
+* the sign-off and review files must be whole (chains unbroken, nothing cut from the end);
+* ``checked`` is refused while review comments are open, and when the checker is the preparer
+  (names compared as :mod:`~latticecalc.project.signoff.identity` folds them);
+* one key signs one role of a revision;
+* with ``signoff/trusted-keys.toml``: a listed key, in the name of its person, for a role the
+  list allows;
 * ``approved`` needs a current ``checked`` sign-off;
 * ``checked`` or ``approved`` with a NOT OK check needs a comment saying how it was resolved.
 * ``checked`` or ``approved`` is refused while a verdict rests on a hand estimate alone (a
   ``*.preliminary`` result, e.g. band coverage with no computed complete gap).
 
 Status: ``approved`` if a current approved and a current checked sign-off exist, ``checked`` if a
-current checked one does, else ``preliminary``.
+current checked one does, else ``preliminary``. A sign-off is current when it signed the
+current fingerprint, its signature (if any) is good, it keeps the rules above on separation and
+trust, and the chain of records is unbroken.
 """
 
 from __future__ import annotations
@@ -28,13 +39,16 @@ from pathlib import Path
 
 from latticecalc.errors import InputError, ProjectError
 from latticecalc.project.project import Project, open_project
+from latticecalc.project.signoff.display import check_problems
 from latticecalc.project.signoff.fingerprint import (
     ContentChanges,
     diff_content,
+    display_digest,
     fingerprint_content,
     fingerprint_of,
 )
-from latticecalc.project.signoff.journal import SIGNOFF_DIR, append_line, read_lines
+from latticecalc.project.signoff.identity import separation_problems
+from latticecalc.project.signoff.journal import SIGNOFF_DIR, append_line, head_of, head_problem, read_lines
 from latticecalc.project.signoff.keys import (
     chain_problems,
     check_signature,
@@ -43,7 +57,8 @@ from latticecalc.project.signoff.keys import (
     sign_bytes,
     signed_message,
 )
-from latticecalc.project.signoff.review import load_comments
+from latticecalc.project.signoff.review import load_comments, review_path, review_problems
+from latticecalc.project.signoff.trust import TrustList, project_trust
 from latticecalc.project.state import EXECUTED_DIR, stale_files
 
 SIGNATURES_FILE = "signatures.jsonl"
@@ -85,11 +100,12 @@ class SignoffState:
     void: bool
     changes: ContentChanges | None
     signature_problem: str = ""
+    rule_problem: str = ""
 
     @property
     def valid(self) -> bool:
-        """Current and (if signed with a key) correctly signed."""
-        return not self.void and not self.signature_problem
+        """Current, (if signed with a key) correctly signed, and within the rules on who signs."""
+        return not self.void and not self.signature_problem and not self.rule_problem
 
     @property
     def reason(self) -> str:
@@ -98,18 +114,47 @@ class SignoffState:
             return f"signature invalid: {self.signature_problem}"
         if self.void:
             return self.changes.describe(max_items=8) if self.changes else "fingerprint differs"
-        return ""
+        return self.rule_problem
 
 
-def judge(records: list[dict], fingerprint: str, content: dict) -> list[SignoffState]:
-    """Each record: void when its fingerprint differs from ``fingerprint`` (with what changed)."""
+def rule_problems(records: list[dict], content: dict, trust: TrustList | None = None) -> dict[int, str]:
+    """Record index -> why it breaks the separation of roles or the trust list (see the module doc)."""
+    prepared_by = str(content.get("project", {}).get("prepared_by", ""))
+    problems = separation_problems(records, prepared_by=prepared_by,
+                                   person_of=trust.person_of if trust is not None else None)
+    if trust is not None:
+        for i, rec in enumerate(records):
+            why = trust.problem(rec)
+            if why and i not in problems:
+                problems[i] = f"not trusted: {why}"
+    return problems
+
+
+def judge(records: list[dict], fingerprint: str, content: dict, *, trust: TrustList | None = None
+          ) -> list[SignoffState]:
+    """Each record: void when its fingerprint differs from ``fingerprint`` (with what changed).
+
+    A record is also invalid when its signature does not verify, or it breaks the separation of
+    roles or (with ``trust``, the project's trust list) is not signed by a key listed for it.
+    """
+    rules = rule_problems(records, content, trust)
     states = []
-    for rec in records:
+    for i, rec in enumerate(records):
         void = rec.get("fingerprint") != fingerprint
         changes = diff_content(rec.get("content", {}), content) if void else None
         problem = check_signature(rec["signature"], signed_message(rec)) if rec.get("signature") else ""
-        states.append(SignoffState(record=rec, void=void, changes=changes, signature_problem=problem))
+        states.append(SignoffState(record=rec, void=void, changes=changes, signature_problem=problem,
+                                   rule_problem=rules.get(i, "")))
     return states
+
+
+def status_from_roles(roles: set) -> str:
+    """``approved`` with current checked and approved sign-offs, ``checked`` with a checked one, else preliminary."""
+    if "checked" in roles and "approved" in roles:
+        return "approved"
+    if "checked" in roles:
+        return "checked"
+    return "preliminary"
 
 
 def status_of(states: list[SignoffState]) -> str:
@@ -119,12 +164,7 @@ def status_of(states: list[SignoffState]) -> str:
     """
     if chain_problems([s.record for s in states]):
         return "preliminary"
-    roles = {s.record.get("role") for s in states if s.valid}
-    if "checked" in roles and "approved" in roles:
-        return "approved"
-    if "checked" in roles:
-        return "checked"
-    return "preliminary"
+    return status_from_roles({s.record.get("role") for s in states if s.valid})
 
 
 def load_records(project: Project) -> list[dict]:
@@ -179,22 +219,36 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     private = load_private_key(key) if key is not None else None
     project = open_project(folder)
     fingerprint, content = current_fingerprint(project)
+    edited = check_problems(content)
+    if edited:
+        raise ProjectError(edited[0] + "; the executed notebooks were edited after the run",
+                           input_name=str(project.folder), hint="Run the project again ('latticecalc run DIR')")
     records = load_records(project)
-    broken = chain_problems(records)
+    path = signatures_path(project)
+    broken = chain_problems(records) + [p for p in [head_problem(path, records, what="sign-off")] if p]
     if broken:
-        raise ProjectError(broken[0], input_name=str(signatures_path(project)),
+        raise ProjectError(broken[0], input_name=str(project.folder),
                            hint="Sign-off records are append-only: restore the file from version control")
-    states = judge(records, fingerprint, content)
+    review_broken = review_problems(project, signoffs=records)
+    if review_broken:
+        raise ProjectError(review_broken[0], input_name=str(project.folder),
+                           hint="Review events are append-only: restore the file from version control")
+    trust = project_trust(project.folder)
+    states = judge(records, fingerprint, content, trust=trust)
     current = [s for s in states if s.valid]
     if role == "checked":
         open_ids = [c.id for c in load_comments(project) if c.status == "open"]
         if open_ids:
             raise ProjectError("cannot be marked checked while review comments are open: " + ", ".join(open_ids),
                                input_name=str(project.folder), hint="Reply to and close them first")
-        preparers = {s.record["name"].casefold() for s in current if s.record.get("role") == "prepared"}
-        preparers.add(project.meta.prepared_by.casefold())
-        if name.casefold() in preparers:
-            raise ProjectError("the checker must not be the preparer", input_name="--name", got=repr(name))
+    probe = {"seq": len(records) + 1, "role": role, "name": name, "calc_id": project.meta.calc_id,
+             "revision": project.meta.revision, "signature": sign_bytes(private, b"") if private else None}
+    if trust is not None and private is None:
+        raise ProjectError(f"needs a key: the project lists who may sign in {trust.where}",
+                           input_name="--key", hint="Sign with --key KEYFILE")
+    why = rule_problems([*records, probe], content, trust).get(len(records), "")
+    if why:
+        raise ProjectError(why, input_name="--name" if why.startswith("the checker") else "--key", got=repr(name))
     if role == "approved" and not any(s.record.get("role") == "checked" for s in current):
         raise ProjectError("cannot be approved before a current 'checked' sign-off exists",
                            input_name=str(project.folder))
@@ -207,9 +261,11 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     if role in ("checked", "approved") and failing and not comment:
         raise InputError("checks are NOT OK (" + ", ".join(failing) + "): say in a comment how this was resolved",
                          input_name="--comment")
+    status = status_from_roles({s.record.get("role") for s in current} | {role})
     record = {"role": role, "name": name, "time": datetime.now(UTC).isoformat(timespec="seconds"),
               "fingerprint": fingerprint, "comment": comment, "calc_id": project.meta.calc_id,
-              "revision": project.meta.revision, "content": content}
+              "revision": project.meta.revision, "document": display_digest(content), "status": status,
+              "review": head_of(read_lines(review_path(project))), "content": content}
 
     def complete(existing: list[dict], rec: dict) -> dict:
         rec = rec | {"seq": len(existing) + 1, "previous": record_link(existing[-1]) if existing else ""}
@@ -220,5 +276,5 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     return append_line(signatures_path(project), record, prepare=complete)
 
 
-__all__ = ["ROLES", "SignoffState", "current_fingerprint", "judge", "load_records", "sign_project",
-           "signed_message", "status_of"]
+__all__ = ["ROLES", "SignoffState", "current_fingerprint", "judge", "load_records", "rule_problems", "sign_project",
+           "signed_message", "status_from_roles", "status_of"]

@@ -4,6 +4,12 @@ Each line is one event: ``add`` (id ``R<n>``, step, author, text, time), ``reply
 (comment id, author, text, time). The state of a comment is the replay of its events; nothing is
 ever edited or removed. A comment is made against a step id that exists in the project's last
 exported package JSON (a result or check id, or an input name).
+
+Events are chained like sign-off records: each holds ``seq`` and ``previous`` (the hash of the
+event before it), and every append records the file's head in ``signoff/heads.json``; each
+sign-off also records the review head its signer saw. :func:`review_problems` names an event
+removed, altered or cut from the end (an emptied file included); ``sign`` and every review
+command refuse until the file is restored.
 """
 
 from __future__ import annotations
@@ -15,7 +21,15 @@ from pathlib import Path
 
 from latticecalc.errors import InputError, ProjectError
 from latticecalc.project.project import Project, open_project
-from latticecalc.project.signoff.journal import SIGNOFF_DIR, append_line, read_lines
+from latticecalc.project.signoff.journal import (
+    SIGNOFF_DIR,
+    append_line,
+    chain_breaks,
+    head_problem,
+    label,
+    read_lines,
+    record_link,
+)
 
 REVIEW_FILE = "review.jsonl"
 MAX_TEXT = 4000
@@ -81,6 +95,50 @@ def replay(events: list[dict], *, file: str = REVIEW_FILE) -> list[ReviewComment
     return list(comments.values())
 
 
+def event_chain_problems(events: list[dict], *, file: str = REVIEW_FILE) -> list[str]:
+    """Where the chain of review events is broken (an event removed, reordered or altered)."""
+    return [f"{file}: review event {events[i].get('seq')} ({events[i].get('event')} {events[i].get('id')}): the "
+            "event before it is missing or was altered (the chain of review events is broken)"
+            for i in chain_breaks(events)]
+
+
+def review_problems(project: Project, *, signoffs: list[dict] | None = None) -> list[str]:
+    """Why the project's review file cannot be trusted: chain broken, or cut short of a recorded head.
+
+    ``signoffs`` (the sign-off records) each hold the review head their signer saw: the file must
+    still reach every one of them.
+    """
+    path = review_path(project)
+    events = read_lines(path)
+    problems = event_chain_problems(events, file=label(path))
+    head = head_problem(path, events, what="review event")
+    if head:
+        problems.append(head)
+    for rec in signoffs or []:
+        seen = rec.get("review")
+        if not isinstance(seen, dict):
+            continue
+        count, link = seen.get("count", 0), seen.get("link", "")
+        if not isinstance(count, int) or count > len(events) or (count and record_link(events[count - 1]) != link):
+            problems.append(f"{label(path)}: sign-off {rec.get('seq')} saw {count} review event(s) but the file holds "
+                            f"{len(events)} that do not include them: it was truncated or edited")
+    return problems
+
+
+def _refuse_if_broken(project: Project, events: list[dict]) -> None:
+    path = review_path(project)
+    broken = event_chain_problems(events, file=label(path))
+    head = head_problem(path, events, what="review event")
+    problems = broken + ([head] if head else [])
+    if problems:
+        raise ProjectError(problems[0], input_name=str(project.folder),
+                           hint="Review events are append-only: restore the file from version control")
+
+
+def _chain(existing: list[dict], rec: dict) -> dict:
+    return rec | {"seq": len(existing) + 1, "previous": record_link(existing[-1]) if existing else ""}
+
+
 def load_comments(project: Project) -> list[ReviewComment]:
     """The project's review comments (empty if none were made)."""
     path = review_path(project)
@@ -109,8 +167,9 @@ def add_comment(folder: str | Path, *, step: str, author: str, text: str) -> Rev
               "time": _now()}
 
     def number(existing: list[dict], rec: dict) -> dict:
+        _refuse_if_broken(project, existing)
         n = sum(1 for e in existing if e.get("event") == "add") + 1
-        return rec | {"id": f"R{n}"}
+        return _chain(existing, rec | {"id": f"R{n}"})
 
     rec = append_line(review_path(project), record, prepare=number)
     return replay([rec])[0]
@@ -122,13 +181,14 @@ def _follow_up(folder: str | Path, kind: str, comment_id: str, author: str, text
               "text": _text(text, "--text") if (kind == "reply" or text) else "", "time": _now()}
 
     def check(existing: list[dict], rec: dict) -> dict:
+        _refuse_if_broken(project, existing)
         state = {c.id: c for c in replay(existing)}
         if comment_id not in state:
             raise InputError("no such review comment", input_name="comment", got=repr(comment_id),
                              expected="one of " + (", ".join(state) or "(none yet)"))
         if kind == "close" and state[comment_id].status == "closed":
             raise InputError("is closed already", input_name=comment_id)
-        return rec
+        return _chain(existing, rec)
 
     append_line(review_path(project), record, prepare=check)
     return {c.id: c for c in load_comments(project)}[comment_id]
@@ -150,4 +210,5 @@ def list_comments(folder: str | Path, *, include_closed: bool = True) -> list[Re
     return [c for c in comments if include_closed or c.status == "open"]
 
 
-__all__ = ["ReviewComment", "add_comment", "close_comment", "list_comments", "load_comments", "reply_comment"]
+__all__ = ["ReviewComment", "add_comment", "close_comment", "event_chain_problems", "list_comments", "load_comments",
+           "reply_comment", "review_problems"]

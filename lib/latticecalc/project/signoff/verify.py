@@ -7,22 +7,31 @@ What is checked, from the HTML file alone:
 2. every step and input shown on the page agrees with the fingerprinted content (the text of
    the element ``step-<id>`` equals the fingerprinted text of that step; ``input-<id>`` holds
    the input's value and unit);
-3. the document hash: SHA-256 of the whole HTML with the embedded data left out equals the one
+3. the checks summary and the summary box, rebuilt from the fingerprinted checks and key
+   results, are the ones on the page, and every fingerprinted verdict follows from its demand
+   and limit (:mod:`~latticecalc.project.signoff.display`); each difference is named;
+4. the document hash: SHA-256 of the whole HTML with the embedded data left out equals the one
    sealed at export; if not, the blocks (elements with an ``id``) whose text changed are named
    with the words that differ;
-4. each sign-off's Ed25519 signature (when it has one) against the public key it carries, and
-   with ``keys`` against the trusted public keys in that folder (every current sign-off must
-   then be signed by one of them), and that no record is missing between them (each record
-   carries the hash of the one before);
-5. the status shown agrees with the current, valid sign-offs.
+5. each sign-off's Ed25519 signature (when it has one) against the public key it carries; that
+   no record is missing between them (each record carries the hash of the one before); that a
+   current sign-off signed this displayed document (``document``) and the status the sign-offs
+   up to it give (``status``); that the roles are kept apart (the checker is not the preparer
+   by name, one key and one person sign one role of a revision:
+   :mod:`~latticecalc.project.signoff.identity`); and with ``keys`` (a ``trusted-keys.toml``,
+   a folder or project holding one, or a folder of ``*.pub`` keys) that every current sign-off
+   is signed by a listed key, in the name of its person, for a role it may sign;
+6. the status shown, and each sign-off's state in the sign-off table (current or VOID), follow
+   from the valid sign-offs, and the title block names the current signer of each role.
 
-The document hash and fingerprints are plain hashes: without keys they show an accidental or
-careless edit; only a keyed signature shows who signed which content.
+The document hash and fingerprints are plain hashes anyone can recompute: without keys they
+show an accidental or careless edit; only a keyed signature shows who signed which content, and
+since it signs the fingerprint and the display digest, a page edited and resealed no longer
+matches what was signed.
 """
 
 from __future__ import annotations
 
-import difflib
 import hashlib
 import json
 import re
@@ -31,8 +40,11 @@ from html.parser import HTMLParser
 from pathlib import Path
 
 from latticecalc.errors import InputError
-from latticecalc.project.signoff.fingerprint import fingerprint_of
-from latticecalc.project.signoff.keys import chain_problems, check_signature, load_public_keys, signed_message
+from latticecalc.project.signoff.display import check_problems, display_problems, signoff_states, word_diff
+from latticecalc.project.signoff.fingerprint import display_digest, fingerprint_of
+from latticecalc.project.signoff.identity import separation_problems
+from latticecalc.project.signoff.keys import chain_problems, check_signature, signed_message
+from latticecalc.project.signoff.trust import load_trust
 
 EMBED_FORMAT = "latticecalc-signoff/1"
 SEAL_PLACEHOLDER = "@@latticecalc-seal@@"
@@ -127,14 +139,6 @@ def _has(text: str, needle: str) -> bool:
     return bool(needle) and re.search(r"(?<!\S)" + re.escape(needle) + r"(?!\S)", text) is not None
 
 
-def _word_diff(old: str, new: str) -> str:
-    a, b = old.split(), new.split()
-    for op, i1, i2, j1, j2 in difflib.SequenceMatcher(a=a, b=b, autojunk=False).get_opcodes():
-        if op != "equal":
-            return f"'{' '.join(a[i1:i2])[:60]}' became '{' '.join(b[j1:j2])[:60]}'"
-    return "text differs"
-
-
 def read_embedded(html: str) -> dict:
     """The package's embedded sign-off data (``{}`` if there is none)."""
     m = _SCRIPT.search(html)
@@ -156,7 +160,7 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
         raise InputError("package file not found", input_name="PACKAGE", got=str(path)) from None
     except UnicodeDecodeError:
         raise InputError("not a UTF-8 HTML file", input_name="PACKAGE", got=str(path)) from None
-    trusted = load_public_keys(keys) if keys is not None else None
+    trust = load_trust(keys) if keys is not None else None
     report = VerifyReport(path=path)
     bad = report.problems
     data = read_embedded(html)
@@ -164,6 +168,8 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
         bad.append("package: no embedded sign-off data (" + data.get("_error", "not a latticecalc package") + ")")
         return report
     content, stated = data.get("fingerprint_content", {}), data.get("fingerprint", "")
+    if not isinstance(content, dict):
+        content = {}
     fp = fingerprint_of(content)
     if fp != stated:
         bad.append(f"fingerprint: the embedded content hashes to {fp[:16]}… but the package states {stated[:16]}…")
@@ -176,11 +182,18 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
         if shown is None:
             bad.append(f"step {step}: not shown in the package")
         elif shown != text:
-            bad.append(f"step {step}: the page differs from the fingerprinted content: {_word_diff(text, shown)}")
+            bad.append(f"step {step}: the page differs from the fingerprinted content: {word_diff(text, shown)}")
     for name, text in content.get("inputs_shown", {}).items():
         shown = blocks.get(f"input-{name}")
         if shown is None or not _has(shown, text):
             bad.append(f"input {name}: the inputs table does not show the fingerprinted value '{text}'")
+    bare = _SCRIPT.sub(r"\1\3", html)
+    if "checks" in content or "summary" in content:
+        bad.extend(check_problems(content))
+        bad.extend(display_problems(content, bare))
+    else:
+        report.notes.append("the fingerprinted content predates checks and summary in it: the checks summary and "
+                            "summary box are covered by the document hash only")
     seal = data.get("seal") if isinstance(data.get("seal"), dict) else {}
     if document_hash(html) != seal.get("document_sha256"):
         sealed = seal.get("blocks", {})
@@ -196,41 +209,85 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
             elif k not in blocks:
                 bad.append(f"document: block '{k}' was removed")
             else:
-                bad.append(f"document: block '{k}': {_word_diff(sealed[k], blocks[k])}")
-    valid_roles = set()
-    broken = chain_problems(data.get("signoffs", []))
+                bad.append(f"document: block '{k}': {word_diff(sealed[k], blocks[k])}")
+    _check_signoffs(report, data, content, stated, blocks, signoff_states(bare), trust, keys)
+    return report
+
+
+def _status(roles: set) -> str:
+    return "approved" if {"checked", "approved"} <= roles else "checked" if "checked" in roles else "preliminary"
+
+
+def _check_signoffs(report: VerifyReport, data: dict, content: dict, stated: str, blocks: dict[str, str],
+                    states: dict[str, str], trust, keys) -> None:
+    """Signatures, chain, separation of roles, trust, what each sign-off signed, and the status shown."""
+    bad = report.problems
+    title = blocks.get("title-block", "")
+    records = [r for r in data.get("signoffs", []) if isinstance(r, dict)]
+    broken = chain_problems(records)
     bad.extend(broken)
-    for rec in data.get("signoffs", []):
+    meta = content.get("project")
+    prepared_by = str(meta.get("prepared_by", "")) if isinstance(meta, dict) else ""
+    rules = separation_problems(records, prepared_by=prepared_by)
+    persons = (separation_problems(records, prepared_by=prepared_by, person_of=trust.person_of)
+               if trust is not None and trust.bound else {})
+    digest = display_digest(content)
+    valid_roles: set = set()
+    latest_valid: dict[str, dict] = {}
+    for i, rec in enumerate(records):
         who = f"sign-off {rec.get('seq')} ({rec.get('role')}, {rec.get('name')})"
         void = rec.get("fingerprint") != stated
         sig = rec.get("signature")
-        ok = True
+        ok = True  # counts towards the status, as the package itself judged it
         if sig:
             problem = check_signature(sig, signed_message(rec))
             if problem:
                 bad.append(f"{who}: {problem}")
                 ok = False
-            elif trusted is not None and sig.get("key_id") not in trusted:
-                bad.append(f"{who}: signed with key {sig.get('key_id')}, which is not among the trusted keys in {keys}")
-                ok = False
-        elif trusted is not None and not void:
-            bad.append(f"{who}: not signed with a key, so it cannot be checked against the trusted keys")
+        if i in rules:
+            bad.append(f"{who}: {rules[i]}")
             ok = False
-        elif not void:
+        if trust is not None and not void:  # who may sign: reported, the package's own status aside
+            why = trust.problem(rec) or (persons.get(i, "") if i not in rules else "")
+            if why:
+                bad.append(f"{who}: {why}")
+        elif not sig and not void:
             report.notes.append(f"{who}: no keyed signature (content hash only)")
         if void:
             report.notes.append(f"{who}: VOID, it signed fingerprint {str(rec.get('fingerprint'))[:16]}…")
-        elif ok:
+            ok = False
+        elif "document" in rec and rec.get("document") != digest:
+            bad.append(f"{who}: it signed a displayed document (checks, summary, steps, inputs) that differs from "
+                       "this package's")
+            ok = False
+        state = rec.get("state", "current")
+        if ok and state != "current":  # e.g. the project's trust list does not list its key
+            report.notes.append(f"{who}: the package does not count it: {state}")
+            ok = False
+        if ok:
             valid_roles.add(rec.get("role"))
+            latest_valid[str(rec.get("role"))] = rec
+            claimed = rec.get("status")
+            if claimed is not None and claimed != _status(valid_roles):
+                bad.append(f"{who}: it signed the status '{claimed}' but the sign-offs up to it give "
+                           f"'{_status(valid_roles)}'")
+        shown = states.get(str(rec.get("seq")))
+        if shown is not None and shown != ("current" if ok else "VOID"):
+            bad.append(f"{who}: the sign-off table shows it as '{shown}' but its record makes it "
+                       f"{'current' if ok else 'VOID'}")
     if broken:  # a broken record chain cannot vouch for any sign-off
-        valid_roles = set()
-    status = ("approved" if {"checked", "approved"} <= valid_roles else
-              "checked" if "checked" in valid_roles else "preliminary")
+        valid_roles, latest_valid = set(), {}
+    for role, rec in latest_valid.items():
+        if " ".join(str(rec.get("name", "")).split()) not in title:
+            bad.append(f"title block: the current {role} sign-off is by {rec.get('name')}, which it does not show")
+    status = _status(valid_roles)
     if data.get("status") != status or not _has(title, status):
         bad.append(f"status: the package states '{data.get('status')}' but its valid sign-offs give '{status}'")
-    if trusted is None and any(r.get("signature") for r in data.get("signoffs", [])):
-        report.notes.append("signatures checked against the keys they carry; give --keys DIR to check who signed")
-    return report
+    if trust is None and any(r.get("signature") for r in records):
+        report.notes.append("signatures checked against the keys they carry; give --keys to check who signed")
+    elif trust is not None and not trust.bound:
+        report.notes.append(f"the keys in {keys} name no person or role: list them in a trusted-keys.toml "
+                            "('latticecalc trust') to check who may sign what")
 
 
 __all__ = ["SEAL_PLACEHOLDER", "VerifyReport", "block_texts", "document_hash", "seal_package", "verify_package"]

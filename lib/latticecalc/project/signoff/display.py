@@ -1,0 +1,311 @@
+"""What the reader sees: the checks summary and the summary box, fingerprinted and rebuilt.
+
+At export (and when signing) :func:`checks_content` and :func:`summary_content` put into the
+fingerprint content every check as recorded (id, description, demand and limit with their
+texts, sense, utilisation, verdict) and every summary box row (label, text, step, and how the
+row's text is made). ``verify`` then:
+
+* checks that each fingerprinted verdict follows from its demand and limit
+  (:func:`check_problems`: utilisation demand/limit for ``max``, limit/demand for ``min``,
+  OK when it is at most 1, as :class:`latticecalc.sheet.step.Check` decides);
+* rebuilds the rows of the checks summary and of the summary box from those checks and the key
+  results (:func:`expected_checks_rows`, :func:`expected_summary`) and compares them with the
+  fingerprinted rows and with the rows on the page (:func:`page_tables`), naming every row
+  that differs.
+
+Texts are compared as the page shows them: whitespace collapsed, character references decoded.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from html.parser import HTMLParser
+from typing import Any
+
+#: A utilisation this close to 1 is not re-judged (the fingerprint keeps 10 significant figures).
+UTILISATION_RTOL = 1e-8
+
+
+def _norm(text: Any) -> str:
+    return " ".join(str(text).split())
+
+
+def _float(value: Any) -> float:
+    try:
+        return float(value)
+    except (TypeError, ValueError):
+        return math.nan
+
+
+def _dicts(value: Any) -> list[dict]:
+    """The dicts of a list (the embedded content is read from a file anyone can edit)."""
+    return [v for v in value if isinstance(v, dict)] if isinstance(value, list) else []
+
+
+def utilisation_text(value: Any) -> str:
+    """The utilisation as the checks summary prints it (two decimals)."""
+    return f"{_float(value):.2f}"
+
+
+def checks_content(doc) -> list[dict]:
+    """Every check record of the sheet, in order, as the fingerprint content keeps it."""
+    out = []
+    for rec in doc.records("check"):
+        out.append({"id": rec["id"], "description": rec["description"], "sense": rec["sense"],
+                    "demand": rec["demand"].get("value"), "limit": rec["limit"].get("value"),
+                    "unit": rec["limit"].get("unit", ""), "demand_text": rec["demand_text"],
+                    "limit_text": rec["limit_text"], "utilisation": rec["utilisation"],
+                    "utilisation_text": utilisation_text(rec["utilisation"]), "ok": rec["ok"],
+                    "verdict": rec["verdict"]})
+    return out
+
+
+def summary_content(project, doc) -> list[dict]:
+    """The summary boxes the package opens with: the template's, then those the notebooks show."""
+    from latticecalc.project.export.package import summary_record
+
+    boxes = []
+    template = summary_record(project, doc)
+    if template is not None:
+        rows = [dict(r) for r in template["rows"]]
+        has_checks = bool(doc.records("check"))
+        for n, r in enumerate(rows):
+            special = has_checks and n >= len(rows) - 2
+            r["rule"] = ("checks" if n == len(rows) - 2 else "governing") if special else "step"
+        boxes.append({"title": template["title"], "source": "template", "rows": rows})
+    for rec in doc.records("summary"):
+        rows = [dict(r) | {"rule": "step" if r.get("step") else "text"} for r in rec["rows"]]
+        boxes.append({"title": rec["title"], "source": "notebook", "rows": rows})
+    return boxes
+
+
+def _utilisation(check: dict) -> float:
+    """Utilisation from demand and limit, as :class:`latticecalc.sheet.step.Check` computes it."""
+    d, lim = _float(check.get("demand")), _float(check.get("limit"))
+    if check.get("sense") == "max":
+        return d / lim if lim != 0 else math.inf
+    if d > 0:
+        return lim / d
+    return 0.0 if lim <= d else math.inf
+
+
+def check_problems(content: dict) -> list[str]:
+    """Fingerprinted checks whose verdict does not follow from their own demand and limit."""
+    out = []
+    for c in _dicts(content.get("checks")):
+        u = _utilisation(c)
+        stated = _float(c.get("utilisation"))
+        why = ""
+        if math.isnan(u) or math.isnan(stated):
+            if not (math.isnan(u) and math.isnan(stated) and c.get("ok") is False):  # NaN <= 1 is False
+                why = "its demand, limit or utilisation is not a number"
+        elif not (u == stated or (math.isfinite(u) and math.isfinite(stated)
+                                  and math.isclose(u, stated, rel_tol=UTILISATION_RTOL, abs_tol=1e-12))):
+            why = f"the utilisation stated ({c.get('utilisation')}) is not demand and limit's ({u:.6g})"
+        elif abs(u - 1.0) > UTILISATION_RTOL and c.get("ok") is not (u <= 1.0):
+            why = f"utilisation {u:.3g} gives {'OK' if u <= 1.0 else 'NOT OK'}"
+        if not why and c.get("verdict") != ("OK" if c.get("ok") is True else "NOT OK"):
+            why = f"the verdict '{c.get('verdict')}' is not the one its result gives"
+        if why:
+            out.append(f"check {c.get('id')}: the verdict '{c.get('verdict')}' does not follow from its demand "
+                       f"and limit ({why})")
+    return out
+
+
+def expected_checks_rows(content: dict) -> list[tuple[str, list[str]]]:
+    """(check id, cells) of each row of the checks summary, rebuilt from the fingerprinted checks."""
+    rows = []
+    for c in _dicts(content.get("checks")):
+        rel = "≤" if c.get("sense") == "max" else "≥"
+        rows.append((str(c.get("id")), [_norm(c.get("id")), _norm(c.get("description")),
+                                        _norm(f"{c.get('demand_text')} {rel} {c.get('limit_text')}"),
+                                        _norm(c.get("utilisation_text")), _norm(c.get("verdict"))]))
+    return rows
+
+
+def _row_text(row: dict, results: dict[str, dict], checks: dict[str, dict]) -> str | None:
+    rule = row.get("rule")
+    if rule == "checks":
+        failing = sum(not c.get("ok") for c in checks.values())
+        return f"{len(checks) - failing} OK, {failing} NOT OK"
+    if rule == "governing":
+        if not checks:
+            return None
+        worst = max(checks.values(), key=lambda c: _float(c.get("utilisation")))
+        return f"{worst.get('description')}: utilisation {worst.get('utilisation_text')} ({worst.get('verdict')})"
+    if rule == "step":
+        r = results.get(row.get("step", ""))
+        if r is None:
+            return None
+        return str(r.get("text", "")) + (f" ({r['verdict']})" if "verdict" in r else "")
+    return None  # plain text a notebook showed: kept as fingerprinted
+
+
+def expected_summary(content: dict) -> list[dict]:
+    """The summary boxes with each row's text rebuilt from the checks and key results where it can be."""
+    results = {}
+    for r in _dicts(content.get("results")):
+        results.setdefault(str(r.get("id")), r)
+    checks: dict[str, dict] = {}
+    for c in _dicts(content.get("checks")):
+        checks[str(c.get("id"))] = c
+    boxes = []
+    for box in _dicts(content.get("summary")):
+        rows = []
+        for row in _dicts(box.get("rows")):
+            rebuilt = _row_text(row, results, checks)
+            rows.append(row | {"expected": _norm(rebuilt if rebuilt is not None else row.get("text", ""))})
+        boxes.append(box | {"rows": rows})
+    return boxes
+
+
+class _Tables(HTMLParser):
+    """Table rows: the checks summary, each summary box and the sign-off table (``tr#signoff-<seq>``)."""
+
+    def __init__(self) -> None:
+        super().__init__(convert_charrefs=True)
+        self.checks: list[list[str]] = []
+        self.boxes: list[list[list[str]]] = []
+        self.signoffs: dict[str, list[str]] = {}
+        self.row_id: str | None = None
+        self.stack: list[tuple[str, str | None]] = []  # (tag, region opened here)
+        self.row: list[str] | None = None
+        self.cell: list[str] | None = None
+        self.skip = 0
+
+    def _region(self) -> str | None:
+        return next((r for _, r in reversed(self.stack) if r is not None), None)
+
+    def handle_starttag(self, tag, attrs):
+        a = dict(attrs)
+        region = None
+        if tag == "section" and a.get("id") == "checks":
+            region = "checks"
+        elif tag == "div" and "lc-summary" in (a.get("class") or "").split():
+            region = "summary"
+            self.boxes.append([])
+        if tag in ("br", "img", "hr", "meta", "link", "input", "wbr"):
+            return
+        self.stack.append((tag, region))
+        if tag in ("script", "style", "title"):
+            self.skip += 1
+        if tag == "tr" and (a.get("id") or "").startswith("signoff-"):
+            self.row, self.row_id = [], a["id"][len("signoff-"):]
+        elif self._region() is None or any(t == "thead" for t, _ in self.stack):
+            pass
+        elif tag == "tr":
+            self.row, self.row_id = [], None
+        if tag in ("td", "th") and self.row is not None:
+            self.cell = []
+
+    def handle_endtag(self, tag):
+        for k in range(len(self.stack) - 1, -1, -1):
+            if self.stack[k][0] != tag:
+                continue
+            self.skip -= sum(1 for t, _ in self.stack[k:] if t in ("script", "style", "title"))
+            where = self._region()
+            if tag in ("td", "th") and self.cell is not None and self.row is not None:
+                self.row.append(_norm(" ".join(self.cell)))
+                self.cell = None
+            elif tag == "tr" and self.row is not None:
+                if self.row_id is not None:
+                    self.signoffs[self.row_id] = self.row
+                elif where == "checks":
+                    self.checks.append(self.row)
+                elif where == "summary" and self.boxes:
+                    self.boxes[-1].append(self.row)
+                self.row = None
+            del self.stack[k:]
+            return
+
+    def handle_data(self, data):
+        if not self.skip and self.cell is not None:
+            self.cell.append(data)
+
+
+def _parse(html: str) -> _Tables:
+    p = _Tables()
+    p.feed(html)
+    p.close()
+    return p
+
+
+def page_tables(html: str) -> tuple[list[list[str]], list[list[list[str]]]]:
+    """The checks summary rows (cells) and the summary boxes (rows of label, text, step) on the page."""
+    p = _parse(html)
+    return p.checks, p.boxes
+
+
+def signoff_states(html: str) -> dict[str, str]:
+    """Sign-off seq -> the state the sign-off table shows for it (``current`` or ``VOID``)."""
+    out = {}
+    for seq, cells in _parse(html).signoffs.items():
+        state = cells[6] if len(cells) > 6 else ""
+        out[seq] = "current" if state == "current" else "VOID" if state.startswith("VOID") else state
+    return out
+
+
+def word_diff(old: str, new: str) -> str:
+    """The first run of words that differs: ``'57.76' became '57.70'``."""
+    a, b = old.split(), new.split()
+    for op, i1, i2, j1, j2 in difflib.SequenceMatcher(a=a, b=b, autojunk=False).get_opcodes():
+        if op != "equal":
+            return f"'{' '.join(a[i1:i2])[:60]}' became '{' '.join(b[j1:j2])[:60]}'"
+    return "text differs"
+
+
+def _diff(shown: str, expected: str) -> str:
+    change = f"'{expected}' became '{shown}'" if max(len(shown), len(expected)) <= 40 else word_diff(expected, shown)
+    return f"the page differs from the fingerprinted content: {change}"
+
+
+def display_problems(content: dict, html: str) -> list[str]:
+    """Rows of the checks summary and summary box that differ from what the fingerprinted content gives.
+
+    ``html`` is the package without its embedded data.
+    """
+    out = []
+    page_checks, page_boxes = page_tables(html)
+    expected = expected_checks_rows(content)
+    labels = ("step", "check", "demand and limit", "utilisation", "verdict")
+    for n, (cid, cells) in enumerate(expected):
+        if n >= len(page_checks):
+            out.append(f"checks summary: {cid}: missing from the page")
+            continue
+        shown = page_checks[n]
+        for label, want, got in zip(labels, cells, shown + [""] * (len(cells) - len(shown))):
+            if want != got:
+                out.append(f"checks summary: {cid}: {label}: {_diff(got, want)}")
+    for extra in page_checks[len(expected):]:
+        out.append(f"checks summary: a row not in the fingerprinted content: '{' '.join(extra)[:80]}'")
+    boxes = expected_summary(content)
+    for n, box in enumerate(boxes):
+        shown_rows = page_boxes[n] if n < len(page_boxes) else []
+        if n >= len(page_boxes):
+            out.append(f"summary box {n + 1}: missing from the page")
+            continue
+        for m, row in enumerate(box["rows"]):
+            label = row.get("label", "")
+            if _norm(row.get("text", "")) != row["expected"]:
+                out.append(f"summary box: '{label}': the fingerprinted text '{_norm(row.get('text'))[:80]}' is not "
+                           f"the one its checks and results give ('{row['expected'][:80]}')")
+            if m >= len(shown_rows):
+                out.append(f"summary box: '{label}': missing from the page")
+                continue
+            cells = shown_rows[m] + ["", "", ""]
+            if cells[0] != _norm(label):
+                out.append(f"summary box: '{label}': label: {_diff(cells[0], _norm(label))}")
+            if cells[1] != row["expected"]:
+                out.append(f"summary box: '{label}': {_diff(cells[1], row['expected'])}")
+            if cells[2] != _norm(row.get("step", "")):
+                out.append(f"summary box: '{label}': step: {_diff(cells[2], _norm(row.get('step', '')))}")
+        for extra in shown_rows[len(box["rows"]):]:
+            out.append(f"summary box: a row not in the fingerprinted content: '{' '.join(extra)[:80]}'")
+    for n in range(len(boxes), len(page_boxes)):
+        out.append(f"summary box {n + 1}: not in the fingerprinted content")
+    return out
+
+
+__all__ = ["check_problems", "checks_content", "display_problems", "expected_checks_rows", "expected_summary",
+           "page_tables", "signoff_states", "summary_content", "utilisation_text", "word_diff"]

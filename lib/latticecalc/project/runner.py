@@ -49,7 +49,7 @@ from latticecalc.errors import (
 )
 from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.project import Project, open_project
-from latticecalc.project.state import EXECUTED_DIR, RUN_RECORD, current_state
+from latticecalc.project.state import EXECUTED_DIR, RUN_RECORD, current_state, executed_outputs
 
 Progress = Callable[[str], None]
 
@@ -384,7 +384,7 @@ def run_project(folder: str | Path, *, progress: Progress | None = _stderr, time
         raise NotebookError("inputs or notebooks changed while the run was going on; run again",
                             input_name=str(project.folder))
     seconds = time.perf_counter() - start
-    record = {"state": state_before, "finished": datetime.now(UTC).isoformat(timespec="seconds"),
-              "latticecalc": __version__, "notebooks": [{"name": n, "seconds": round(t, 2)} for n, t in timings]}
+    record = {"state": state_before, "outputs": executed_outputs(project),
+              "finished": datetime.now(UTC).isoformat(timespec="seconds"), "latticecalc": __version__, "notebooks": [{"name": n, "seconds": round(t, 2)} for n, t in timings]}
     write_text_atomic(record_path, json.dumps(record, indent=2))
     return RunReport(project=project.folder, notebooks=tuple(timings), executed_dir=out, seconds=seconds)

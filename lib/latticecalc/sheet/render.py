@@ -54,7 +54,7 @@ def check_html(rec: dict, *, anchor: bool = True) -> str:
             f'<div class="lc-step-head"><span class="lc-step-id">{sid}</span> '
             f'{escape(rec["description"])}</div>'
             f'<div class="lc-check-line">{escape(rec["demand_text"])} {rel} '
-            f'{escape(rec["limit_text"])} · utilisation {rec["utilisation"]:.2f} · '
+            f'{escape(rec["limit_text"])} · utilisation {float(rec["utilisation"]):.2f} · '
             f'<strong class="lc-verdict">{escape(rec["verdict"])}</strong></div>'
             + _source_html(rec.get("source"))
             + (f'<div class="lc-note">{escape(rec["note"])}</div>' if rec.get("note") else "")

@@ -155,8 +155,7 @@ def test_edited_executed_outputs_make_the_project_stale(project):
 
 def test_the_run_itself_records_the_executed_outputs(project):
     record = json.loads((project / "out" / RUN_RECORD).read_text(encoding="utf-8"))
-    if "outputs" not in record:
-        pytest.xfail("runner.py does not yet write state.executed_outputs() into the run record")
+    assert "outputs" in record
     _flip_coverage_verdicts(project)
     assert "out/executed/70_coverage.ipynb" in stale_files(open_project(project))
 

@@ -122,7 +122,7 @@ def _checks_table(checks: list[dict]) -> str:
         cls = "lc-verdict-ok" if c["ok"] else "lc-verdict-notok"
         rows.append(f'<tr><td><a href="#step-{escape(c["id"])}">{escape(c["id"])}</a></td>'
                     f"<td>{escape(c['description'])}</td><td>{escape(c['demand_text'])} {rel} "
-                    f"{escape(c['limit_text'])}</td><td>{c['utilisation']:.2f}</td>"
+                    f"{escape(c['limit_text'])}</td><td>{float(c['utilisation']):.2f}</td>"
                     f'<td class="{cls}"><strong>{escape(c["verdict"])}</strong></td></tr>')
     return ('<table class="lc-checks"><thead><tr><th>Step</th><th>Check</th><th>Demand vs limit</th>'
             "<th>Utilisation</th><th>Result</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
@@ -138,6 +138,26 @@ def _comments_for(step_id: str, extras: PackageExtras) -> str:
                    + "".join(f"<br>↳ {escape(r.get('author', ''))}: {escape(r.get('text', ''))}"
                              for r in c.get("replies", [])) + "</div>")
     return "".join(out)
+
+
+def _to_confirm_html(checks: list[dict]) -> str:
+    """The recalled (``from memory``) sources the checks rely on: listed, and approval waits on them."""
+    from latticecalc.sources_register import blocks_approval, register_entries
+
+    blockers = blocks_approval(checks)
+    if not blockers:
+        return ('<p class="lc-to-confirm-none">Every source the checks rely on is a checked published source.'
+                "</p>")
+    items = []
+    for src in blockers:
+        entries = register_entries(src)
+        what = "; ".join(e.confirm_against or e.value for e in entries[:2])
+        items.append(f"<li>{escape(src.cite())}" + (f" <em>to confirm against: {escape(what)}</em>" if what else "")
+                     + "</li>")
+    return ('<div class="lc-to-confirm" id="to-confirm"><h3>Values to confirm before approval</h3><p>These checks '
+            "rely on values recalled from the sources below, not yet confirmed against the published document "
+            "(register of values to confirm). The package cannot be approved until they are confirmed.</p><ul>"
+            + "".join(items) + "</ul></div>")
 
 
 def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], references: list[dict],
@@ -167,7 +187,8 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
         body.append(record_html(s))
     body.append('<nav class="lc-contents"><h2>Contents</h2><ul>' + "".join(contents) + "</ul></nav>")
     body.append('<section class="lc-section" id="inputs"><h2>Inputs</h2>' + _inputs_table(inputs) + "</section>")
-    body.append('<section id="checks"><h2>Checks summary</h2>' + _checks_table(checks) + "</section>")
+    body.append('<section id="checks"><h2>Checks summary</h2>' + _checks_table(checks)
+                + _to_confirm_html(checks) + "</section>")
 
     fig_no = 0
     for sec in doc.sections:

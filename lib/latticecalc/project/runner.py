@@ -385,6 +385,7 @@ def run_project(folder: str | Path, *, progress: Progress | None = _stderr, time
                             input_name=str(project.folder))
     seconds = time.perf_counter() - start
     record = {"state": state_before, "outputs": executed_outputs(project),
-              "finished": datetime.now(UTC).isoformat(timespec="seconds"), "latticecalc": __version__, "notebooks": [{"name": n, "seconds": round(t, 2)} for n, t in timings]}
+              "finished": datetime.now(UTC).isoformat(timespec="seconds"), "latticecalc": __version__,
+              "notebooks": [{"name": n, "seconds": round(t, 2)} for n, t in timings]}
     write_text_atomic(record_path, json.dumps(record, indent=2))
     return RunReport(project=project.folder, notebooks=tuple(timings), executed_dir=out, seconds=seconds)

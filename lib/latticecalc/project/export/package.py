@@ -89,7 +89,8 @@ def summary_record(project: Project, doc: SheetDocument) -> dict | None:
         rows.append({"label": "Checks", "text": f"{len(checks) - failing} OK, {failing} NOT OK", "step": ""})
         worst = max(checks, key=lambda c: float(c["utilisation"]))
         rows.append({"label": "Governing check", "step": worst["id"],
-                     "text": f"{worst['description']}: utilisation {float(worst['utilisation']):.2f} ({worst['verdict']})"})
+                     "text": f"{worst['description']}: utilisation {float(worst['utilisation']):.2f} "
+                             f"({worst['verdict']})"})
     return {"kind": "summary", "title": "Summary", "rows": rows} if rows else None
 
 

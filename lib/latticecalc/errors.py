@@ -110,3 +110,65 @@ class RunInterruptedError(NotebookError):
     """
 
     signal_name: str | None = None
+
+
+# --- files ---------------------------------------------------------------------------------------
+# Raised by latticecalc.project.files (every file the kit reads) and latticecalc.project.atomic
+# (every file it writes).  Each names the input that gave the path (when there is one), the file
+# and, where known, the line; none quotes more of the file than a short, escaped excerpt of the
+# offending line of a text input, and none quotes a measured record.
+
+
+class FileError(InputError):
+    """A file the kit was given cannot be read as it stands (base of the file errors below)."""
+
+
+class MissingFileError(FileError):
+    """No file at the path (or a link to nothing)."""
+
+
+class FileReadError(FileError):
+    """The file is there but cannot be read (permission denied, input/output error)."""
+
+
+class FolderError(FileError):
+    """A folder was given where a file belongs."""
+
+
+class SpecialFileError(FileError):
+    """A FIFO, device or socket was given where a regular file belongs; it is refused before it is opened."""
+
+
+class FileTooLargeError(FileError):
+    """The file (or the array it holds) is larger than the cap of its kind; the message states the cap."""
+
+
+class FileEncodingError(FileError):
+    """A text file is not UTF-8 (UTF-16, Latin-1, Windows-1252, ...)."""
+
+
+class BinaryFileError(FileError):
+    """A text file holds binary content (a NUL byte)."""
+
+
+class DuplicateKeyError(FileError):
+    """A TOML key or table is given twice."""
+
+
+class FileFormatError(FileError):
+    """A TOML or JSON file is not valid TOML or JSON."""
+
+
+class SymlinkError(FileError):
+    """The kit would write at a path that is a symbolic link; nothing is written."""
+
+
+class FileWriteError(LatticeCalcError, OSError):
+    """Writing a file failed (disk full, permission denied, read-only file system).
+
+    Nothing is left half-written: the previous file, if any, is unchanged.  ``errno`` is the
+    operating system's error number (``errno.ENOSPC``, ``errno.EACCES``).
+    """
+
+    def __str__(self) -> str:
+        return self._compose()      # OSError would print "[Errno 28] ..." once errno is set

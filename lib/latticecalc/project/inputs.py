@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import os
 import re
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
@@ -19,8 +20,9 @@ import pint
 import tomlkit
 import tomlkit.exceptions
 
-from latticecalc.errors import InputError, LatticeCalcError
+from latticecalc.errors import FileFormatError, InputError, LatticeCalcError, MissingFileError
 from latticecalc.project.atomic import write_text_atomic
+from latticecalc.project.files import parse_toml, read_text
 from latticecalc.project.schema import InputSpec, TemplateSpec
 from latticecalc.units import format_number, format_quantity, parse, unit_text
 
@@ -170,19 +172,38 @@ def _is_value_table(val: Mapping) -> bool:
     return "value" in val and set(val) <= {"value", "source"}
 
 
-def read_document(path: Path) -> tomlkit.TOMLDocument:
-    """Parse ``inputs.toml`` keeping comments; a syntax error names the file and line."""
-    path = Path(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError("inputs file not found", input_name=INPUTS_FILE, file=str(path),
-                         hint="Every project folder has an inputs.toml; copy one with 'latticecalc new'") from None
+def _parse(text: str, *, file: str) -> tomlkit.TOMLDocument:
+    """Parse ``text`` keeping comments, after the standard parser has checked it.
+
+    The standard parser (:func:`latticecalc.project.files.parse_toml`) names a duplicate key or a
+    syntax error with its line.
+    """
+    parse_toml(text, file=file, what="the inputs file")
     try:
         return tomlkit.parse(text)
-    except tomlkit.exceptions.ParseError as exc:
-        raise InputError(f"not valid TOML ({exc})", input_name=INPUTS_FILE, file=path.name,
-                         line=getattr(exc, "line", None)) from None
+    except (tomlkit.exceptions.TOMLKitError, RecursionError) as exc:
+        reason = re.sub(r"\s*at line \d+ col \d+$", "", str(exc))[:80] or type(exc).__name__
+        raise FileFormatError(f"the inputs file is not valid TOML ({reason})", file=file,
+                              line=getattr(exc, "line", None)) from None
+
+
+def _read(path: Path) -> tuple[str, tomlkit.TOMLDocument]:
+    path = Path(path)
+    if not os.path.lexists(path):
+        raise MissingFileError("inputs file not found", input_name=INPUTS_FILE, file=str(path),
+                               hint="Every project folder has an inputs.toml; copy one with 'latticecalc new'")
+    text = read_text(path, kind="toml", what="the inputs file", file=path.name)
+    return text, _parse(text, file=path.name)
+
+
+def read_document(path: Path) -> tomlkit.TOMLDocument:
+    """Parse ``inputs.toml`` keeping comments; every failure names the file (and the line where known).
+
+    The file is read through :mod:`latticecalc.project.files`: a regular UTF-8 file of at most the
+    TOML cap (a byte-order mark is stripped); a duplicate key is a
+    :class:`~latticecalc.errors.DuplicateKeyError`, bad syntax a :class:`~latticecalc.errors.FileFormatError`.
+    """
+    return _read(path)[1]
 
 
 def _check_range(spec: InputSpec, q: Any, *, file: str, line: int | None) -> None:
@@ -268,10 +289,13 @@ def load_inputs(path: Path, template: TemplateSpec) -> Inputs:
         input, the file and the line.
     """
     path = Path(path)
-    doc = read_document(path)
-    text = path.read_text(encoding="utf-8")
+    text, doc = _read(path)
+    return _validate(text, doc, template, file=path.name)
+
+
+def _validate(text: str, doc: tomlkit.TOMLDocument, template: TemplateSpec, *, file: str) -> Inputs:
     lines = key_lines(text)
-    fname = path.name
+    fname = file
     tables = tuple(s.name for s in template.inputs if s.kind == "table")
     flat = _flatten(doc, tables=tables)
     declared = {s.name: s for s in template.inputs}
@@ -315,7 +339,7 @@ def set_values(path: Path, template: TemplateSpec, changes: Mapping[str, Any]) -
     The file is replaced atomically only if the whole result validates.
     """
     path = Path(path)
-    doc = read_document(path)
+    _, doc = _read(path)
     for name, new in changes.items():
         spec = template.spec(name)
         validate_value(spec, new, file=path.name, line=None)
@@ -331,11 +355,6 @@ def set_values(path: Path, template: TemplateSpec, changes: Mapping[str, Any]) -
         else:
             node[parts[-1]] = new
     text = tomlkit.dumps(doc)
-    tmp = path.with_name(path.name + ".check")
-    try:
-        tmp.write_text(text, encoding="utf-8")
-        load_inputs(tmp, template)
-    finally:
-        tmp.unlink(missing_ok=True)
-    write_text_atomic(path, text)
+    _validate(text, _parse(text, file=path.name), template, file=path.name)   # checked before anything is written
+    write_text_atomic(path, text, input_name=INPUTS_FILE)
     return load_inputs(path, template)

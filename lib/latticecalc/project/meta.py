@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
+import os
 import re
-import tomllib
 import unicodedata
 from dataclasses import dataclass
 from pathlib import Path
 
-from latticecalc.errors import InputError
+from latticecalc.errors import InputError, MissingFileError
+from latticecalc.project.files import read_toml
 
 PROJECT_FILE = "project.toml"
 _SAFE_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
@@ -67,22 +68,29 @@ def load_meta(path: Path) -> ProjectMeta:
 
     Calc id and revision must be safe in a file name; no text field may hold a control character.
 
+    The file is read through :mod:`latticecalc.project.files` (a regular UTF-8 file within the TOML
+    cap, a byte-order mark stripped).
+
     Raises
     ------
     InputError
-        If the file is missing, not TOML, or a required field is missing or empty.
+        If a required field is missing or empty.
+    FileError
+        If the file is missing, a folder or special file, too large, not UTF-8, binary, or not valid
+        TOML (a :class:`~latticecalc.errors.DuplicateKeyError` for a key or table given twice).
     ControlCharacterError
         If a text field holds a newline, tab, other C0/C1 control or a bidirectional control.
     """
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError:
-        raise InputError("project file not found", input_name=PROJECT_FILE, file=str(path)) from None
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"not valid TOML ({exc})", input_name=PROJECT_FILE, file=path.name) from None
+    if not os.path.lexists(path):
+        raise MissingFileError("project file not found", input_name=PROJECT_FILE, file=str(path))
+    _, data = read_toml(path, what="the project file", file=path.name)
     proj = data.get("project", {})
     calc = data.get("calc", {})
+    for key, table in (("project", proj), ("calc", calc)):
+        if not isinstance(table, dict):
+            raise InputError("not a table", input_name=key, file=path.name, expected=f"a [{key}] table",
+                             got=type(table).__name__)
     fields = {"project.name": proj.get("name"), "project.number": proj.get("number"),
               "calc.id": calc.get("id"), "calc.title": calc.get("title"),
               "calc.revision": calc.get("revision"), "calc.prepared_by": calc.get("prepared_by")}

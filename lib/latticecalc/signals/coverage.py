@@ -28,12 +28,14 @@ table gives each uncertainty alone, so the governing one is named.
 from __future__ import annotations
 
 import json
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import cache
 from pathlib import Path
 
 import numpy as np
+import pint
 import sympy as sp
 
 from latticecalc.errors import InputError, RecordError
@@ -141,6 +143,61 @@ def band_coverage(*, lower, upper, peaks, scatter_low: float = 1.0, scatter_high
                     title="Band coverage of the measured peaks")
 
 
+_SURVEY_INPUT = "coverage.survey_results"
+#: Most values one result row of an export may hold.
+MAX_EXPORT_VALUES = 100_000
+
+
+def _survey_export(path) -> tuple[dict, dict]:
+    """``(data, rows by id)`` of a site-survey export, read through :mod:`latticecalc.project.files`."""
+    from latticecalc.project.files import read_json
+
+    p = Path(path)
+    data = read_json(p, what="the survey export", input_name=_SURVEY_INPUT, file=str(p))
+    results = data.get("results") if isinstance(data, dict) else None
+    if not isinstance(results, list):
+        raise RecordError("not a calc package JSON", input_name=_SURVEY_INPUT, file=str(p),
+                          expected="the JSON written by 'latticecalc export' for a site-survey project "
+                          "(a 'results' list)", got="no 'results' list")
+    return data, {r.get("id"): r for r in results if isinstance(r, dict)}
+
+
+def _survey_values(rows: dict, key: str, *, unit: str | None, default_unit: str = "", file: str):
+    """The values of result ``key`` as a 1-D Quantity in ``unit``, or RecordError naming the step and file.
+
+    With ``unit`` None: a float array (the row's unit ignored).
+    """
+    from latticecalc.project.files import excerpt
+
+    row = rows[key]
+    value, text = row.get("value"), row.get("unit") or default_unit
+    items = value if isinstance(value, list) else [value]
+    if len(items) > MAX_EXPORT_VALUES:
+        raise RecordError(f"step {key} has too many values", input_name=_SURVEY_INPUT, file=file,
+                          expected=f"at most {MAX_EXPORT_VALUES}", got=str(len(items)))
+    for v in items:
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+            if isinstance(v, str):
+                got = f"text {excerpt(v, limit=30)}"
+            elif isinstance(v, float):
+                got = repr(v)                    # NaN or infinity
+            else:
+                got = "nothing" if v is None else f"a {type(v).__name__}"
+            raise RecordError(f"the values of step {key} are not numbers", input_name=_SURVEY_INPUT, file=file,
+                              expected="a finite number or a list of them", got=got)
+    numbers = np.atleast_1d(np.asarray(items, dtype=float))
+    if unit is None:
+        return numbers
+    if not isinstance(text, str) or len(text) > 40:
+        raise RecordError(f"the unit of step {key} is not a unit", input_name=_SURVEY_INPUT, file=file,
+                          expected=f"a unit convertible to {unit}", got=f"a {type(text).__name__}")
+    try:
+        return Q_(numbers, text.replace("µ", "u")).to(unit)
+    except (pint.errors.PintError, ValueError, TypeError, AttributeError, SyntaxError):
+        raise RecordError(f"the unit of step {key} does not fit", input_name=_SURVEY_INPUT, file=file,
+                          expected=f"a unit convertible to {unit}", got=excerpt(text, limit=40)) from None
+
+
 def survey_from_export(path) -> dict:
     """Target peaks (and the max-hold band spectrum, when present) from a site-survey export JSON.
 
@@ -148,26 +205,20 @@ def survey_from_export(path) -> dict:
     ``site-survey`` project: ``peaks.target-frequencies`` (Hz), and if shown there
     ``bands.midband`` with ``maxhold.velocity-rms``.  Returns a dict with ``targets`` [Hz] and
     optionally ``centre`` [Hz] and ``velocity_rms`` [m/s].
+
+    The file is read through :mod:`latticecalc.project.files` (a regular UTF-8 file within the JSON
+    cap); a value that is not a number, or a unit that does not fit, is a
+    :class:`~latticecalc.errors.RecordError` naming the step and the file.
     """
     p = Path(path)
-    if not p.is_file():
-        raise RecordError("survey export not found", input_name="coverage.survey_results",
-                          expected="the JSON written by 'latticecalc export' for a site-survey project",
-                          got=str(p), file=str(p))
-    try:
-        data = json.loads(p.read_text(encoding="utf-8"))
-        rows = {r["id"]: r for r in data["results"]}
-    except (ValueError, KeyError, TypeError) as exc:
-        raise RecordError(f"not a calc package JSON ({exc})", file=str(p)) from None
+    _, rows = _survey_export(p)
     if "peaks.target-frequencies" not in rows:
         raise RecordError("no peaks to target in this export", input_name="peaks.target-frequencies",
-                          expected="a site-survey export", got=", ".join(list(rows)[:5]) + " ...", file=str(p))
-    r = rows["peaks.target-frequencies"]
-    out = {"targets": Q_(np.atleast_1d(np.asarray(r["value"], dtype=float)), r["unit"] or "Hz").to("Hz")}
+                          expected="a site-survey export", got=f"{len(rows)} other results", file=str(p))
+    out = {"targets": _survey_values(rows, "peaks.target-frequencies", unit="Hz", default_unit="Hz", file=str(p))}
     if "bands.midband" in rows and "maxhold.velocity-rms" in rows:
-        c, v = rows["bands.midband"], rows["maxhold.velocity-rms"]
-        out["centre"] = Q_(np.asarray(c["value"], dtype=float), c["unit"]).to("Hz")
-        out["velocity_rms"] = Q_(np.asarray(v["value"], dtype=float), v["unit"].replace("µ", "u")).to("m/s")
+        out["centre"] = _survey_values(rows, "bands.midband", unit="Hz", file=str(p))
+        out["velocity_rms"] = _survey_values(rows, "maxhold.velocity-rms", unit="m/s", file=str(p))
     return out
 
 
@@ -187,9 +238,10 @@ def survey_requirement(path, *, direction: str | None = None) -> dict:
     """
     out = survey_from_export(path)
     p = Path(path)
-    data = json.loads(p.read_text(encoding="utf-8"))
-    rows = {r["id"]: r for r in data["results"]}
-    inputs = {r.get("id"): r.get("value") for r in data.get("inputs", []) if isinstance(r, dict)}
+    data, rows = _survey_export(p)
+    listed = data.get("inputs", [])
+    inputs = {r.get("id"): r.get("value") for r in (listed if isinstance(listed, list) else [])
+              if isinstance(r, dict)}
     if out["targets"].size == 0:
         raise RecordError("the survey found no peak that needs insertion loss: there is nothing to target",
                           input_name="coverage.survey_results", expected="a survey export with peaks to target "
@@ -198,8 +250,7 @@ def survey_requirement(path, *, direction: str | None = None) -> dict:
         raise RecordError("the survey export does not give the required insertion loss per peak",
                           input_name="coverage.survey_results", expected="peaks.target-losses in the export "
                           "(re-export the survey with this kit version)", file=str(p))
-    r = rows["peaks.target-losses"]
-    out["losses"] = Q_(np.atleast_1d(np.asarray(r["value"], dtype=float)), "dB")
+    out["losses"] = Q_(_survey_values(rows, "peaks.target-losses", unit=None, file=str(p)), "dB")
     recorded = inputs.get("record.direction")
     out["direction"] = recorded if recorded in RECEIVER_DIRECTIONS else None
     out["criterion"] = inputs.get("criterion.id")

@@ -19,7 +19,6 @@
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -29,7 +28,7 @@ import sympy as sp
 from scipy import fft as sfft
 from scipy import signal as ssig
 
-from latticecalc.errors import InputError, RecordError
+from latticecalc.errors import InputError, LatticeCalcError, RecordError
 from latticecalc.physics import beams, tolerance
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
@@ -421,34 +420,68 @@ def calibration_from_export(path) -> ExportedCalibration:
     worst-case half-width (``calibration.bound``, ``calibration.relative-bound``) that carries the
     coupon's tolerances; exports made before the tolerances were propagated have no bound (None).
 
+    The file is read through :mod:`latticecalc.project.files` (a regular UTF-8 file within the JSON
+    cap).  Each value read must be a finite number with a unit of its dimension (a stress for the
+    modulus, its uncertainty and bound; none for the relative bound); otherwise a
+    :class:`~latticecalc.errors.RecordError` names ``lattice.calibration``, the step and the file.
+
     Parameters
     ----------
     path:
         ``out/<calc-id>-rev<rev>.json`` written by ``latticecalc export`` for a ``prototype-test`` project.
     """
+    from latticecalc.project.files import excerpt, read_json
+
+    name = "lattice.calibration"
     p = Path(path)
-    if not p.is_file():
-        raise RecordError("prototype-test export not found", input_name="lattice.calibration", got=str(p),
-                          expected="the JSON written by 'latticecalc export' for a prototype-test project")
-    try:
-        data = json.loads(p.read_text(encoding="utf-8"))
-        rows = {r["id"]: r for r in data["results"]}
-        meta = data["project"]
-    except (ValueError, KeyError, TypeError) as exc:
-        raise RecordError(f"not a calc package JSON ({exc})", input_name="lattice.calibration", file=str(p)) from None
+    data = read_json(p, what="the prototype-test export", input_name=name, file=str(p))
+    results = data.get("results") if isinstance(data, dict) else None
+    meta = data.get("project") if isinstance(data, dict) else None
+    if not isinstance(results, list) or not isinstance(meta, dict):
+        raise RecordError("not a calc package JSON", input_name=name, file=str(p),
+                          expected="the JSON written by 'latticecalc export': a 'results' list and a 'project' "
+                          "object", got="no 'results' list" if not isinstance(results, list) else
+                          "no 'project' object")
+    rows = {r.get("id"): r for r in results if isinstance(r, dict)}
     if "calibration.modulus" not in rows:
-        raise RecordError("no calibrated modulus in this export", input_name="lattice.calibration", file=str(p),
+        raise RecordError("no calibrated modulus in this export", input_name=name, file=str(p),
                           expected="a prototype-test export with the step calibration.modulus")
 
-    def quantity(row):
-        return Q_(float(row["value"]), row["unit"].replace("µ", "u") or "")
+    def quantity(key: str, dimension: str) -> pint.Quantity:
+        row = rows[key]
+        value, unit = row.get("value"), row.get("unit") or ""
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value):
+            if isinstance(value, str):
+                got = f"text {excerpt(value, limit=30)}"
+            elif isinstance(value, float):
+                got = repr(value)                    # NaN or infinity
+            else:
+                got = "nothing" if value is None else f"a {type(value).__name__}"
+            raise RecordError(f"the value of step {key} is not a number", input_name=name, file=str(p),
+                              expected=f"a finite number (a {dimension})", got=got)
+        if not isinstance(unit, str) or len(unit) > 40:
+            raise RecordError(f"the unit of step {key} is not a unit", input_name=name, file=str(p),
+                              expected=f"a {dimension} unit such as MPa", got=f"a {type(unit).__name__}")
+        try:
+            q = Q_(float(value), unit.replace("µ", "u"))
+            return check_dimension(q, name=key, expected=dimension)
+        except (pint.errors.PintError, LatticeCalcError, ValueError, TypeError, AttributeError, SyntaxError):
+            raise RecordError(f"the unit of step {key} is not a {dimension}", input_name=name, file=str(p),
+                              expected=f"a {dimension} unit such as MPa" if dimension != "dimensionless" else
+                              "no unit", got=excerpt(unit, limit=40)) from None
 
-    unc = rows.get("calibration.uncertainty")
-    source = Source(author=f"{meta.get('prepared_by', '')}, prototype test {meta.get('calc_id', '')} "
-                    f"rev {meta.get('revision', '')}".strip(", "), title=meta.get("title", "prototype test"),
+    def text(key: str, default: str = "") -> str:
+        value = meta.get(key, default)
+        return value[:200] if isinstance(value, str) else default
+
+    modulus = quantity("calibration.modulus", "pressure")
+    source = Source(author=f"{text('prepared_by')}, prototype test {text('calc_id')} "
+                    f"rev {text('revision')}".strip(", "), title=text("title", "prototype test") or "prototype test",
                     year=str(data.get("generated", ""))[:4], locator=f"step calibration.modulus, {p.name}")
-    bound, rel = rows.get("calibration.bound"), rows.get("calibration.relative-bound")
-    return ExportedCalibration(modulus=quantity(rows["calibration.modulus"]),
-                               uncertainty=quantity(unc) if unc else None, source=source,
-                               bound=quantity(bound) if bound else None,
-                               relative_bound=quantity(rel).to("") if rel else None)
+    return ExportedCalibration(
+        modulus=modulus,
+        uncertainty=quantity("calibration.uncertainty", "pressure") if "calibration.uncertainty" in rows else None,
+        source=source,
+        bound=quantity("calibration.bound", "pressure") if "calibration.bound" in rows else None,
+        relative_bound=(quantity("calibration.relative-bound", "dimensionless").to("")
+                        if "calibration.relative-bound" in rows else None))

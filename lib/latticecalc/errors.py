@@ -113,7 +113,7 @@ class RunInterruptedError(NotebookError):
 
 
 # --- files ---------------------------------------------------------------------------------------
-# Raised by latticecalc.project.files (every file the kit reads) and latticecalc.project.atomic
+# Raised by latticecalc.files (every file the kit reads) and latticecalc.project.atomic
 # (every file it writes).  Each names the input that gave the path (when there is one), the file
 # and, where known, the line; none quotes more of the file than a short, escaped excerpt of the
 # offending line of a text input, and none quotes a measured record.

@@ -20,9 +20,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from latticecalc import Q_
+from latticecalc import Q_, files
 from latticecalc.errors import FileTooLargeError, InputError, RecordError, SpecialFileError
-from latticecalc.project import files
 from latticecalc.project.inputs import load_inputs
 from latticecalc.project.meta import load_meta
 from latticecalc.project.schema import load_template_spec

@@ -21,8 +21,8 @@ import tomlkit
 import tomlkit.exceptions
 
 from latticecalc.errors import FileFormatError, InputError, LatticeCalcError, MissingFileError
+from latticecalc.files import parse_toml, read_text
 from latticecalc.project.atomic import write_text_atomic
-from latticecalc.project.files import parse_toml, read_text
 from latticecalc.project.schema import InputSpec, TemplateSpec
 from latticecalc.units import format_number, format_quantity, parse, unit_text
 
@@ -175,7 +175,7 @@ def _is_value_table(val: Mapping) -> bool:
 def _parse(text: str, *, file: str) -> tomlkit.TOMLDocument:
     """Parse ``text`` keeping comments, after the standard parser has checked it.
 
-    The standard parser (:func:`latticecalc.project.files.parse_toml`) names a duplicate key or a
+    The standard parser (:func:`latticecalc.files.parse_toml`) names a duplicate key or a
     syntax error with its line.
     """
     parse_toml(text, file=file, what="the inputs file")
@@ -199,7 +199,7 @@ def _read(path: Path) -> tuple[str, tomlkit.TOMLDocument]:
 def read_document(path: Path) -> tomlkit.TOMLDocument:
     """Parse ``inputs.toml`` keeping comments; every failure names the file (and the line where known).
 
-    The file is read through :mod:`latticecalc.project.files`: a regular UTF-8 file of at most the
+    The file is read through :mod:`latticecalc.files`: a regular UTF-8 file of at most the
     TOML cap (a byte-order mark is stripped); a duplicate key is a
     :class:`~latticecalc.errors.DuplicateKeyError`, bad syntax a :class:`~latticecalc.errors.FileFormatError`.
     """

@@ -9,7 +9,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from latticecalc.errors import InputError, MissingFileError
-from latticecalc.project.files import read_toml
+from latticecalc.files import read_toml
 
 PROJECT_FILE = "project.toml"
 _SAFE_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
@@ -68,7 +68,7 @@ def load_meta(path: Path) -> ProjectMeta:
 
     Calc id and revision must be safe in a file name; no text field may hold a control character.
 
-    The file is read through :mod:`latticecalc.project.files` (a regular UTF-8 file within the TOML
+    The file is read through :mod:`latticecalc.files` (a regular UTF-8 file within the TOML
     cap, a byte-order mark stripped).
 
     Raises

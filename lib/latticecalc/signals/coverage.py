@@ -149,8 +149,8 @@ MAX_EXPORT_VALUES = 100_000
 
 
 def _survey_export(path) -> tuple[dict, dict]:
-    """``(data, rows by id)`` of a site-survey export, read through :mod:`latticecalc.project.files`."""
-    from latticecalc.project.files import read_json
+    """``(data, rows by id)`` of a site-survey export, read through :mod:`latticecalc.files`."""
+    from latticecalc.files import read_json
 
     p = Path(path)
     data = read_json(p, what="the survey export", input_name=_SURVEY_INPUT, file=str(p))
@@ -167,7 +167,7 @@ def _survey_values(rows: dict, key: str, *, unit: str | None, default_unit: str 
 
     With ``unit`` None: a float array (the row's unit ignored).
     """
-    from latticecalc.project.files import excerpt
+    from latticecalc.files import excerpt
 
     row = rows[key]
     value, text = row.get("value"), row.get("unit") or default_unit
@@ -206,7 +206,7 @@ def survey_from_export(path) -> dict:
     ``bands.midband`` with ``maxhold.velocity-rms``.  Returns a dict with ``targets`` [Hz] and
     optionally ``centre`` [Hz] and ``velocity_rms`` [m/s].
 
-    The file is read through :mod:`latticecalc.project.files` (a regular UTF-8 file within the JSON
+    The file is read through :mod:`latticecalc.files` (a regular UTF-8 file within the JSON
     cap); a value that is not a number, or a unit that does not fit, is a
     :class:`~latticecalc.errors.RecordError` naming the step and the file.
     """

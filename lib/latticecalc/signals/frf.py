@@ -420,7 +420,7 @@ def calibration_from_export(path) -> ExportedCalibration:
     worst-case half-width (``calibration.bound``, ``calibration.relative-bound``) that carries the
     coupon's tolerances; exports made before the tolerances were propagated have no bound (None).
 
-    The file is read through :mod:`latticecalc.project.files` (a regular UTF-8 file within the JSON
+    The file is read through :mod:`latticecalc.files` (a regular UTF-8 file within the JSON
     cap).  Each value read must be a finite number with a unit of its dimension (a stress for the
     modulus, its uncertainty and bound; none for the relative bound); otherwise a
     :class:`~latticecalc.errors.RecordError` names ``lattice.calibration``, the step and the file.
@@ -430,7 +430,7 @@ def calibration_from_export(path) -> ExportedCalibration:
     path:
         ``out/<calc-id>-rev<rev>.json`` written by ``latticecalc export`` for a ``prototype-test`` project.
     """
-    from latticecalc.project.files import excerpt, read_json
+    from latticecalc.files import excerpt, read_json
 
     name = "lattice.calibration"
     p = Path(path)

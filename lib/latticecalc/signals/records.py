@@ -26,7 +26,7 @@ near that array's size.
 
 Files
 -----
-Records are opened through :mod:`latticecalc.project.files`: regular files only (a folder, FIFO,
+Records are opened through :mod:`latticecalc.files`: regular files only (a folder, FIFO,
 device or socket is refused before it is opened), within the size cap of their kind (CSV: the
 array, samples × columns × 8 bytes, 500 MB; ``.npy``: the array from its header, 2 GB; raised by
 ``max_bytes=`` or the environment variables named there), UTF-8 text for CSV.  A CSV file whose
@@ -49,9 +49,9 @@ from pathlib import Path
 import numpy as np
 import pint
 
+from latticecalc import files
 from latticecalc.errors import LatticeCalcError, RecordError
-from latticecalc.project import files
-from latticecalc.project.files import excerpt
+from latticecalc.files import excerpt
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Source, quantity_step
 from latticecalc.signals.bands import DEFAULT_HIGHEST, DEFAULT_LOWEST, third_octave_bands
 from latticecalc.units import Q_, check_dimension, check_positive, ureg
@@ -381,7 +381,7 @@ def read_csv(path, *, sample_rate=None, unit: str | None = None, time_column: st
 
     The file is read block by block (:data:`CSV_BLOCK_BYTES`), so memory stays near the size of the
     final array; a record whose array (samples × columns × 8 bytes) would exceed the CSV cap of
-    :mod:`latticecalc.project.files` (500 MB unless ``max_bytes`` or ``LATTICECALC_MAX_CSV_RECORD_BYTES``
+    :mod:`latticecalc.files` (500 MB unless ``max_bytes`` or ``LATTICECALC_MAX_CSV_RECORD_BYTES``
     says otherwise) is refused before it is read.  Only a regular UTF-8 file is read (a folder, FIFO or
     device is refused before it is opened); a file whose first row is not a header of column names is
     not a record, and nothing of it is quoted in the error.
@@ -404,7 +404,7 @@ def read_csv(path, *, sample_rate=None, unit: str | None = None, time_column: st
     input_name:
         The input that named the file, for the messages.
     max_bytes:
-        Cap on the record's array in bytes (default: the CSV cap, see :mod:`latticecalc.project.files`).
+        Cap on the record's array in bytes (default: the CSV cap, see :mod:`latticecalc.files`).
 
     Returns
     -------
@@ -690,7 +690,7 @@ def read_npy(path, *, sample_rate, unit: str, channels: tuple[str, ...] | None =
     Only a regular file is read (a folder, FIFO or device is refused before it is opened).  The
     header is read first: an array of objects (pickles) is refused, and so is an array whose data
     (samples × channels × bytes per sample) exceed the ``.npy`` cap of
-    :mod:`latticecalc.project.files` (2 GB unless ``max_bytes`` or ``LATTICECALC_MAX_NPY_RECORD_BYTES``
+    :mod:`latticecalc.files` (2 GB unless ``max_bytes`` or ``LATTICECALC_MAX_NPY_RECORD_BYTES``
     says otherwise) or the file's own size (a truncated file).
 
     Parameters
@@ -803,7 +803,7 @@ def read_record(path, *, sample_rate=None, unit: str | None = None, full_scale=N
 
     ``demo_input`` also names the input in every error about the file (a folder, a FIFO or device,
     too large, not a record).  ``max_bytes`` raises or lowers the size cap of the record's kind
-    (:mod:`latticecalc.project.files`).
+    (:mod:`latticecalc.files`).
     """
     p = Path(path)
     if demo_seed is not None and not p.exists():

@@ -7,6 +7,10 @@ Method (each step is on the sheet with its source):
   bracketed: pinned–pinned (lower bound) to clamped–clamped (nominal: the frame and the node
   overlap hold the strut ends).  When the lattice has struts of several lengths, the longest
   resonates first and sets the edge; the others form the cluster of strut modes listed with it.
+  With rigid node zones (``node_zone_length``) the clamped–clamped mode is that of the flexible
+  length L_f = L − l₁ − l₂ between the zones (the zones' mass neglected: the clamps hold them);
+  the pinned–pinned bound keeps the node-to-node length (a node free to rotate carries its zones
+  round with it, so pinned over L stays below it).  The mass split is unchanged.
 * **Upper edge** f_high: the mass-in-mass chain of Huang, Sun & Huang (2009): a host mass m₁
   joined to its neighbours, carrying a resonator m₂ tuned to ω₀; the gap closes at
   ω₀ √(1 + m₂/m₁).  Here ω₀ is the struts' first bending mode, m₂ the effective modal mass of
@@ -35,6 +39,8 @@ from latticecalc.errors import InputError
 from latticecalc.physics.beams import (
     AREA_CIRCLE,
     EULER_BERNOULLI_FREQUENCY,
+    FLEXIBLE_LENGTH,
+    NODE_ZONE_SOURCE,
     RAO_2017,
     SECOND_MOMENT_CIRCLE,
     SECTION_SOURCE,
@@ -236,11 +242,30 @@ def _as_lengths(value, name):
     return check_positive(q, name=name)
 
 
+def _zone_sums(node_zone_length, n: int):
+    """Zone lengths (m) at both ends of each of ``n`` struts, (n, 2), from one length, n lengths or n pairs."""
+    if node_zone_length is None:
+        return np.zeros((n, 2))
+    z = check_dimension(node_zone_length, name="node_zone_length", expected="length")
+    zm = np.asarray(z.to("m").magnitude, dtype=float)
+    if zm.ndim == 0:
+        zm = np.full((n, 2), float(zm))
+    elif zm.shape == (2,) and n != 2:
+        zm = np.tile(zm, (n, 1))
+    elif zm.shape == (n,):
+        zm = np.repeat(zm[:, None], 2, axis=1)
+    if zm.shape != (n, 2) or not np.all(np.isfinite(zm)) or np.any(zm < 0):
+        raise InputError("node zones: one length, one per strut, or a pair per strut, each >= 0",
+                         input_name="node_zone_length", expected=f"a length, {n} lengths or {n} × 2 lengths",
+                         got=format_quantity(node_zone_length))
+    return zm
+
+
 def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cell_width, host_mass,
                   effective_modulus, strut_weights=None, strut_directions=None, modulus_range=None,
                   modulus_tolerance=None,
                   diameter_tolerance=None, length_tolerance=None, density_tolerance=None, cluster_modes=(1, 2, 3),
-                  id_prefix: str = "band") -> BandEstimate:
+                  node_zone_length=None, id_prefix: str = "band") -> BandEstimate:
     """Expected stop band [f_low, f_high] of a strut lattice, with its fixity bracket and scatter.
 
     Parameters
@@ -273,6 +298,11 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
         ± tolerances (a Quantity of the parameter's dimension or a fraction), or None.
     cluster_modes:
         Modes listed in the cluster of strut modes.
+    node_zone_length:
+        Rigid node zones [length]: one length at both ends of every strut, one per strut, or a
+        pair per strut (N × 2); None for struts node to node.  The clamped–clamped modes are then
+        those of the flexible length L − l₁ − l₂, and the lower edge is set by the strut with the
+        longest flexible length (see :func:`latticecalc.physics.frame_fe.cell_node_zones`).
     id_prefix:
         Prefix of the step ids.
 
@@ -310,8 +340,17 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
                              expected="(low, high)", got=f"({format_quantity(e_lo)}, {format_quantity(e_hi)})")
     t_mod = (half_width(E, modulus_tolerance, name="modulus_tolerance") / E).to("").magnitude
     e_lo, e_hi = e_lo * (1 - t_mod), e_hi * (1 + t_mod)
+    zones = _zone_sums(node_zone_length, lengths.magnitude.size)
+    flex = lengths.magnitude - zones.sum(axis=1)
+    if np.any(flex <= 0):
+        raise InputError("the node zones leave a strut no flexible length", input_name="node_zone_length",
+                         expected="zones shorter together than the strut", got=format_quantity(node_zone_length))
     L_long = Q_(float(lengths.magnitude.max()), "m").to("mm")
     L_tot = Q_(float((weights * lengths.magnitude).sum()), "m").to("mm")
+    zoned = bool(np.any(zones > 0))
+    s_flex = int(np.argmax(flex))                  # the strut of the lower edge
+    L_node = Q_(float(lengths.magnitude[s_flex]), "m").to("mm")
+    z_flex = zones[s_flex]
     lam = {fix: Q_(eigenvalue(supports=fix, mode=1), "") for fix in FIXITIES}
     p = id_prefix
     steps = []
@@ -330,16 +369,31 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
                           "bending that the host motion drives", value=Q_(w_val, ""), sig=4, method=w_method,
                           source=DIRECTION_WEIGHT_SOURCE)
     steps += [area, second, ms, mu["clamped-clamped"].steps[0], mu["pinned-pinned"].steps[0], w_dir]
+    L_f = L_long
+    if zoned:
+        lf = evaluate(FLEXIBLE_LENGTH, id=f"{p}.strut-flexible-length", unit="mm", source=NODE_ZONE_SOURCE,
+                      description="Flexible length of the lattice strut between its rigid node zones (the strut "
+                      "with the longest flexible length)",
+                      values={"L": L_node, "l_1": Q_(z_flex[0] * 1e3, "mm"), "l_2": Q_(z_flex[1] * 1e3, "mm")})
+        f_nn = evaluate(EULER_BERNOULLI_FREQUENCY, id=f"{p}.f1-cc-node-to-node", unit="Hz", source=RAO_2017,
+                        description="For comparison: first bending mode of the longest lattice strut, clamped–"
+                        "clamped over its node-to-node length (no node zones)",
+                        values={"lambda_n": lam["clamped-clamped"], "L": L_long, "E": E, "I": second.result,
+                                "rho": rho, "A": area.result})
+        L_f = lf.result
+        steps += [lf, f_nn]
 
     out = {}
     for fix in FIXITIES:
         t = _short(fix)
+        cc = fix == "clamped-clamped"
         f0 = evaluate(EULER_BERNOULLI_FREQUENCY, id=f"{p}.f1-{t}", unit="Hz", source=RAO_2017,
-                      description=f"First bending mode of the longest lattice strut, {fix}"
-                      + (" (nominal lower edge)" if fix == "clamped-clamped" else " (lower bound of the fixity "
-                                                                                   "bracket)"),
-                      values={"lambda_n": lam[fix], "L": L_long, "E": E, "I": second.result, "rho": rho,
-                              "A": area.result})
+                      description=(f"First bending mode of the lattice strut over its flexible length between "
+                                   f"rigid node zones, {fix}" if zoned and cc else
+                                   f"First bending mode of the longest lattice strut, {fix}")
+                      + (" (nominal lower edge)" if cc else " (lower bound of the fixity bracket)"),
+                      values={"lambda_n": lam[fix], "L": L_f if cc else L_long, "E": E, "I": second.result,
+                              "rho": rho, "A": area.result})
         m2 = evaluate(RESONATING_MASS, id=f"{p}.m2-{t}", unit="g", source=HUANG_SUN_HUANG_2009,
                       description=f"Resonating mass m₂: effective modal mass of the struts moving across the "
                       f"host motion ({fix})", values={"w": w_dir.result, "mu": mu[fix].value, "m_s": ms.result})
@@ -375,7 +429,8 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
     rho_c = rho + hr * corners[:, 3]
     ranges = {}
     for fix in FIXITIES:
-        f0_c, fh_c = _kernel(L=L_long * scale_c, Ltot=L_tot * scale_c, d=d_c, E=E_c, rho=rho_c, m_host=mh,
+        L_c = (L_node * scale_c - Q_(z_flex.sum() * 1e3, "mm")) if fix == "clamped-clamped" else L_long * scale_c
+        f0_c, fh_c = _kernel(L=L_c, Ltot=L_tot * scale_c, d=d_c, E=E_c, rho=rho_c, m_host=mh,
                              a=a, mu=mu[fix].value, lam=lam[fix], w=w_dir.result)
         ranges[fix] = (f0_c.magnitude.min(), f0_c.magnitude.max(), fh_c.magnitude.min(), fh_c.magnitude.max())
     lo_min, lo_max, hi_min, hi_max = ranges["clamped-clamped"]
@@ -408,15 +463,19 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
                        "and the mass-in-mass estimate of the upper edge does not describe the first band."))
 
     # cluster of strut modes: every distinct lattice strut length, modes and fixities
+    # (with node zones: the clamped–clamped family over the flexible length, the others node to node)
     cluster = []
-    uniq = np.unique(np.round(lengths.to("mm").magnitude, 9))
-    for Lm in uniq:
+    pairs = np.unique(np.round(np.c_[lengths.to("mm").magnitude, 1e3 * zones.sum(axis=1)], 9), axis=0)
+    for Lm, zm in pairs:
         for fix in CLUSTER_FIXITIES:
+            L_m = Lm - zm if fix == "clamped-clamped" else Lm
+            label = format_quantity(Q_(Lm, "mm")) + (f" (flexible {format_quantity(Q_(L_m, 'mm'))})"
+                                                     if zm > 0 and fix == "clamped-clamped" else "")
             for m in cluster_modes:
                 lam_m = Q_(eigenvalue(supports=fix, mode=m), "")
-                f = EULER_BERNOULLI_FREQUENCY.evaluate({"lambda_n": lam_m, "L": Q_(Lm, "mm"), "E": E,
+                f = EULER_BERNOULLI_FREQUENCY.evaluate({"lambda_n": lam_m, "L": Q_(L_m, "mm"), "E": E,
                                                         "I": second.result, "rho": rho, "A": area.result})
-                cluster.append((format_quantity(Q_(Lm, "mm")), m, fix, f.to("Hz")))
+                cluster.append((label, m, fix, f.to("Hz")))
 
     value = {"f_low": f_low, "f_high": f_high, "f_low_pinned": out["pinned-pinned"][0],
              "f_high_pinned": out["pinned-pinned"][1], "f_bragg": fb.result,
@@ -519,20 +578,30 @@ def cell_band_inputs(*, cell, lattice_material, frame_material=None, effective_m
 
 def band_estimate_for_cell(*, cell, lattice_material, frame_material=None, effective_modulus=None,
                            modulus_tolerance=None, diameter_tolerance=None, length_tolerance=None,
-                           density_tolerance=None, id_prefix: str = "band") -> BandEstimate:
+                           density_tolerance=None, node_zones: str = "none", id_prefix: str = "band") -> BandEstimate:
     """:func:`band_estimate` for a cell: lattice struts resonate, the frame is host mass.
 
     The dynamic modulus of the lattice material is used, and its range over the service
     temperature (``modulus_range()``) is the material scatter.  Parameters as in
-    :func:`cell_band_inputs` and :func:`band_estimate`.
+    :func:`cell_band_inputs` and :func:`band_estimate`; ``node_zones="rigid"`` gives the lattice
+    struts rigid zones at the nodes of the infinite lattice
+    (:func:`latticecalc.physics.frame_fe.cell_node_zones`, shown on the sheet).
     """
+    from latticecalc.physics import frame_fe
+
     inputs = cell_band_inputs(cell=cell, lattice_material=lattice_material, frame_material=frame_material,
                               effective_modulus=effective_modulus, id_prefix=f"{id_prefix}.cell")
+    zone_steps: tuple = ()
+    zone_lengths = None
+    if frame_fe.check_node_zones(node_zones) == "rigid":
+        zones = frame_fe.cell_node_zones(cell, group="lattice", id_prefix=f"{id_prefix}.node-zone")
+        zone_lengths = zones.lengths[cell.group_mask("lattice")]
+        zone_steps = zones.steps
     est = band_estimate(**inputs.arguments, modulus_tolerance=modulus_tolerance,
                         diameter_tolerance=diameter_tolerance,
                         length_tolerance=length_tolerance, density_tolerance=density_tolerance,
-                        id_prefix=id_prefix)
-    return dataclasses.replace(est, steps=inputs.steps + est.steps)
+                        node_zone_length=zone_lengths, id_prefix=id_prefix)
+    return dataclasses.replace(est, steps=inputs.steps + zone_steps + est.steps)
 
 
 RESONATOR_STIFFNESS = Formula("k_2", _m2 * (2 * sp.pi * _f0) ** 2)

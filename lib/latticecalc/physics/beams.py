@@ -12,6 +12,11 @@ Timoshenko (shear deformation and rotary inertia, Cowper's shear coefficient): t
 case has an exact closed form (Han, Benaroya & Wei 1999); the other support cases are solved
 numerically as the roots of the 4 × 4 boundary-condition determinant of the Timoshenko equations
 (the frequency equation of Han, Benaroya & Wei 1999, §5, set up here in dimensional form).
+
+Rigid node zones (:func:`zoned_bending_frequency`): a stocky strut is buried in its neighbours over
+a length l_r at each node, taken rigid, and bends over the flexible length L_f = L − l₁ − l₂; the
+zone length at a node is where the strut's surface parts from the neighbour holding it longest,
+(d_j + d_i cos θ)/(2 sin θ) [derived], see :func:`latticecalc.physics.frame_fe.cell_node_zones`.
 """
 
 from __future__ import annotations
@@ -209,6 +214,20 @@ def _solved_for(target: sp.Symbol) -> sp.Expr:
 
 DIAMETER_FOR_FREQUENCY = Formula("d", _solved_for(_d))
 LENGTH_FOR_FREQUENCY = Formula("L", _solved_for(_L))
+
+# Rigid node zones (see frame_fe): the length over which a strut of diameter d_i is held by another
+# of diameter d_j meeting it at the node at an angle θ between their axes, where the two cylinders'
+# surfaces part [derived]; a thicker strut's rounded end (a sphere of diameter d_j at the node) holds
+# it over √(d_j² − d_i²)/2 [derived]; the strut bends over the flexible length between its zones.
+_di_z, _dj_z, _th, _l1, _l2, _Lf, _fz, _f0z = sp.symbols("d_i d_j theta l_1 l_2 L_f f_z f_0")
+_ZONE_NAMES = {"l_r": r"l_\mathrm{r}", "L_f": r"L_\mathrm{f}", "f_z": r"f_\mathrm{z}", "k_z": r"k_\mathrm{z}"}
+NODE_ZONE_CYLINDER = Formula("l_r", (_dj_z + _di_z * sp.cos(_th)) / (2 * sp.sin(_th)), _ZONE_NAMES)
+NODE_ZONE_SPHERE = Formula("l_r", sp.sqrt(_dj_z**2 - _di_z**2) / 2, _ZONE_NAMES)
+FLEXIBLE_LENGTH = Formula("L_f", _L - _l1 - _l2, _ZONE_NAMES)
+ZONE_FREQUENCY_RATIO = Formula("k_z", _fz / _f0z, _ZONE_NAMES)
+NODE_ZONE_SOURCE = Source(author="derived", title="rigid node zones: a strut buried in its neighbours at a node "
+                          "is held over the length where the struts' surfaces part, (d_j + d_i cos θ)/(2 sin θ), "
+                          "and bends over the flexible length between its zones", tag="derived")
 
 SECTION_SOURCE = Source(author="Young, W. C. & Budynas, R. G.",
                         title="Roark's Formulas for Stress and Strain, 7th ed.", year=2002,
@@ -570,6 +589,57 @@ def bending_frequency(*, length, diameter, youngs_modulus, density, supports: st
     return section_bending_frequency(length=length, section=section, youngs_modulus=youngs_modulus,
                                      density=density, supports=supports, mode=mode, theory=theory,
                                      poissons_ratio=poissons_ratio, id_prefix=id_prefix)
+
+
+def zoned_bending_frequency(*, length, zone_lengths, diameter, youngs_modulus, density,
+                            supports: str = "clamped-clamped", mode: int = 1, theory: str = "euler-bernoulli",
+                            poissons_ratio=None, id_prefix: str = "strut.zones") -> BendingFrequency:
+    """Bending frequency of a solid circular strut with rigid zones at its nodes.
+
+    The strut bends over its flexible length L_f = L − l₁ − l₂ between the zones, with the end
+    conditions of ``supports`` at the zones' ends: f = λ_n² / (2π L_f²) √(E I / (ρ A)) for
+    Euler–Bernoulli.  The zones' own mass is neglected; for clamped–clamped this is exact (the
+    clamps hold the zones still).  A step gives the ratio to the node-to-node frequency
+    (Euler–Bernoulli, same supports and mode).
+
+    Parameters
+    ----------
+    length:
+        Node-to-node strut length L [length].
+    zone_lengths:
+        Rigid zone length l_r at each end [length]: one value for both ends, or a pair (l₁, l₂);
+        see :func:`latticecalc.physics.frame_fe.cell_node_zones`.
+    diameter, youngs_modulus, density, supports, mode, theory, poissons_ratio:
+        As for :func:`bending_frequency`.
+    id_prefix:
+        Prefix of the step ids (``strut.zones.l-flex``, ``strut.zones.f1-cc``, ``strut.zones.ratio``).
+    """
+    L = _length(length, "length")
+    z = check_dimension(zone_lengths, name="zone_lengths", expected="length")
+    zm = np.atleast_1d(np.asarray(z.to("m").magnitude, dtype=float))
+    if zm.size == 1:
+        zm = np.repeat(zm, 2)
+    if zm.shape != (2,) or not np.all(np.isfinite(zm)) or np.any(zm < 0):
+        raise InputError("zone lengths are one length or a pair, each >= 0", input_name="zone_lengths",
+                         expected="l_r or (l_1, l_2), >= 0 mm", got=str(z))
+    if zm.sum() >= float(L.to("m").magnitude):
+        raise InputError("the rigid zones leave no flexible length", input_name="zone_lengths",
+                         expected=f"l_1 + l_2 < L = {format_number(float(L.to('mm').magnitude), 4)} mm",
+                         got=f"{format_number(zm[0] * 1e3, 4)} + {format_number(zm[1] * 1e3, 4)} mm")
+    lf = evaluate(FLEXIBLE_LENGTH, id=f"{id_prefix}.l-flex", unit="mm", source=NODE_ZONE_SOURCE,
+                  description="Flexible length of the strut between its rigid node zones",
+                  values={"L": L, "l_1": Q_(zm[0] * 1e3, "mm"), "l_2": Q_(zm[1] * 1e3, "mm")})
+    r = bending_frequency(length=lf.result, diameter=diameter, youngs_modulus=youngs_modulus, density=density,
+                          supports=supports, mode=mode, theory=theory, poissons_ratio=poissons_ratio,
+                          id_prefix=id_prefix)
+    sec = circular_section(diameter=diameter, id_prefix=id_prefix)
+    f0 = EULER_BERNOULLI_FREQUENCY.evaluate({"lambda_n": Q_(r.eigenvalue, ""), "L": L, "E": youngs_modulus,
+                                             "I": sec.second_moment, "rho": density, "A": sec.area}).to("Hz")
+    ratio = evaluate(ZONE_FREQUENCY_RATIO, id=f"{id_prefix}.ratio", unit="", sig=4, source=NODE_ZONE_SOURCE,
+                     description=f"Rise of the frequency by the rigid node zones (over the node-to-node "
+                     f"Euler–Bernoulli value, {supports}, mode {r.mode})", values={"f_z": r.value, "f_0": f0})
+    return replace(r, steps=(lf, *r.steps, ratio),
+                   title=f"Strut bending frequency with rigid node zones ({supports}, mode {r.mode})")
 
 
 # --- table of modes ------------------------------------------------------------------------------

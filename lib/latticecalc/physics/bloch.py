@@ -360,10 +360,15 @@ def _joint_maps(pf: PeriodicFrame, extra: int):
 def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int,
                      strut_modes: int, theory: str, part: str | None = "lattice",
                      supports: Mapping[int, Sequence[str]] | None = None,
-                     point_masses: Mapping[str, Any] | None = None) -> BlochOperator:
-    """Bloch operator of the strut-reduced model (joints + ``strut_modes`` modes per strut), dense."""
+                     point_masses: Mapping[str, Any] | None = None,
+                     end_zones: np.ndarray | None = None) -> BlochOperator:
+    """Bloch operator of the strut-reduced model (joints + ``strut_modes`` modes per strut), dense.
+
+    ``end_zones`` (struts of ``pf``, 2), m: rigid node zones (see :func:`node_zones_of`).
+    """
     red = fe.reduce_struts(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, sections=sections,
-                           n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses)
+                           n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses,
+                           end_zones=end_zones)
     K, M = fe.reduced_matrices(red, n_joints=len(pf.nodes))
     Mp = fe.reduced_matrices(red, n_joints=len(pf.nodes), group=part)[1] if part in pf.groups else None
     extra = K.shape[0] - 6 * len(pf.nodes)
@@ -374,9 +379,11 @@ def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n
 
 def full_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int, theory: str,
                   part: str | None = "lattice", supports: Mapping[int, Sequence[str]] | None = None,
-                  point_masses: Mapping[str, Any] | None = None) -> BlochOperator:
-    """Bloch operator of the full (unreduced) frame mesh, sparse."""
-    mesh = fe.mesh_frame(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, n_elements=n_elements)
+                  point_masses: Mapping[str, Any] | None = None,
+                  end_zones: np.ndarray | None = None) -> BlochOperator:
+    """Bloch operator of the full (unreduced) frame mesh, sparse (``end_zones`` as for :func:`reduced_operator`)."""
+    mesh = fe.mesh_frame(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, n_elements=n_elements,
+                         end_zones=end_zones)
     asm = fe.assemble(mesh, sections, theory=theory)
     extra = mesh.n_dofs - 6 * len(pf.nodes)
     dm, do, nr = _joint_maps(pf, extra)
@@ -394,6 +401,15 @@ def full_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_el
             Mp = (Mp + sp.diags(keep) @ added).tocsr()
     return _drop(BlochOperator(K=asm.K, M=M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp),
                  _restrained_dofs(pf, supports))
+
+
+def node_zones_of(pf: PeriodicFrame, sections: Mapping[str, fe.Section], node_zones: str) -> np.ndarray | None:
+    """Rigid node zones of the periodic frame's struts (None for ``"none"``).
+
+    A joint's zones see every strut meeting it in the lattice: the struts at all its images.
+    """
+    return fe.end_zones_for(node_zones, nodes=pf.nodes, struts=pf.struts, groups=pf.groups, sections=sections,
+                            joint_master=pf.master)
 
 
 # --------------------------------------------------------------------------------------------
@@ -576,6 +592,8 @@ class Dispersion(CalcResult):
     n_dofs_reduced: int
     method: str
     zone_frequencies: Any = None
+    #: The model of the node region the bands were computed with (``"none"`` or ``"rigid"``).
+    node_zones: str = "none"
 
 
 def _bands_on(op: BlochOperator, ks: np.ndarray, n_bands: int, *, progress: Any, desc: str):
@@ -613,7 +631,7 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                method: str = "reduced", zone: str = "octant", zone_points: int = 4,
                theory: str = "timoshenko", energy_group: str = "lattice", convergence_check: bool = True,
                supports: Mapping[int, Sequence[str]] | None = None, cache: Any = None, progress: Any = None,
-               id_prefix: str = "bloch") -> Dispersion:
+               id_prefix: str = "bloch", node_zones: str = "none") -> Dispersion:
     """Bloch-wave dispersion of an infinite lattice of ``cell``, its complete gaps and mode types.
 
     Parameters
@@ -662,6 +680,9 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         ``True`` for a progress bar, or a callable ``f(done, total)``.
     id_prefix:
         Prefix of the step ids.
+    node_zones:
+        ``"none"`` (struts node to node) or ``"rigid"``: rigid zones at the ends of the lattice
+        struts, as long as the node geometry buries them (:func:`latticecalc.physics.frame_fe.node_zone_lengths`).
 
     Returns
     -------
@@ -686,15 +707,16 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         np.zeros((0, 3))
 
     pm = fe.check_point_masses(fe.cell_point_masses(cell), n)
+    zones = node_zones_of(pf, sections, node_zones)
 
     def operator(n_el: int) -> BlochOperator:
         if pm and n_el % 2:
             n_el += 1                  # an added mass sits on the strut's middle node
         if method == "full":
             return full_operator(pf, sections, n_elements=n_el, theory=theory, part=energy_group,
-                                 supports=supports, point_masses=pm)
+                                 supports=supports, point_masses=pm, end_zones=zones)
         return reduced_operator(pf, sections, n_elements=n_el, strut_modes=sm, theory=theory, part=energy_group,
-                                supports=supports, point_masses=pm)
+                                supports=supports, point_masses=pm, end_zones=zones)
 
     def compute() -> dict[str, np.ndarray]:
         op = operator(n)
@@ -710,7 +732,8 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
 
     key = fingerprint("dispersion-v2", _cell_key(cell, materials), n, nb, path, pts, periodic, sm, method, zone,
                       zone_points, theory, energy_group, convergence_check,
-                      {str(k): list(v) if not isinstance(v, str) else v for k, v in (supports or {}).items()})
+                      {str(k): list(v) if not isinstance(v, str) else v for k, v in (supports or {}).items()},
+                      *((("node-zones", node_zones),) if node_zones != "none" else ()))
     data = cached_arrays(cache, key, compute)
     f, e, fz = data["f"], data["e"], data["fz"]
     both = np.vstack([f, fz]) if len(fz) else f
@@ -723,7 +746,9 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         directional[f"{a}-{b}"] = [Gap(low=Q_(lo, "Hz"), high=Q_(hi, "Hz"), below=j) for lo, hi, j in find_gaps(f[sel])]
     mdesc = (f"{n} {theory} beam elements per strut; " + (
         f"each strut reduced to its end joints + {sm} fixed-fixed modes (Bloch mode synthesis)"
-        if method == "reduced" else "full mesh, sparse shift-invert eigensolver"))
+        if method == "reduced" else "full mesh, sparse shift-invert eigensolver")
+        + ("; rigid node zones on the lattice struts (flexible length between them, rigid offsets to the "
+           "joints, zone mass on the joints)" if zones is not None else ""))
     steps = [
         *section_steps,
         quantity_step(id=f"{id_prefix}.dofs", description="Degrees of freedom of the cell model before the "
@@ -735,6 +760,12 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                       f"(+ {len(kz)} sampling the irreducible zone, {zone})", value=Q_(len(wp.k) + len(kz), ""),
                       method="uniform spacing along each leg", source=SETYAWAN_CURTAROLO_2010, sig=6),
     ]
+    if zones is not None:
+        steps.append(quantity_step(
+            id=f"{id_prefix}.node-zone", description="Rigid node zone, longest at a lattice strut end",
+            value=Q_(float(zones.max()) * 1e3, "mm"), unit="mm", source=fe.RIGID_OFFSET,
+            method="where the neighbouring struts (of this and the adjacent cells) stand out of the strut's surface, "
+                   "(d_j + d_i cos θ)/(2 sin θ); the strut ends are tied to the joints by rigid offsets"))
     for gi, g in enumerate(gaps, start=1):
         j = g.below
         at_lo = np.nanargmax(both[:, j])
@@ -785,7 +816,8 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
              "strut_energy": e, "wave_vectors": Q_(wp.k, "rad/m")}
     return Dispersion(value=value, steps=tuple(steps), ticks=wp.ticks, tick_labels=wp.tick_labels,
                       n_dofs_full=int(data["n_full"]), n_dofs_reduced=int(data["n_reduced"]), method=method,
-                      zone_frequencies=Q_(fz, "Hz"), title="Bloch-wave dispersion of the lattice")
+                      zone_frequencies=Q_(fz, "Hz"), node_zones=node_zones,
+                      title="Bloch-wave dispersion of the lattice")
 
 
 # --------------------------------------------------------------------------------------------
@@ -804,7 +836,8 @@ class ModeShape:
 
 def band_mode_shape(cell: Any, *, materials: Mapping[str, Any], wave_vector: Any, band: int,
                     n_elements: int = 8, periodic: str = "xyz", theory: str = "timoshenko",
-                    energy_group: str = "lattice", full_mesh_limit: int = 60000) -> ModeShape:
+                    energy_group: str = "lattice", full_mesh_limit: int = 60000,
+                    node_zones: str = "none") -> ModeShape:
     """The mode of band ``band`` (0-based) at ``wave_vector`` [rad/m], on the full strut mesh.
 
     Solved on the full mesh (sparse) so the shape along every strut is the FE shape itself.
@@ -814,15 +847,17 @@ def band_mode_shape(cell: Any, *, materials: Mapping[str, Any], wave_vector: Any
     pf = periodic_frame(cell, periodic=periodic)
     sections = fe.sections_for(cell, materials)
     k = np.asarray(Q_(wave_vector).to("rad/m").magnitude if hasattr(wave_vector, "to") else wave_vector, float)
+    zones = node_zones_of(pf, sections, node_zones)
     op = full_operator(pf, sections, n_elements=n_elements, theory=theory, part=energy_group,
-                       point_masses=fe.cell_point_masses(cell))
+                       point_masses=fe.cell_point_masses(cell), end_zones=zones)
     w2, x = op.solve(k, band + 1, vectors=True)
     v = x[:, band]
     share = float(op.energy_fraction(k, v[:, None])[0])
     full = (op.P @ v) * op.phases(k)
     j = np.argmax(np.abs(full))
     full = full * np.exp(-1j * np.angle(full[j]))
-    mesh = fe.mesh_frame(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, n_elements=n_elements)
+    mesh = fe.mesh_frame(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, n_elements=n_elements,
+                         end_zones=zones)
     # the full operator drops massless joints: rebuild node displacements on the kept rows
     u = np.zeros(mesh.n_dofs, complex)
     kept = _kept_rows(pf, mesh)
@@ -846,7 +881,11 @@ def _kept_rows(pf: PeriodicFrame, mesh: fe.FrameMesh) -> np.ndarray:
 
 def mode_shapes_at_gap(cell: Any, result: Dispersion, *, materials: Mapping[str, Any], gap: int = 0,
                        **kwargs: Any) -> tuple[ModeShape, ModeShape]:
-    """The two modes bounding complete gap ``gap`` of ``result`` (lower edge, upper edge)."""
+    """The two modes bounding complete gap ``gap`` of ``result`` (lower edge, upper edge).
+
+    The node-zone model is the one ``result`` was computed with unless ``node_zones`` is given.
+    """
+    kwargs.setdefault("node_zones", getattr(result, "node_zones", "none"))
     gaps = result["gaps"]
     if not gaps:
         raise InputError("the dispersion has no complete gap", input_name="result", expected="a gap",

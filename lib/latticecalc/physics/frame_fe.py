@@ -23,6 +23,18 @@ the interface: static constraint modes plus the lowest fixed–fixed modes of th
 which :mod:`latticecalc.physics.bloch` and :mod:`latticecalc.physics.panel` use to keep the
 Bloch and frequency-response problems small.  Craig, R. R. & Bampton, M. C. C., "Coupling of
 substructures for dynamic analyses", *AIAA J.* 6 (1968) 1313–1319.
+
+Rigid node zones (``end_zones``, or ``node_zones="rigid"`` where a cell is meshed): where stocky
+struts meet, each strut's end is buried in its neighbours over a length l_r.  That length is taken
+rigid: the flexible elements run between the zones' ends, each zone end follows its joint as a
+rigid body, u_end = u_joint + θ_joint × r with r the joint-to-zone-end vector (the rigid end
+offset of frame analysis, common practice), and the zone's mass, ρ A l_r with its rotary inertia
+about the joint, moves with the joint as a rigid body.  The strut's total mass is unchanged.  The
+zone length at a node is the longest length over which another strut meeting there stands out of
+the strut's surface, so that its section is enlarged (:func:`node_zone_lengths`): for struts of
+radii r_i, r_j at an angle θ between their axes, l_r = (r_j + r_i cos θ) / sin θ, where the two
+surfaces part (derived from the geometry of two cylinders; r for crossing struts, √2 r for equal
+struts at the 70.5° of a bcc node, 0 for a strut continued in line).
 """
 
 from __future__ import annotations
@@ -42,6 +54,9 @@ from latticecalc.physics.beams import (
     AREA_CIRCLE,
     COWPER_1966,
     COWPER_CIRCLE,
+    NODE_ZONE_CYLINDER,
+    NODE_ZONE_SOURCE,
+    NODE_ZONE_SPHERE,
     SECOND_MOMENT_CIRCLE,
     SECTION_SOURCE,
     SHEAR_MODULUS,
@@ -60,6 +75,17 @@ PRZEMIENIECKI_1968 = Source(author="Przemieniecki, J. S.", title="Theory of Matr
 CRAIG_BAMPTON_1968 = Source(author="Craig, R. R. & Bampton, M. C. C.",
                             title="Coupling of substructures for dynamic analyses, AIAA J. 6, 1313-1319",
                             year=1968)
+RIGID_OFFSET = Source(author="common practice", title="rigid end offsets of frame members: a member end "
+                      "follows its joint as a rigid body, u_end = u_joint + θ_joint × r; the offset's mass is a "
+                      "rigid body on the joint", tag="common practice")
+
+#: Models of the node region: ``"none"`` (struts node to node) or ``"rigid"`` (rigid end zones).
+NODE_ZONES = ("none", "rigid")
+#: Strut groups given rigid node zones: the soft lattice struts.  A frame member is far stiffer than
+#: the node material around it, so the node does not stiffen it.
+ZONE_GROUPS = ("lattice",)
+#: Zones covering more than this share of a strut (both ends together) are refused: no beam is left.
+MAX_ZONE_SHARE = 0.8
 
 _GAUSS_X, _GAUSS_W = np.polynomial.legendre.leggauss(4)
 _XI = 0.5 * (_GAUSS_X + 1.0)          # Gauss points on [0, 1]
@@ -368,6 +394,298 @@ def _transform(lam: np.ndarray, n_nodes: int = 2) -> np.ndarray:
 
 
 # --------------------------------------------------------------------------------------------
+# rigid node zones
+# --------------------------------------------------------------------------------------------
+def check_node_zones(node_zones: Any) -> str:
+    """Validate a node-zone model name (one of :data:`NODE_ZONES`)."""
+    if node_zones not in NODE_ZONES:
+        raise InputError("unknown model of the node region", input_name="node_zones",
+                         expected=" or ".join(map(repr, NODE_ZONES)), got=repr(node_zones))
+    return node_zones
+
+
+def _skew(r: np.ndarray) -> np.ndarray:
+    """[r]× of (..., 3) vectors: [r]× b = r × b, shape (..., 3, 3)."""
+    r = np.asarray(r, float)
+    out = np.zeros(r.shape[:-1] + (3, 3))
+    out[..., 0, 1], out[..., 0, 2] = -r[..., 2], r[..., 1]
+    out[..., 1, 0], out[..., 1, 2] = r[..., 2], -r[..., 0]
+    out[..., 2, 0], out[..., 2, 1] = -r[..., 1], r[..., 0]
+    return out
+
+
+def rigid_offset_matrix(offset1: np.ndarray, offset2: np.ndarray) -> np.ndarray:
+    """H (n, 12, 12) with [u_end; θ_end] = H [u_joint; θ_joint] at both ends of n members.
+
+    ``offset1``, ``offset2`` (n, 3): the vector from each joint to the member's (flexible) end, in
+    the axes the DOFs are given in.  u_end = u_joint + θ_joint × r = u_joint − [r]× θ_joint.
+    """
+    o1 = np.atleast_2d(np.asarray(offset1, float))
+    o2 = np.atleast_2d(np.asarray(offset2, float))
+    H = np.broadcast_to(np.eye(12), (o1.shape[0], 12, 12)).copy()
+    H[:, 0:3, 3:6] = -_skew(o1)
+    H[:, 6:9, 9:12] = -_skew(o2)
+    return H
+
+
+def zone_mass_local(length: float, section: Section, theory: str, *, sign: float = 1.0) -> np.ndarray:
+    """6 × 6 rigid-body mass, about the joint, of a zone of ``length`` m along local ±x (``sign``).
+
+    Mass m = ρ A l, first moment S = m l/2 (±x), inertia about the joint: ρ J l about x and
+    ρ A l³/3 (+ ρ I l, the section's rotary inertia, for Timoshenko) about y and z, so that
+    M = [[m 1, −[S]×], [[S]×, J_O]] (the kinetic energy of a rigid body moving with the joint).
+    """
+    sec = section
+    m = sec.rho * sec.A * length
+    S = np.array([sign * m * length / 2.0, 0.0, 0.0])
+    rot = theory == "timoshenko"
+    i_z = sec.I
+    i_y = sec.I if sec.I2 is None else sec.I2
+    J = np.diag([sec.rho * sec.J * length,
+                 sec.rho * sec.A * length**3 / 3.0 + (sec.rho * i_y * length if rot else 0.0),
+                 sec.rho * sec.A * length**3 / 3.0 + (sec.rho * i_z * length if rot else 0.0)])
+    M = np.zeros((6, 6))
+    M[:3, :3] = m * np.eye(3)
+    M[:3, 3:] = -_skew(S)
+    M[3:, :3] = _skew(S)
+    M[3:, 3:] = J
+    return M
+
+
+def check_end_zones(end_zones: Any, *, nodes: np.ndarray, struts: np.ndarray) -> np.ndarray | None:
+    """``end_zones`` as an (n_struts, 2) array of zone lengths (m) at each strut end, or None.
+
+    None, or all zeros, is no zone.  Raises ModelError where the zones of a strut leave less than
+    1 − :data:`MAX_ZONE_SHARE` of it flexible.
+    """
+    if end_zones is None:
+        return None
+    z = np.asarray(end_zones, float)
+    ns = np.asarray(struts).shape[0]
+    if z.shape != (ns, 2) or not np.all(np.isfinite(z)) or np.any(z < 0):
+        raise InputError("end zones must be two non-negative lengths (m) per strut", input_name="end_zones",
+                         expected=f"an array of shape ({ns}, 2), >= 0", got=f"shape {z.shape}")
+    if not np.any(z > 0):
+        return None
+    nodes = np.asarray(nodes, float)
+    struts = np.asarray(struts, int)
+    L = np.linalg.norm(nodes[struts[:, 1]] - nodes[struts[:, 0]], axis=1)
+    bad = np.flatnonzero(z.sum(axis=1) > MAX_ZONE_SHARE * L)
+    if bad.size:
+        s = int(bad[0])
+        raise ModelError("the rigid node zones cover most of a strut: it is no longer a beam",
+                         input_name=f"end_zones[{s}]",
+                         expected=f"zones together below {MAX_ZONE_SHARE:.0%} of the strut length",
+                         got=f"{z[s, 0] * 1e3:.4g} mm + {z[s, 1] * 1e3:.4g} mm on a {L[s] * 1e3:.4g} mm strut",
+                         hint="The struts are too stocky for a beam model of the nodes: use a solid model")
+    return z
+
+
+def periodic_images(nodes: np.ndarray, period: float) -> np.ndarray:
+    """Index of a representative for each node, nodes a whole number of ``period`` apart sharing one."""
+    nodes = np.asarray(nodes, float)
+    frac = (nodes - nodes.min(axis=0)) / period
+    key = np.round(frac - np.floor(frac + 1e-7), 6) % 1.0
+    key = np.round(key, 6)
+    _, first, inverse = np.unique(key, axis=0, return_index=True, return_inverse=True)
+    return first[inverse.ravel()]
+
+
+@dataclass(frozen=True)
+class ZoneGeometry:
+    """Zone length (m) at each strut end and the strut pair that governs it.
+
+    Arrays (n_struts, 2): ``length``; ``other`` the governing strut (−1 where none), ``d_self`` and
+    ``d_other`` the two diameters (m), ``angle`` the angle between their axes (rad) and ``rule``
+    (``"cylinder"``: the two cylinders part at (r_j + r_i cos θ)/sin θ; ``"sphere"``: a thicker
+    strut's rounded end at the node reaches √(r_j² − r_i²); ``""`` no zone).
+    """
+
+    length: np.ndarray
+    other: np.ndarray
+    d_self: np.ndarray
+    d_other: np.ndarray
+    angle: np.ndarray
+    rule: np.ndarray
+
+
+def node_zone_geometry(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
+                       sections: Mapping[str, Section], zone_groups: Sequence[str] = ZONE_GROUPS,
+                       joint_master: np.ndarray | None = None) -> ZoneGeometry:
+    """Rigid zone length at both ends of every strut, from the geometry of the struts at each node.
+
+    At a node, strut i (radius r_i) is held over the length along its axis where another strut j
+    (radius r_j) meeting it there at an angle θ between their axes stands out of its surface: the
+    surfaces part at (r_j + r_i cos θ) / sin θ (r_j for crossing struts; 0 or less for a strut
+    continued in line).  A thicker strut's rounded end (a sphere of radius r_j at the node) stands
+    out up to √(r_j² − r_i²).  The zone is the longest over the other struts at the node (derived
+    from the geometry of the struts as cylinders with rounded ends, as the density model takes them).
+
+    Parameters
+    ----------
+    nodes, struts, groups:
+        Joints (m), strut node pairs and group names.
+    sections:
+        Group -> :class:`Section` (``d`` the outer diameter).
+    zone_groups:
+        Groups that get zones; the others keep none (but hold the struts they meet).
+    joint_master:
+        For a periodic cell: the joint each joint is an image of; the struts at all images of a node
+        meet there.  None: every joint is its own.
+    """
+    return _zone_geometry(nodes, struts, groups, {g: sections[g].d for g in set(groups)}, zone_groups, joint_master)
+
+
+def _zone_geometry(nodes, struts, groups, diameters: Mapping[str, float], zone_groups, joint_master) -> ZoneGeometry:
+    nodes = np.asarray(nodes, float)
+    struts = np.asarray(struts, int)
+    ns = struts.shape[0]
+    master = np.arange(len(nodes)) if joint_master is None else np.asarray(joint_master, int)
+    vec = nodes[struts[:, 1]] - nodes[struts[:, 0]]
+    e = vec / np.linalg.norm(vec, axis=1)[:, None]
+    d = np.array([diameters[g] for g in groups], float)
+    # entries: (strut, end); direction pointing from the node into the strut
+    ent_node = master[struts].ravel()                       # (2 ns,) order: s0e0, s0e1, s1e0, ...
+    ent_dir = np.stack([e, -e], axis=1).reshape(-1, 3)
+    ent_strut = np.repeat(np.arange(ns), 2)
+    zone = np.array([g in zone_groups for g in groups])
+    length = np.zeros(2 * ns)
+    other = -np.ones(2 * ns, int)
+    angle = np.zeros(2 * ns)
+    rule = np.array([""] * (2 * ns), dtype=object)
+    order = np.argsort(ent_node, kind="stable")
+    bounds = np.flatnonzero(np.diff(ent_node[order])) + 1
+    for members in np.split(order, bounds):
+        if members.size < 2:
+            continue
+        for i in members:
+            if not zone[ent_strut[i]]:
+                continue
+            js = members[members != i]
+            c = np.clip(ent_dir[js] @ ent_dir[i], -1.0, 1.0)
+            sn = np.sqrt(1.0 - c**2)
+            ri, rj = d[ent_strut[i]] / 2.0, d[ent_strut[js]] / 2.0
+            # in line (sin θ = 0): a strut continued through the node, or a periodic copy of the same
+            # strut: no hold
+            with np.errstate(divide="ignore", invalid="ignore"):
+                cyl = np.where(sn > 1e-6, (rj + ri * c) / np.where(sn > 1e-6, sn, 1.0), 0.0)
+            sph = np.sqrt(np.clip(rj**2 - ri**2, 0.0, None))
+            cand = np.maximum(cyl, sph)
+            k = int(np.argmax(cand))
+            if cand[k] > 0:
+                length[i] = cand[k]
+                other[i] = ent_strut[js[k]]
+                angle[i] = float(np.arccos(c[k]))
+                rule[i] = "cylinder" if cyl[k] >= sph[k] else "sphere"
+    dd = d[np.maximum(other, 0)]
+    return ZoneGeometry(length=length.reshape(ns, 2), other=other.reshape(ns, 2),
+                        d_self=np.repeat(d, 2).reshape(ns, 2), d_other=np.where(other >= 0, dd, 0.0).reshape(ns, 2),
+                        angle=angle.reshape(ns, 2), rule=rule.reshape(ns, 2))
+
+
+def node_zone_lengths(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
+                      sections: Mapping[str, Section], zone_groups: Sequence[str] = ZONE_GROUPS,
+                      joint_master: np.ndarray | None = None) -> np.ndarray:
+    """Zone length (m) at both ends of every strut, (n_struts, 2); see :func:`node_zone_geometry`."""
+    return node_zone_geometry(nodes=nodes, struts=struts, groups=groups, sections=sections,
+                              zone_groups=zone_groups, joint_master=joint_master).length
+
+
+def end_zones_for(node_zones: str, *, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
+                  sections: Mapping[str, Section], joint_master: np.ndarray | None = None) -> np.ndarray | None:
+    """The ``end_zones`` array of a node-zone model: None for ``"none"``, the node geometry for ``"rigid"``."""
+    if check_node_zones(node_zones) == "none":
+        return None
+    z = node_zone_lengths(nodes=nodes, struts=struts, groups=groups, sections=sections, joint_master=joint_master)
+    return check_end_zones(z, nodes=nodes, struts=struts)
+
+
+@dataclass(frozen=True, kw_only=True)
+class NodeZones(CalcResult):
+    """Result of :func:`cell_node_zones`; ``value``: zone lengths (l₁, l₂) at the ends of the strut shown [mm].
+
+    ``strut`` is that strut (the longest of the group, the least held of those), ``length`` its
+    node-to-node length; ``lengths`` (n_struts, 2) [mm] the zones of every strut of the cell.
+    """
+
+    strut: int
+    length: Any
+    lengths: Any
+    geometry: ZoneGeometry
+
+
+def cell_node_zones(cell: Any, *, group: str = "lattice", periodic: bool = True,
+                    id_prefix: str = "strut.node-zone") -> NodeZones:
+    """Rigid node-zone lengths of ``cell``'s struts, with the steps for its longest strut of ``group``.
+
+    Parameters
+    ----------
+    cell:
+        A cell (``.nodes`` [length], ``.struts``, ``.groups``, ``.diameters``, ``.cell_width``).
+    group:
+        The strut group given zones and shown (the resonating lattice struts).
+    periodic:
+        True: the cell in its infinite lattice, so the struts of the neighbouring cells meeting at a
+        node on the cell's faces count (nodes a cell width apart are one node); False: the cell's
+        own joints only.
+    id_prefix:
+        Prefix of the step ids.
+
+    Returns
+    -------
+    NodeZones
+        Zone lengths at both ends of the longest strut of ``group`` (of several equally long, the
+        one with the longest flexible length), each shown as the evaluated rule for the strut that
+        holds it longest.
+    """
+    nodes, struts, groups = cell_geometry(cell)
+    if group not in groups:
+        raise InputError("no such strut group in the cell", input_name="group",
+                         expected=" or ".join(map(repr, sorted(set(groups)))), got=repr(group))
+    diameters = {}
+    for g in set(groups):
+        d_q = check_positive(check_dimension(cell.diameters[g], name=f"diameters[{g!r}]", expected="length"),
+                             name=f"diameters[{g!r}]")
+        diameters[g] = float(d_q.to("m").magnitude)
+    master = None
+    if periodic:
+        width = float(cell.cell_width.to("m").magnitude) if hasattr(cell, "cell_width") else float(np.ptp(nodes))
+        master = periodic_images(nodes, width)
+    geo = _zone_geometry(nodes, struts, groups, diameters, (group,), master)
+    L = np.linalg.norm(nodes[struts[:, 1]] - nodes[struts[:, 0]], axis=1)
+    mine = np.flatnonzero(np.array(groups) == group)
+    longest = mine[L[mine] >= L[mine].max() * (1 - 1e-9)]
+    s = int(longest[np.argmin(geo.length[longest].sum(axis=1))])
+    check_end_zones(geo.length, nodes=nodes, struts=struts)
+    steps = []
+    ends = (0, 1) if abs(geo.length[s, 0] - geo.length[s, 1]) > 1e-9 * L[s] else (0,)
+    for end in ends:
+        where = "at each end" if len(ends) == 1 else f"at end {end + 1} (node {struts[s, end]})"
+        sid = f"{id_prefix}.length" if len(ends) == 1 else f"{id_prefix}.length-end{end + 1}"
+        rule = geo.rule[s, end]
+        di = Q_(geo.d_self[s, end] * 1e3, "mm")
+        dj = Q_(geo.d_other[s, end] * 1e3, "mm")
+        o = int(geo.other[s, end])
+        held = f"held by a {groups[o]} strut" if o >= 0 else "no other strut at the node"
+        if rule == "cylinder":
+            steps.append(evaluate(NODE_ZONE_CYLINDER, id=sid, unit="mm", source=NODE_ZONE_SOURCE,
+                                  description=f"Rigid node zone of the longest {group} strut {where}: "
+                                  f"{held} at θ = {np.degrees(geo.angle[s, end]):.4g}°",
+                                  values={"d_i": di, "d_j": dj, "theta": Q_(np.degrees(geo.angle[s, end]), "degree")}))
+        elif rule == "sphere":
+            steps.append(evaluate(NODE_ZONE_SPHERE, id=sid, unit="mm", source=NODE_ZONE_SOURCE,
+                                  description=f"Rigid node zone of the longest {group} strut {where}: inside "
+                                  "the rounded end of a thicker strut", values={"d_i": di, "d_j": dj}))
+        else:
+            steps.append(quantity_step(id=sid, description=f"Rigid node zone of the longest {group} strut {where}",
+                                       value=Q_(0.0, "mm"), unit="mm", method=held, source=NODE_ZONE_SOURCE))
+    value = Q_(geo.length[s] * 1e3, "mm")
+    return NodeZones(value=value, steps=tuple(steps), strut=s, length=Q_(L[s] * 1e3, "mm"),
+                     lengths=Q_(geo.length * 1e3, "mm"), geometry=geo,
+                     title=f"Rigid node zones of the {group} struts")
+
+
+# --------------------------------------------------------------------------------------------
 # mesh
 # --------------------------------------------------------------------------------------------
 @dataclass(frozen=True)
@@ -375,7 +693,9 @@ class FrameMesh:
     """A strut frame divided into elements (SI floats).
 
     ``nodes[:n_joints]`` are the joints (the cell's own nodes); the rest are the interior nodes
-    of the struts, ``n_elements - 1`` per strut in strut order.
+    of the struts, ``n_elements - 1`` per strut in strut order.  With ``end_zones`` the interior
+    nodes divide the flexible length between the zones, and the first and last element of a strut
+    reach their joint through a rigid offset.
     """
 
     nodes: np.ndarray
@@ -385,6 +705,8 @@ class FrameMesh:
     n_elements: int
     elements: np.ndarray = field(repr=False)
     element_strut: np.ndarray = field(repr=False)
+    #: Rigid zone length (m) at both ends of each strut, (n_struts, 2), or None (no zones).
+    end_zones: np.ndarray | None = field(default=None, repr=False)
 
     @property
     def n_dofs(self) -> int:
@@ -440,14 +762,23 @@ def cell_geometry(cell: Any) -> tuple[np.ndarray, np.ndarray, tuple[str, ...]]:
     return nodes, struts.astype(int), groups
 
 
-def mesh_frame(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str], n_elements: int) -> FrameMesh:
-    """Divide every strut into ``n_elements`` equal elements (plain arrays, metres)."""
+def mesh_frame(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str], n_elements: int,
+               end_zones: np.ndarray | None = None) -> FrameMesh:
+    """Divide every strut into ``n_elements`` equal elements (plain arrays, metres).
+
+    ``end_zones`` (n_struts, 2), m: rigid zone lengths at the strut ends (see :func:`node_zone_lengths`);
+    the elements then divide the flexible length between them.
+    """
     n = check_n_elements(n_elements)
     nodes = np.asarray(nodes, float)
     struts = np.asarray(struts, int)
+    zones = check_end_zones(end_zones, nodes=nodes, struts=struts)
     n0, ns = nodes.shape[0], struts.shape[0]
     t = np.arange(1, n) / n
     p1, p2 = nodes[struts[:, 0]], nodes[struts[:, 1]]
+    if zones is not None:
+        ex = (p2 - p1) / np.linalg.norm(p2 - p1, axis=1)[:, None]
+        p1, p2 = p1 + zones[:, :1] * ex, p2 - zones[:, 1:] * ex
     inner = (p1[:, None, :] + (p2 - p1)[:, None, :] * t[None, :, None]).reshape(-1, 3)
     all_nodes = np.vstack([nodes, inner])
     chain = np.empty((ns, n + 1), int)
@@ -457,7 +788,7 @@ def mesh_frame(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str], 
     elements = np.stack([chain[:, :-1], chain[:, 1:]], axis=-1).reshape(-1, 2)
     element_strut = np.repeat(np.arange(ns), n)
     return FrameMesh(nodes=all_nodes, n_joints=n0, struts=struts, strut_groups=tuple(groups),
-                     n_elements=n, elements=elements, element_strut=element_strut)
+                     n_elements=n, elements=elements, element_strut=element_strut, end_zones=zones)
 
 
 # --------------------------------------------------------------------------------------------
@@ -481,17 +812,73 @@ class Assembled:
         return out.tocsr()
 
 
+def _element_offsets(mesh: FrameMesh) -> tuple[np.ndarray, np.ndarray]:
+    """Vectors (ne, 3) from each element's nodes to its flexible ends: the rigid zones at the joints."""
+    ne = mesh.elements.shape[0]
+    o1, o2 = np.zeros((ne, 3)), np.zeros((ne, 3))
+    z = mesh.end_zones
+    if z is None:
+        return o1, o2
+    joints = mesh.nodes[:mesh.n_joints]
+    d = joints[mesh.struts[:, 1]] - joints[mesh.struts[:, 0]]
+    ex = d / np.linalg.norm(d, axis=1)[:, None]
+    n = mesh.n_elements
+    first = np.arange(mesh.struts.shape[0]) * n
+    last = first + n - 1
+    o1[first] = z[:, :1] * ex
+    o2[last] = -z[:, 1:] * ex
+    return o1, o2
+
+
 def global_element_matrices(mesh: FrameMesh, sections: Mapping[str, Section], theory: str):
-    """Element stiffness and mass in global axes, (ne, 12, 12), and the element groups."""
+    """Element stiffness and mass in global axes, (ne, 12, 12), and the element groups.
+
+    With rigid node zones the first and last element of a strut are joined to their joint through
+    the rigid offset (:func:`rigid_offset_matrix`): K ← Hᵀ K H, M ← Hᵀ M H.
+    """
     el = mesh.elements
     p1, p2 = mesh.nodes[el[:, 0]], mesh.nodes[el[:, 1]]
+    if mesh.end_zones is not None:
+        o1, o2 = _element_offsets(mesh)
+        p1, p2 = p1 + o1, p2 + o2
     L = np.linalg.norm(p2 - p1, axis=1)
     egroups = [mesh.strut_groups[s] for s in mesh.element_strut]
     Kl, Ml = local_element_matrices(L, [sections[g] for g in egroups], theory)
     T = _transform(rotations(p1, p2))
     K = np.einsum("eki,ekl,elj->eij", T, Kl, T)
     M = np.einsum("eki,ekl,elj->eij", T, Ml, T)
+    if mesh.end_zones is not None:
+        H = rigid_offset_matrix(o1, o2)
+        K = np.einsum("eki,ekl,elj->eij", H, K, H)
+        M = np.einsum("eki,ekl,elj->eij", H, M, H)
     return K, M, np.array(egroups)
+
+
+def zone_mass_matrix(mesh: FrameMesh, sections: Mapping[str, Section], theory: str,
+                     group: str | None = None) -> sp.csr_matrix:
+    """Rigid-body mass of the node zones (of one strut group, or all), on the joints' DOFs of ``mesh``."""
+    n = mesh.n_dofs
+    z = mesh.end_zones
+    if z is None:
+        return sp.csr_matrix((n, n))
+    joints = mesh.nodes[:mesh.n_joints]
+    lam = rotations(joints[mesh.struts[:, 0]], joints[mesh.struts[:, 1]])
+    rows, cols, vals = [], [], []
+    for s, g in enumerate(mesh.strut_groups):
+        if group is not None and g != group:
+            continue
+        for end, sign in ((0, 1.0), (1, -1.0)):
+            if z[s, end] <= 0:
+                continue
+            T6 = _transform(lam[s:s + 1], n_nodes=1)[0]
+            Mg = T6.T @ zone_mass_local(z[s, end], sections[g], theory, sign=sign) @ T6
+            dofs = 6 * mesh.struts[s, end] + np.arange(6)
+            rows.append(np.repeat(dofs, 6))
+            cols.append(np.tile(dofs, 6))
+            vals.append(Mg.ravel())
+    if not vals:
+        return sp.csr_matrix((n, n))
+    return sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))), shape=(n, n))
 
 
 def _element_dofs(elements: np.ndarray) -> np.ndarray:
@@ -499,7 +886,10 @@ def _element_dofs(elements: np.ndarray) -> np.ndarray:
 
 
 def assemble(mesh: FrameMesh, sections: Mapping[str, Section], *, theory: str = "timoshenko") -> Assembled:
-    """Assemble the sparse stiffness and consistent mass matrices of ``mesh``."""
+    """Assemble the sparse stiffness and consistent mass matrices of ``mesh``.
+
+    The rigid node zones of ``mesh.end_zones`` (if any) add their rigid-body mass on the joints.
+    """
     K, M, egroups = global_element_matrices(mesh, sections, theory)
     dofs = _element_dofs(mesh.elements)
     rows = np.repeat(dofs, 12, axis=1)
@@ -510,6 +900,8 @@ def assemble(mesh: FrameMesh, sections: Mapping[str, Section], *, theory: str = 
         sel = egroups == g
         Kg[g] = sp.csr_matrix((K[sel].ravel(), (rows[sel].ravel(), cols[sel].ravel())), shape=(n, n))
         Mg[g] = sp.csr_matrix((M[sel].ravel(), (rows[sel].ravel(), cols[sel].ravel())), shape=(n, n))
+        if mesh.end_zones is not None:
+            Mg[g] = (Mg[g] + zone_mass_matrix(mesh, sections, theory, group=g)).tocsr()
     return Assembled(K=sum(Kg.values()).tocsr(), M=sum(Mg.values()).tocsr(), K_by_group=Kg, M_by_group=Mg)
 
 
@@ -588,21 +980,30 @@ def _check_theory(theory: str) -> str:
 
 
 def build_frame(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
-                sections: Mapping[str, Section], n_elements: int, theory: str = "timoshenko") -> FrameModel:
-    """Mesh and assemble a frame from plain arrays (metres) and :class:`Section` objects."""
-    mesh = mesh_frame(nodes=nodes, struts=struts, groups=groups, n_elements=n_elements)
+                sections: Mapping[str, Section], n_elements: int, theory: str = "timoshenko",
+                end_zones: np.ndarray | None = None) -> FrameModel:
+    """Mesh and assemble a frame from plain arrays (metres) and :class:`Section` objects.
+
+    ``end_zones`` (n_struts, 2), m: rigid node zones at the strut ends (None: none).
+    """
+    mesh = mesh_frame(nodes=nodes, struts=struts, groups=groups, n_elements=n_elements, end_zones=end_zones)
     return FrameModel(mesh=mesh, sections=dict(sections), matrices=assemble(mesh, sections, theory=theory),
                       theory=_check_theory(theory))
 
 
 def frame_model(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8,
-                theory: str = "timoshenko") -> FrameModel:
-    """Mesh and assemble ``cell`` (duck-typed: ``.nodes``, ``.struts``, ``.groups``, ``.diameters``)."""
+                theory: str = "timoshenko", node_zones: str = "none") -> FrameModel:
+    """Mesh and assemble ``cell`` (duck-typed: ``.nodes``, ``.struts``, ``.groups``, ``.diameters``).
+
+    ``node_zones="rigid"`` gives the lattice struts rigid zones at the nodes of the free-standing
+    frame (:func:`node_zone_lengths` on the cell's own joints).
+    """
     _check_theory(theory)
     nodes, struts, groups = cell_geometry(cell)
     sections = sections_for(cell, materials)
+    zones = end_zones_for(node_zones, nodes=nodes, struts=struts, groups=groups, sections=sections)
     return build_frame(nodes=nodes, struts=struts, groups=groups, sections=sections,
-                       n_elements=n_elements, theory=theory)
+                       n_elements=n_elements, theory=theory, end_zones=zones)
 
 
 def _free_dofs(model: FrameModel, fixed: Sequence[int]) -> np.ndarray:
@@ -628,7 +1029,8 @@ class FrameModes(CalcResult):
 
 
 def frame_modes(cell: Any, *, materials: Mapping[str, Any], fixed: Sequence[int] = (), n_elements: int = 8,
-                n_modes: int = 10, theory: str = "timoshenko", id_prefix: str = "frame") -> FrameModes:
+                n_modes: int = 10, theory: str = "timoshenko", id_prefix: str = "frame",
+                node_zones: str = "none") -> FrameModes:
     """Natural frequencies of ``cell`` taken as a free-standing frame (no periodicity).
 
     Parameters
@@ -649,6 +1051,9 @@ def frame_modes(cell: Any, *, materials: Mapping[str, Any], fixed: Sequence[int]
         ``"timoshenko"`` (shear deformation and rotary inertia) or ``"euler-bernoulli"``.
     id_prefix:
         Prefix of the step ids.
+    node_zones:
+        ``"none"`` (struts node to node) or ``"rigid"`` (rigid zones at the nodes of the lattice
+        struts, see :func:`node_zone_lengths`).
 
     Returns
     -------
@@ -659,7 +1064,7 @@ def frame_modes(cell: Any, *, materials: Mapping[str, Any], fixed: Sequence[int]
     if isinstance(n_modes, bool) or not isinstance(n_modes, (int, np.integer)) or n_modes < 1:
         raise InputError("number of modes must be a whole number >= 1", input_name="n_modes",
                          expected="an integer >= 1", got=repr(n_modes))
-    model = frame_model(cell, materials=materials, n_elements=n_elements, theory=theory)
+    model = frame_model(cell, materials=materials, n_elements=n_elements, theory=theory, node_zones=node_zones)
     free = _free_dofs(model, fixed)
     K = model.matrices.K[free][:, free]
     M = model.matrices.M[free][:, free]
@@ -671,7 +1076,9 @@ def frame_modes(cell: Any, *, materials: Mapping[str, Any], fixed: Sequence[int]
     steps = (
         quantity_step(id=f"{id_prefix}.dofs", description="Degrees of freedom of the frame model",
                       value=Q_(len(free), ""), method=f"{n_elements} {theory} beam elements per strut, "
-                      "6 DOF per node, fixed and unconnected nodes removed", source=REDDY_1997, sig=6),
+                      "6 DOF per node, fixed and unconnected nodes removed"
+                      + ("; rigid node zones on the lattice struts" if node_zones == "rigid" else ""),
+                      source=REDDY_1997, sig=6),
         quantity_step(id=f"{id_prefix}.f-lowest", description="Lowest non-zero natural frequency",
                       value=f[f.magnitude > 1e-6 * max(f.magnitude.max(), 1e-300)][:1].sum()
                       if np.any(f.magnitude > 0) else Q_(0.0, "Hz"),
@@ -784,26 +1191,33 @@ def point_mass_matrix(mesh: FrameMesh, point_masses: Mapping[str, Any] | None) -
 
 def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
                   sections: Mapping[str, Section], n_elements: int, n_modes: int,
-                  theory: str = "timoshenko", point_masses: Mapping[str, Any] | None = None) -> StrutReduction:
+                  theory: str = "timoshenko", point_masses: Mapping[str, Any] | None = None,
+                  end_zones: np.ndarray | None = None) -> StrutReduction:
     """Reduce every strut to its end nodes and ``n_modes`` fixed-interface modes.
 
     Struts of equal length and group share one reduction in local axes, rotated to each strut.
     ``n_modes`` is capped at the strut's interior DOFs (6 (n − 1)); with all of them kept the
     reduction is exact.  ``point_masses`` ({group: (mass kg, rotary inertia kg·m²)}) puts a lumped
-    mass on the middle node of every strut of that group.
+    mass on the middle node of every strut of that group.  ``end_zones`` (n_struts, 2), m: rigid
+    node zones; the flexible length between them is meshed and reduced, its end DOFs are tied to
+    the joints by the rigid offsets (K_bb ← Hᵀ K_bb H, C ← C H, ψ ← ψ H) and each zone's rigid-body
+    mass is added on its joint.
     """
     n = check_n_elements(n_elements)
     pm = check_point_masses(point_masses, n)
     nodes = np.asarray(nodes, float)
     struts = np.asarray(struts, int)
+    zones = check_end_zones(end_zones, nodes=nodes, struts=struts)
     p1, p2 = nodes[struts[:, 0]], nodes[struts[:, 1]]
     L = np.linalg.norm(p2 - p1, axis=1)
     ni = 6 * (n - 1)
     m = int(min(max(n_modes, 0), ni))
     ns = struts.shape[0]
     keys: dict[tuple, list[int]] = {}
+    scale = max(L.max(), 1e-300)
     for s in range(ns):
-        keys.setdefault((round(L[s] / max(L.max(), 1e-300), 10), groups[s]), []).append(s)
+        zkey = () if zones is None else (round(zones[s, 0] / scale, 10), round(zones[s, 1] / scale, 10))
+        keys.setdefault((round(L[s] / scale, 10), groups[s], *zkey), []).append(s)
     Kbb_l = np.zeros((ns, 12, 12))
     Mbb_l = np.zeros((ns, 12, 12))
     C_l = np.zeros((ns, m, 12))
@@ -812,9 +1226,10 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
     phi_l = np.zeros((ns, ni, m))
     bnd = np.r_[0:6, 6 * n:6 * n + 6]
     inn = np.arange(6, 6 * n)
-    for (_, g), members in keys.items():
+    for (_, g, *_z), members in keys.items():
         s0 = members[0]
-        Le = L[s0] / n
+        z1, z2 = (0.0, 0.0) if zones is None else (zones[s0, 0], zones[s0, 1])
+        Le = (L[s0] - z1 - z2) / n
         Ke, Me = local_element_matrices(np.full(n, Le), [sections[g]] * n, theory)
         N = 6 * (n + 1)
         Ks = np.zeros((N, N))
@@ -843,6 +1258,17 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
         Kbb = Tb.T @ Ko @ Tb
         Mbb = Tb.T @ Mo @ Tb
         C = phi.T @ (Mo[12:, :12] + Mo[12:, 12:] @ psi) if n > 1 else np.zeros((0, 12))
+        if z1 > 0 or z2 > 0:
+            # the flexible ends are z1, z2 inside the joints along local x: rigid offsets and zone masses
+            H = rigid_offset_matrix([[z1, 0.0, 0.0]], [[-z2, 0.0, 0.0]])[0]
+            Kbb = H.T @ Kbb @ H
+            Mbb = H.T @ Mbb @ H
+            for end, zl, sign in ((0, z1, 1.0), (1, z2, -1.0)):
+                if zl > 0:
+                    Mbb[6 * end:6 * end + 6, 6 * end:6 * end + 6] += zone_mass_local(zl, sections[g], theory,
+                                                                                     sign=sign)
+            C = C @ H
+            psi = psi @ H
         idx = np.asarray(members)
         Kbb_l[idx] = 0.5 * (Kbb + Kbb.T)
         Mbb_l[idx] = 0.5 * (Mbb + Mbb.T)

@@ -112,9 +112,11 @@ class _ReducedPanel:
     """Joint-level dynamic stiffness of the strut-reduced panel, one sparse solve per frequency."""
 
     def __init__(self, pan: PanelFrame, sections: Mapping[str, fe.Section], *, n_elements: int,
-                 strut_modes: int, theory: str, direction: int, point_masses: Mapping[str, Any] | None = None) -> None:
+                 strut_modes: int, theory: str, direction: int, point_masses: Mapping[str, Any] | None = None,
+                 end_zones: np.ndarray | None = None) -> None:
         red = fe.reduce_struts(nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
-                               n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses)
+                               n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses,
+                               end_zones=end_zones)
         self.red = red
         eta = np.array([sections[g].eta for g in pan.groups])
         self.factor = 1.0 + 1j * eta
@@ -192,10 +194,11 @@ def symmetric_solve(A, b):
 
 
 def _full_response(pan: PanelFrame, sections, *, n_elements: int, theory: str, direction: int,
-                   omegas: Sequence[float], point_masses: Mapping[str, Any] | None = None) -> np.ndarray:
+                   omegas: Sequence[float], point_masses: Mapping[str, Any] | None = None,
+                   end_zones: np.ndarray | None = None) -> np.ndarray:
     """Transmissibility of the full (unreduced) mesh by direct sparse solves at ``omegas``."""
     model = fe.build_frame(nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
-                           n_elements=n_elements, theory=theory)
+                           n_elements=n_elements, theory=theory, end_zones=end_zones)
     Kc = model.matrices.damped_stiffness(sections)
     M = model.matrices.M
     if point_masses:
@@ -282,7 +285,7 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
                      n_frequencies: int = 500, direction: str = "vertical", strut_modes: int = 8,
                      threshold_db: float = 10.0, check_points: int = 3, gap: tuple | None = None,
                      theory: str = "timoshenko", cache: Any = None, progress: Any = None,
-                     id_prefix: str = "panel") -> Transmissibility:
+                     id_prefix: str = "panel", node_zones: str = "none") -> Transmissibility:
     """Transmissibility of an ``nx`` × ``ny`` panel of ``cell`` under imposed base displacement.
 
     Parameters
@@ -319,6 +322,9 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
         As for :func:`latticecalc.physics.bloch.dispersion`.
     id_prefix:
         Prefix of the step ids.
+    node_zones:
+        ``"none"`` or ``"rigid"`` (rigid zones at the ends of the lattice struts, from the panel's own
+        node geometry: see :func:`latticecalc.physics.frame_fe.node_zone_lengths`).
 
     Returns
     -------
@@ -333,10 +339,11 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     pan = panel_frame(cell, nx=nx, ny=ny)
     n_check = int(check_points)
     pm = fe.check_point_masses(fe.cell_point_masses(cell), n)
+    zones = fe.end_zones_for(node_zones, nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections)
 
     def compute():
         rp = _ReducedPanel(pan, sections, n_elements=n, strut_modes=strut_modes, theory=theory, direction=d,
-                           point_masses=pm)
+                           point_masses=pm, end_zones=zones)
         T = np.zeros(freqs.size)
         with single_thread():
             for i in progress_iter(range(freqs.size), progress=progress, desc=f"panel {pan.nx}×{pan.ny}"):
@@ -348,10 +355,11 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
             idx = np.unique(np.linspace(0, freqs.size - 1, n_check + 2).round().astype(int)[1:-1])
             out["check_idx"] = idx
             out["check_full"] = _full_response(pan, sections, n_elements=n, theory=theory, direction=d, point_masses=pm,
-                                               omegas=2 * np.pi * freqs[idx])
+                                               omegas=2 * np.pi * freqs[idx], end_zones=zones)
         return out
 
-    key = fingerprint("panel-v1", _cell_key(cell, materials), nx, ny, n, freqs, d, strut_modes, n_check, theory)
+    key = fingerprint("panel-v1", _cell_key(cell, materials), nx, ny, n, freqs, d, strut_modes, n_check, theory,
+                      *((("node-zones", node_zones),) if node_zones != "none" else ()))
     data = cached_arrays(cache, key, compute)
     T = data["T"]
     level = LEVEL_DB.evaluate({"T": Q_(np.maximum(T, 1e-300), "")}).to("").magnitude
@@ -359,7 +367,8 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
         check_dimension(g, name="gap", expected="frequency").to("Hz").magnitude for g in gap)
     band = attenuation_band(freqs, level, threshold_db=threshold_db, near=near)
     method = (f"{nx} × {ny} cells, {n} {theory} elements per strut; struts reduced to end joints + "
-              f"{strut_modes} fixed-fixed modes, condensed per frequency; loss factor per material")
+              f"{strut_modes} fixed-fixed modes, condensed per frequency; loss factor per material"
+              + ("; rigid node zones on the lattice struts" if zones is not None else ""))
     steps = [
         *section_steps,
         quantity_step(id=f"{id_prefix}.dofs", description="Free degrees of freedom of the full panel mesh",

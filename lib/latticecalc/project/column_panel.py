@@ -143,11 +143,16 @@ def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDe
 
 
 def bloch_options(project: Project, design: PanelDesign) -> dict[str, Any]:
-    """Options of the Bloch-wave dispersion, the same in every section so the cache serves them all."""
+    """Options of the Bloch-wave dispersion, the same in every section so the cache serves them all.
+
+    ``node_zones`` is ``lattice.node_zones``, or the template's default where the project does not set it.
+    """
     inp = project.inputs
+    spec = next((s for s in project.template.inputs if s.name == "lattice.node_zones"), None)
+    node_zones = inp.get("lattice.node_zones", spec.default if spec is not None else "none")
     return dict(materials=design.materials, n_elements=inp["fe.elements_per_strut"], n_bands=inp["fe.bands"],
                 points=inp["fe.path_points"], zone_points=inp["fe.zone_points"],
-                strut_modes=inp["fe.strut_modes"], cache=project.cache_dir)
+                strut_modes=inp["fe.strut_modes"], cache=project.cache_dir, node_zones=node_zones)
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -87,11 +87,17 @@ class _StrutStub:
 
 
 def retuned_diameter(*, target: float, length: float, material: Any, mass: float, inertia: float,
-                     n_elements: int = 8, d_min: float = 1e-4, d_max: float = 0.2) -> float:
-    """Strut diameter (m) whose first FE fixed–fixed frequency with the mid-span mass is ``target`` (Hz)."""
+                     n_elements: int = 8, d_min: float = 1e-4, d_max: float = 0.2, zones_per_diameter: float = 0.0,
+                     ) -> float:
+    """Strut diameter (m) whose first FE fixed–fixed frequency with the mid-span mass is ``target`` (Hz).
+
+    ``zones_per_diameter``: the rigid node zones at both ends over the strut diameter (the zones scale
+    with the diameters of the struts meeting at the node); the bending length is then
+    ``length − zones_per_diameter × d``.
+    """
     def g(d):
-        return fe_strut_frequency(length=length, diameter=d, material=material, mass=mass, inertia=inertia,
-                                  n_elements=n_elements) - target
+        return fe_strut_frequency(length=length - zones_per_diameter * d, diameter=d, material=material, mass=mass,
+                                  inertia=inertia, n_elements=n_elements) - target
     lo, hi = g(d_min), g(d_max)
     if lo > 0 or hi < 0:
         raise InputError("no strut diameter tunes the strut with this mass to the target", input_name="target",
@@ -112,7 +118,8 @@ class MassSweep(CalcResult):
 def added_mass_sweep(cell: Any, *, materials: Mapping[str, Any], mass_material: Any, nx: int, ny: int,
                      column: rc.Column, fixings: rc.Fixings, placement: rc.Placement, direction: str,
                      peak: Any, masses: Sequence[Any], n_elements: int = 8, strut_modes: int = 4,
-                     cache: Any = None, progress: Any = None, id_prefix: str = "sweep") -> MassSweep:
+                     node_zones: str = "none", cache: Any = None, progress: Any = None,
+                     id_prefix: str = "sweep") -> MassSweep:
     """Insertion loss at ``peak`` against the mass added at mid-span of every lattice strut.
 
     Each point keeps the strut tuned to the peak: its diameter is solved so the kit's FE strut with
@@ -123,6 +130,10 @@ def added_mass_sweep(cell: Any, *, materials: Mapping[str, Any], mass_material: 
     fp = float(check_dimension(peak, name="peak", expected="frequency").to("Hz").m)
     lat = materials["lattice"]
     L = float(cell.strut_lengths.to("m").m[cell.group_mask("lattice")].max())
+    zpd = 0.0
+    if fe.check_node_zones(node_zones) == "rigid":
+        nz = fe.cell_node_zones(cell)
+        zpd = float(sum(q.to("m").m for q in nz.value)) / float(cell.diameters["lattice"].to("m").m)
     rows: dict[str, list] = {k: [] for k in ("added_mass", "diameter", "panel_mass", "mass_ratio", "insertion_loss",
                                              "estimate", "bound", "note")}
     steps = []
@@ -133,7 +144,8 @@ def added_mass_sweep(cell: Any, *, materials: Mapping[str, Any], mass_material: 
         try:
             sphere = added_mass_sphere(mass=Q_(m, "kg"), material=mass_material)
             J = float(sphere.rotary_inertia.to("kg*m^2").m)
-            d = retuned_diameter(target=fp, length=L, material=lat, mass=m, inertia=J, n_elements=n_elements)
+            d = retuned_diameter(target=fp, length=L, material=lat, mass=m, inertia=J, n_elements=n_elements,
+                                 zones_per_diameter=zpd)
             design = cell.with_diameters(lattice=Q_(d, "m")).with_point_mass("lattice", mass=Q_(m, "kg"),
                                                                              rotary_inertia=sphere.rotary_inertia)
             pm = panel_mass(design, materials=materials, cells_wide=nx, cells_high=ny, cells_deep=1,
@@ -142,7 +154,8 @@ def added_mass_sweep(cell: Any, *, materials: Mapping[str, Any], mass_material: 
                                         direction=direction, id_prefix=f"{id_prefix}.{i}")
             resp = rc.coupled_response(design, materials=materials, nx=nx, ny=ny, column=column, fixings=fixings,
                                        placement=placement, frequencies=Q_([fp], "Hz"), directions=(direction,),
-                                       n_elements=n_elements, strut_modes=strut_modes, cache=cache)
+                                       n_elements=n_elements, strut_modes=strut_modes, node_zones=node_zones,
+                                       cache=cache)
         except LatticeCalcError as exc:
             for k in ("diameter", "panel_mass", "mass_ratio", "insertion_loss", "estimate", "bound"):
                 rows[k].append(np.nan)

@@ -415,7 +415,7 @@ class _Model:
 
 def _build(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: int, column: Column, placement: Placement,
            fixings: Fixings, n_elements: int, strut_modes: int | None, theory: str, with_panels: bool,
-           column_spacing: float, point_masses: Mapping[str, Any] | None) -> _Model:
+           column_spacing: float, point_masses: Mapping[str, Any] | None, node_zones: str = "none") -> _Model:
     """Assemble column (+ panels): ``strut_modes`` None means the full strut mesh (the reference model)."""
     props = column_properties(column)
     csec = props.section
@@ -460,9 +460,10 @@ def _build(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: int, column:
     sections = fe.sections_for(cell, materials) if panels else {}
     for p in panels:
         nj = len(p.nodes)
+        zones = fe.end_zones_for(node_zones, nodes=p.nodes, struts=p.struts, groups=p.groups, sections=sections)
         if strut_modes is None:
             model = fe.build_frame(nodes=p.nodes, struts=p.struts, groups=p.groups, sections=sections,
-                                   n_elements=n_elements, theory=theory)
+                                   n_elements=n_elements, theory=theory, end_zones=zones)
             dof_map = n + np.arange(model.n_dofs)
             for g, Kg_ in model.matrices.K_by_group.items():
                 ent.sparse(dof_map, Kg_, model.matrices.M_by_group[g], sections[g].eta)
@@ -473,7 +474,7 @@ def _build(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: int, column:
         else:
             red = fe.reduce_struts(nodes=p.nodes, struts=p.struts, groups=p.groups, sections=sections,
                                    n_elements=n_elements, n_modes=strut_modes, theory=theory,
-                                   point_masses=point_masses)
+                                   point_masses=point_masses, end_zones=zones)
             eta = np.array([sections[g].eta for g in p.groups])
             sd = n + (6 * p.struts[:, :, None] + np.arange(6)).reshape(-1, 12)
             ent.blocks(sd, red.K_bb, red.M_bb, eta)
@@ -564,8 +565,8 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
                      directions: Sequence[str] = DIRECTIONS, n_elements: int = 8, strut_modes: int = 8,
                      theory: str = "timoshenko", check_frequencies: Any = None,
                      mode_counts: Sequence[int] = (1, 2, 4), column_spacing: Any = None,
-                     point_masses: Mapping[str, Any] | None = None, cache: Any = None, progress: Any = None,
-                     id_prefix: str = "receiver") -> ReceiverResponse:
+                     point_masses: Mapping[str, Any] | None = None, node_zones: str = "none", cache: Any = None,
+                     progress: Any = None, id_prefix: str = "receiver") -> ReceiverResponse:
     """Response of the column head to ground motion, without and with the panels, and the insertion loss.
 
     Parameters
@@ -603,6 +604,9 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
         Largest distance between column nodes [length]; default :data:`COLUMN_SPACING`.
     point_masses:
         ``{group: (mass kg, rotary inertia kg·m²)}`` added at mid-span of every strut of the group.
+    node_zones:
+        ``"none"`` or ``"rigid"``: rigid zones at the lattice struts' ends from the node geometry
+        (:func:`latticecalc.physics.frame_fe.end_zones_for`), as in the Bloch and panel models.
     cache, progress:
         Result cache folder (None: no cache) and progress display, as for
         :func:`latticecalc.physics.bloch.dispersion`.
@@ -634,8 +638,9 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
     chk = np.zeros(0) if check_frequencies is None else np.atleast_1d(
         check_dimension(check_frequencies, name="check_frequencies", expected="frequency").to("Hz").m)
     counts = sorted({int(c) for c in mode_counts if 0 <= int(c) < strut_modes} | {int(strut_modes)})
+    zones_model = fe.check_node_zones(node_zones)
     args = dict(materials=materials, nx=nx, ny=ny, column=column, placement=placement, fixings=fixings,
-                n_elements=n, theory=theory, column_spacing=spacing, point_masses=pm)
+                n_elements=n, theory=theory, column_spacing=spacing, point_masses=pm, node_zones=zones_model)
 
     def compute():
         bare = _build(cell, strut_modes=strut_modes, with_panels=False, **args)
@@ -662,7 +667,7 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
 
     key = fingerprint("receiver-v1", _cell_key(cell, materials), nx, ny, _column_key(column), _fix_key(fixings),
                       placement.faces, float(placement.base_height.to("m").m), freqs, dirs, n, strut_modes, theory,
-                      chk, counts, spacing, sorted(pm.items()))
+                      chk, counts, spacing, sorted(pm.items()), zones_model)
     data = cached_arrays(cache, key, compute)
     value: dict[str, Any] = {"frequency": Q_(freqs, "Hz")}
     il = {}
@@ -675,7 +680,8 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
     value["insertion_loss"] = il
     method = (f"column: {len(placement.faces)} face(s) with a {nx} × {ny}-cell panel; Timoshenko column elements "
               f"at most {spacing:g} m long; struts of {n} {theory} elements reduced to end joints + {strut_modes} "
-              f"fixed–fixed modes, condensed per frequency; one sparse solve per frequency")
+              f"fixed–fixed modes, condensed per frequency; node zones: {zones_model}; one sparse solve per "
+              "frequency")
     steps = [quantity_step(id=f"{id_prefix}.dofs", description="Degrees of freedom of each frequency solve "
                            "(column and panel joints)", value=Q_(int(data["n_red"]), ""), method=method, sig=6,
                            source=REDUCTION_SOURCE)]
@@ -880,7 +886,7 @@ def strut_families(cell: Any, *, nx: int, ny: int, faces: Sequence[str], directi
 
 
 def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Column, faces: Sequence[str],
-                       direction: str, added_mass: Any = None, required: Any = None,
+                       direction: str, added_mass: Any = None, required: Any = None, node_zones: str = "none",
                        id_prefix: str = "receiver") -> ReceiverEstimates:
     """Hand estimates of what the panels can do to the column: μ, the host band, Den Hartog, the bound.
 
@@ -898,6 +904,10 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
         Faces carrying a panel.
     direction:
         Ground-motion direction (``"along"``, ``"normal"``, ``"vertical"``).
+    node_zones:
+        ``"none"`` or ``"rigid"``: with rigid node zones (the cell's, from
+        :func:`latticecalc.physics.frame_fe.cell_node_zones`) only the flexible length between them
+        bends and resonates (both tuning and resonating mass).
     added_mass:
         Mass added at mid-span of every lattice strut [mass]; default: the cell's own
         (``cell.point_masses["lattice"]``), none when it has none.
@@ -923,13 +933,20 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
     Iq = SECOND_MOMENT_CIRCLE.evaluate({"d": d})
     fam = strut_families(cell, nx=nx, ny=ny, faces=faces, direction=direction)
     steps = []
+    zone_sum = 0.0
+    if fe.check_node_zones(node_zones) == "rigid":
+        nz = fe.cell_node_zones(cell, id_prefix=f"{id_prefix}.node-zone")
+        zone_sum = float(sum(q.to("m").m for q in nz.value))
+        steps += list(nz.steps)
     total = Q_(0.0, "kg")
     tuning = None
     for i, ((L, w), count) in enumerate(sorted(fam.items(), key=lambda kv: -kv[1])):
-        Lq = Q_(L, "m")
+        # rigid node zones move with the nodes: only the flexible length bends and resonates
+        Lq = Q_(max(L - zone_sum, 0.5 * L), "m")
         ms = (rho * A * Lq).to("kg")
         st = evaluate(RESONATING_MASS, id=f"{id_prefix}.resonating-mass-{i + 1}", description=f"Resonating mass of "
-                      f"{count} lattice struts {format_quantity(Lq.to('mm'))} long, direction weight {w:.3g}",
+                      f"{count} lattice struts, bending length {format_quantity(Lq.to('mm'))}"
+                      + (" between rigid node zones" if zone_sum else "") + f", direction weight {w:.3g}",
                       values={"N": Q_(count, ""), "w": Q_(w, ""), "M_a": Ma, "m_s": ms}, unit="kg",
                       source=RAYLEIGH_STRUT)
         steps.append(st)

@@ -24,6 +24,8 @@ Rules ``sign_project`` enforces:
 * ``checked`` or ``approved`` with a NOT OK check needs a comment saying how it was resolved.
 * ``checked`` or ``approved`` is refused while a verdict rests on a hand estimate alone (a
   ``*.preliminary`` result, e.g. band coverage with no computed complete gap).
+* ``approved`` is refused while a check relies on a source tagged ``from memory`` (the register of
+  values to confirm, :mod:`latticecalc.sources_register`).
 
 Status: ``approved`` if a current approved and a current checked sign-off exist, ``checked`` if a
 current checked one does, else ``preliminary``. A sign-off is current when it signed the
@@ -252,6 +254,17 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     if role == "approved" and not any(s.record.get("role") == "checked" for s in current):
         raise ProjectError("cannot be approved before a current 'checked' sign-off exists",
                            input_name=str(project.folder))
+    if role == "approved":
+        from latticecalc.sources_register import blocks_approval
+
+        _data, doc = current_package(project)
+        recalled = blocks_approval(doc.records("check"))
+        if recalled:
+            raise ProjectError("checks rely on values recalled from sources not yet confirmed ("
+                               + "; ".join(s.cite() for s in recalled[:3]) + (" …" if len(recalled) > 3 else "")
+                               + "): the package cannot be approved", input_name=str(project.folder),
+                               hint="Confirm each against its published table (the package lists them under "
+                                    "'Values to confirm before approval'), update the source, rerun and export")
     held = preliminary_results(content)
     if role in ("checked", "approved") and held:
         raise ProjectError("a verdict rests on a hand estimate alone (" + ", ".join(held) + "): the package is "

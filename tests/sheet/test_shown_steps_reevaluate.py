@@ -140,16 +140,9 @@ def _run_notebooks(folder) -> None:
         plt.close("all")
 
 
-@pytest.mark.slow
-@pytest.mark.parametrize("demo", ["quillon-yard-survey", "quillon-yard-prototype"])
-def test_every_step_of_a_demo_run_reevaluates(tmp_path, monkeypatch, demo):
-    from latticecalc.project.demo import _overlay, demo_projects
-    from latticecalc.project.templates import demo_root, new_project
-
-    template = next(d.template for d in demo_projects() if d.folder == demo)
-    folder = new_project(tmp_path / demo, template=template)
-    _overlay(demo_root() / demo, folder)
-    made: list[Step] = []                    # every Step built during the run, evaluate()'s included
+def _steps_of_a_run(folder, monkeypatch) -> list[Step]:
+    """Run the project's notebooks in this process and return every Step built on the way."""
+    made: list[Step] = []
     original = Step.__post_init__
 
     def record_step(self):
@@ -159,6 +152,19 @@ def test_every_step_of_a_demo_run_reevaluates(tmp_path, monkeypatch, demo):
     monkeypatch.setattr(Step, "__post_init__", record_step)
     monkeypatch.chdir(folder)
     _run_notebooks(folder)
+    return made
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("demo", ["quillon-yard-survey", "quillon-yard-prototype"])
+def test_every_step_of_a_demo_run_reevaluates(tmp_path, monkeypatch, demo):
+    from latticecalc.project.demo import _overlay, demo_projects
+    from latticecalc.project.templates import demo_root, new_project
+
+    template = next(d.template for d in demo_projects() if d.folder == demo)
+    folder = new_project(tmp_path / demo, template=template)
+    _overlay(demo_root() / demo, folder)
+    made = _steps_of_a_run(folder, monkeypatch)   # every Step built during the run, evaluate()'s included
     formula_steps = [s for s in made if s.formula is not None]
     assert formula_steps, "the demo made no formula steps"
     if template == "site-survey":
@@ -182,16 +188,7 @@ def test_every_step_of_a_column_panel_run_reevaluates(tmp_path, monkeypatch):
     folder = make_quick(new_project(tmp_path / "panel", template="column-panel"))
     spec = load_template_spec(folder / "template.toml")
     set_values(folder / "inputs.toml", spec, {"receiver.frequencies": 40, "sweep.added_masses": ["0 g", "50 g"]})
-    made: list[Step] = []
-    original = Step.__post_init__
-
-    def record_step(self):
-        made.append(self)
-        original(self)
-
-    monkeypatch.setattr(Step, "__post_init__", record_step)
-    monkeypatch.chdir(folder)
-    _run_notebooks(folder)
+    made = _steps_of_a_run(folder, monkeypatch)
     formula_steps = [s for s in made if s.formula is not None]
     ids = {s.id for s in formula_steps}
     assert {"receiver.mass-ratio", "receiver.il-bound", "receiver.band-high", "strut.f1-cc"} <= ids

@@ -173,11 +173,13 @@ class _ReducedPanel:
         return u
 
 
-def symmetric_solve(A, b):
-    """Solve a sparse complex-symmetric system A x = b.
+def symmetric_solve(A, b, *, what: str = "the panel", input_name: str = "cell",
+                    expected: str = "a frame that resists every motion of its joints"):
+    """Solve a sparse complex-symmetric system A x = b (``b`` one or several right-hand sides).
 
     SuperLU with a symmetric ordering and diagonal pivots (several times faster for these
-    matrices), checked by its residual; partial pivoting as the fallback.
+    matrices), checked by its residual; partial pivoting as the fallback.  A singular system is a
+    ModelError naming ``what`` is a mechanism, with ``input_name`` and ``expected``.
     """
     try:
         lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
@@ -189,8 +191,8 @@ def symmetric_solve(A, b):
     try:
         return spla.splu(A).solve(b)
     except RuntimeError as exc:
-        raise ModelError("the panel is a mechanism: its dynamic stiffness is singular", input_name="cell",
-                         expected="a frame that resists every motion of its joints", got=str(exc)) from None
+        raise ModelError(f"{what} is a mechanism: its dynamic stiffness is singular", input_name=input_name,
+                         expected=expected, got=str(exc)) from None
 
 
 def _full_response(pan: PanelFrame, sections, *, n_elements: int, theory: str, direction: int,

@@ -41,7 +41,6 @@ from typing import Any
 import numpy as np
 import pint
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 import sympy as sym
 
 from latticecalc.cache import cached_arrays, fingerprint
@@ -50,7 +49,7 @@ from latticecalc.physics import frame_fe as fe
 from latticecalc.physics.beams import AREA_CIRCLE, SECOND_MOMENT_CIRCLE
 from latticecalc.physics.bloch import _cell_key, progress_iter
 from latticecalc.physics.column import Column, column_levels, column_properties, head_springs
-from latticecalc.physics.panel import panel_frame
+from latticecalc.physics.panel import panel_frame, symmetric_solve
 from latticecalc.physics.threads import single_thread
 from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
@@ -385,18 +384,8 @@ class DynamicSystem:
 
 
 def _factor_solve(A, b):
-    try:
-        lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
-        x = lu.solve(b)
-        if np.all(np.isfinite(x)) and np.linalg.norm(A @ x - b) <= 1e-8 * max(np.linalg.norm(b), 1e-300):
-            return x
-    except RuntimeError:
-        pass
-    try:
-        return spla.splu(A).solve(b)
-    except RuntimeError as exc:
-        raise ModelError("the column with its panels is a mechanism: its dynamic stiffness is singular",
-                         input_name="fixing", expected="brackets that hold every panel", got=str(exc)) from None
+    return symmetric_solve(A, b, what="the column with its panels", input_name="fixing",
+                           expected="brackets that hold every panel")
 
 
 def _skew(r: np.ndarray) -> np.ndarray:

@@ -7,7 +7,7 @@ import pytest
 from tests.helpers import assert_quantity_close
 
 from latticecalc import Q_
-from latticecalc.errors import InputError, RecordError
+from latticecalc.errors import InputError, LatticeCalcError
 from latticecalc.project import open_project
 from latticecalc.project.column_panel import design_from_inputs
 from latticecalc.project.inputs import set_values
@@ -68,8 +68,9 @@ def test_calibrated_modulus_replaces_the_lattice_dynamic_modulus(project):
 
 def test_missing_calibration_export_names_the_input(project):
     proj = _set(project, {"lattice.calibration": "nowhere.json"})
-    with pytest.raises(RecordError, match="lattice.calibration"):
+    with pytest.raises(LatticeCalcError, match="lattice.calibration") as e:   # a named error, not a traceback
         design_from_inputs(proj.inputs, folder=project)
+    assert e.value.input_name == "lattice.calibration"
 
 
 def test_coverage_on_the_hand_estimate_alone_is_preliminary_and_blocks_checked():

@@ -11,7 +11,6 @@ import pytest
 
 from latticecalc.cli import main
 from latticecalc.errors import ProjectError
-from latticecalc.project import open_project
 from latticecalc.project.export import export_project
 from latticecalc.project.runner import run_project
 from latticecalc.project.signoff import sign_project
@@ -23,7 +22,7 @@ def test_approval_refused_while_a_check_relies_on_a_recalled_value(tmp_path):
     folder = tmp_path / "survey"
     assert main(["new", str(folder), "--template", "site-survey"]) == 0
     run_project(folder)
-    export_project(open_project(folder))
+    export_project(folder)
     html = next((folder / "out").glob("*.html")).read_text(encoding="utf-8")
     assert "Values to confirm before approval" in html and "Amick" in html
     sign_project(folder, role="prepared", name="Pat Preparer")

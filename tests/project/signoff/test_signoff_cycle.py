@@ -7,7 +7,9 @@ that asks for them is the project's own. Nothing here asserts a physical value.
 
 from __future__ import annotations
 
+import errno
 import json
+import os
 import re
 from html import unescape
 from pathlib import Path
@@ -175,31 +177,18 @@ def test_interrupted_export_leaves_the_previous_package_intact(project, monkeypa
     before = pkg.read_bytes()
     json_before = pkg.with_suffix(".json").read_bytes()
     sign_project(project, role="prepared", name=PREPARER)  # so the new package would differ
-    real_fdopen = atomic.os.fdopen
-
-    class HalfWriter:
-        def __init__(self, fh):
-            self.fh = fh
-
-        def __enter__(self):
-            return self
-
-        def __exit__(self, *exc):
-            self.fh.close()
-
-        def write(self, data):
-            self.fh.write(data[: len(data) // 2])
-            raise OSError("disk full (simulated)")
-
+    real_write = atomic._write_fd
     calls = []
 
-    def failing_fdopen(fd, mode="r", *a, **k):  # export stages the HTML, then the JSON: fail the second
+    def failing_write(fd, data):  # export stages the HTML, then the JSON: the second write fills the disk
         calls.append(fd)
-        fh = real_fdopen(fd, mode, *a, **k)
-        return HalfWriter(fh) if len(calls) == 2 else fh
+        if len(calls) == 2:
+            os.write(fd, bytes(data[: len(data) // 2]))
+            raise OSError(errno.ENOSPC, "disk full (simulated)")
+        real_write(fd, data)
 
-    monkeypatch.setattr(atomic.os, "fdopen", failing_fdopen)
-    with pytest.raises(OSError, match="simulated"):
+    monkeypatch.setattr(atomic, "_write_fd", failing_write)
+    with pytest.raises(OSError, match="disk is full"):        # a named error (FileWriteError is an OSError)
         export_project(project)
     monkeypatch.undo()
     assert len(calls) == 2

@@ -143,6 +143,19 @@ def _suggest(size: int) -> str:
     return str(2 * size)
 
 
+def not_a_number(value: Any) -> str | None:
+    """Why ``value`` (read from an exported JSON) is not a finite number, in words; None when it is one."""
+    import math
+
+    if not isinstance(value, bool) and isinstance(value, (int, float)) and math.isfinite(value):
+        return None
+    if isinstance(value, str):
+        return f"text {excerpt(value, limit=30)}"
+    if isinstance(value, float):
+        return repr(value)                    # NaN or infinity
+    return "nothing" if value is None else f"a {type(value).__name__}"
+
+
 def excerpt(text: str, *, limit: int = EXCERPT_CHARS) -> str:
     """A short, quoted excerpt of one line for a message: stripped, cut at ``limit`` characters.
 

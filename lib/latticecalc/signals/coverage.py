@@ -28,7 +28,6 @@ table gives each uncertainty alone, so the governing one is named.
 from __future__ import annotations
 
 import json
-import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import cache
@@ -83,6 +82,13 @@ def frequency_factors(*, nominal_modulus, low_modulus, high_modulus) -> CalcResu
                       title="Band scatter from the modulus range")
 
 
+def _peak_status(margin_lower: float, margin_upper: float, f: float, f1: float, f2: float) -> str:
+    """"covered" (inside the held band), "nominal only" (inside [f1, f2] alone) or "not covered"."""
+    if margin_lower >= 0 and margin_upper >= 0:
+        return "covered"
+    return "nominal only" if f1 <= f <= f2 else "not covered"
+
+
 def band_coverage(*, lower, upper, peaks, scatter_low: float = 1.0, scatter_high: float = 1.0,
                   id_prefix: str = "coverage") -> Coverage:
     """Each peak covered or not by the band [lower, upper] moved by factors scatter_low..scatter_high.
@@ -123,12 +129,7 @@ def band_coverage(*, lower, upper, peaks, scatter_low: float = 1.0, scatter_high
     m_hi = hi_w - fp
     status = []
     for k, f in enumerate(fp):
-        if m_lo[k] >= 0 and m_hi[k] >= 0:
-            status.append("covered")
-        elif f1 <= f <= f2:
-            status.append("nominal only")
-        else:
-            status.append("not covered")
+        status.append(_peak_status(m_lo[k], m_hi[k], f, f1, f2))
         steps.append(check(id=f"{id_prefix}.peak{k + 1}-lower", description=f"Panel's own stop band: peak {k + 1} "
                            f"({f:.3g} Hz) above the band's highest lower edge", demand=Q_(f, "Hz"),
                            limit=Q_(lo_w, "Hz"), sense="min"))
@@ -167,7 +168,7 @@ def _survey_values(rows: dict, key: str, *, unit: str | None, default_unit: str 
 
     With ``unit`` None: a float array (the row's unit ignored).
     """
-    from latticecalc.files import excerpt
+    from latticecalc.files import excerpt, not_a_number
 
     row = rows[key]
     value, text = row.get("value"), row.get("unit") or default_unit
@@ -176,13 +177,8 @@ def _survey_values(rows: dict, key: str, *, unit: str | None, default_unit: str 
         raise RecordError(f"step {key} has too many values", input_name=_SURVEY_INPUT, file=file,
                           expected=f"at most {MAX_EXPORT_VALUES}", got=str(len(items)))
     for v in items:
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            if isinstance(v, str):
-                got = f"text {excerpt(v, limit=30)}"
-            elif isinstance(v, float):
-                got = repr(v)                    # NaN or infinity
-            else:
-                got = "nothing" if v is None else f"a {type(v).__name__}"
+        got = not_a_number(v)
+        if got is not None:
             raise RecordError(f"the values of step {key} are not numbers", input_name=_SURVEY_INPUT, file=file,
                               expected="a finite number or a list of them", got=got)
     numbers = np.atleast_1d(np.asarray(items, dtype=float))
@@ -756,12 +752,7 @@ def band_margins(*, lower, upper, peaks, uncertainties: Sequence[BandUncertainty
     for k, f in enumerate(fp):
         gov = int(np.argmax(alone[:, k]))
         governing.append(labels[gov])
-        if m_lo[k] >= 0 and m_hi[k] >= 0:
-            status.append("covered")
-        elif f1 <= f <= f2:
-            status.append("nominal only")
-        else:
-            status.append("not covered")
+        status.append(_peak_status(m_lo[k], m_hi[k], f, f1, f2))
         rss_ok.append(bool(f1 * R_hi[k] <= f <= f2 * R_lo[k]))
         i_lo, i_hi = int(np.argmax(high[:, k])), int(np.argmin(low[:, k]))
         gov_text = (f"Governing uncertainty for this peak: {labels[gov]} (alone: utilisation {alone[gov, k]:.3f}). "

@@ -430,7 +430,7 @@ def calibration_from_export(path) -> ExportedCalibration:
     path:
         ``out/<calc-id>-rev<rev>.json`` written by ``latticecalc export`` for a ``prototype-test`` project.
     """
-    from latticecalc.files import excerpt, read_json
+    from latticecalc.files import excerpt, not_a_number, read_json
 
     name = "lattice.calibration"
     p = Path(path)
@@ -450,13 +450,8 @@ def calibration_from_export(path) -> ExportedCalibration:
     def quantity(key: str, dimension: str) -> pint.Quantity:
         row = rows[key]
         value, unit = row.get("value"), row.get("unit") or ""
-        if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value):
-            if isinstance(value, str):
-                got = f"text {excerpt(value, limit=30)}"
-            elif isinstance(value, float):
-                got = repr(value)                    # NaN or infinity
-            else:
-                got = "nothing" if value is None else f"a {type(value).__name__}"
+        got = not_a_number(value)
+        if got is not None:
             raise RecordError(f"the value of step {key} is not a number", input_name=name, file=str(p),
                               expected=f"a finite number (a {dimension})", got=got)
         if not isinstance(unit, str) or len(unit) > 40:

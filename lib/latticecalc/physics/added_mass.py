@@ -25,6 +25,7 @@ from scipy.optimize import brentq
 from latticecalc.errors import InputError, LatticeCalcError
 from latticecalc.physics import frame_fe as fe
 from latticecalc.physics import receiver as rc
+from latticecalc.physics.bloch import progress_iter
 from latticecalc.physics.density import panel_mass
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, format_quantity
@@ -138,7 +139,7 @@ def added_mass_sweep(cell: Any, *, materials: Mapping[str, Any], mass_material: 
                                              "estimate", "bound", "note")}
     steps = []
     items = list(masses)
-    for i, mq in enumerate(rc.progress_iter(items, progress=progress, desc="added-mass sweep")):
+    for i, mq in enumerate(progress_iter(items, progress=progress, desc="added-mass sweep")):
         m = float(check_dimension(mq, name="masses", expected="mass").to("kg").m)
         rows["added_mass"].append(m)
         try:

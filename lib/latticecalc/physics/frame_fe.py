@@ -385,6 +385,13 @@ def rotations(p1: np.ndarray, p2: np.ndarray) -> np.ndarray:
     return np.stack([ex, ey, ez], axis=1)
 
 
+def _rotate_rows(lam: np.ndarray, X: np.ndarray) -> np.ndarray:
+    """Tᵀ X for T block-diagonal in the 3 × 3 blocks ``lam`` (ne, 3, 3); X (ne, 3 b, k), b blocks."""
+    ne, rows, k = X.shape
+    Xb = X.reshape(ne, rows // 3, 3, k)
+    return (np.swapaxes(lam, 1, 2)[:, None] @ Xb).reshape(ne, rows, k)
+
+
 def _transform(lam: np.ndarray, n_nodes: int = 2) -> np.ndarray:
     ne = lam.shape[0]
     T = np.zeros((ne, 6 * n_nodes, 6 * n_nodes))
@@ -845,12 +852,14 @@ def global_element_matrices(mesh: FrameMesh, sections: Mapping[str, Section], th
     egroups = [mesh.strut_groups[s] for s in mesh.element_strut]
     Kl, Ml = local_element_matrices(L, [sections[g] for g in egroups], theory)
     T = _transform(rotations(p1, p2))
-    K = np.einsum("eki,ekl,elj->eij", T, Kl, T)
-    M = np.einsum("eki,ekl,elj->eij", T, Ml, T)
+    Tt = np.swapaxes(T, 1, 2)
+    K = Tt @ Kl @ T
+    M = Tt @ Ml @ T
     if mesh.end_zones is not None:
         H = rigid_offset_matrix(o1, o2)
-        K = np.einsum("eki,ekl,elj->eij", H, K, H)
-        M = np.einsum("eki,ekl,elj->eij", H, M, H)
+        Ht = np.swapaxes(H, 1, 2)
+        K = Ht @ K @ H
+        M = Ht @ M @ H
     return K, M, np.array(egroups)
 
 
@@ -1279,13 +1288,13 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
         psi_l[idx] = psi
     lam = rotations(p1, p2)
     T = _transform(lam)
-    K_bb = np.einsum("eki,ekl,elj->eij", T, Kbb_l, T)
-    M_bb = np.einsum("eki,ekl,elj->eij", T, Mbb_l, T)
-    C = np.einsum("emk,ekj->emj", C_l, T)
-    Ti = _transform(lam, n_nodes=max(n - 1, 1))[:, :ni, :ni] if n > 1 else np.zeros((ns, 0, 0))
-    # interior displacement in global axes: Ti^T (psi T u_b + phi q)
-    psi_g = np.einsum("eki,ekl,elj->eij", Ti, psi_l, T) if n > 1 else psi_l
-    phi_g = np.einsum("eki,ekm->eim", Ti, phi_l) if n > 1 else phi_l
+    Tt = np.swapaxes(T, 1, 2)
+    K_bb = Tt @ Kbb_l @ T
+    M_bb = Tt @ Mbb_l @ T
+    C = C_l @ T
+    # interior displacement in global axes: Ti^T (psi T u_b + phi q), Ti block-diagonal in Λ
+    psi_g = _rotate_rows(lam, psi_l @ T) if n > 1 else psi_l
+    phi_g = _rotate_rows(lam, phi_l) if n > 1 else phi_l
     return StrutReduction(K_bb=K_bb, M_bb=M_bb, C=C, omega2=om2, psi=psi_g, phi=phi_g, struts=struts,
                           groups=tuple(groups), n_modes=m)
 

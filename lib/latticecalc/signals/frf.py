@@ -26,7 +26,6 @@ import numpy as np
 import pint
 import sympy as sp
 from scipy import fft as sfft
-from scipy import signal as ssig
 
 from latticecalc.errors import InputError, LatticeCalcError, RecordError
 from latticecalc.physics import beams, tolerance
@@ -98,6 +97,8 @@ class Transmissibility(CalcResult):
 
 def _spectra(x: np.ndarray, y: np.ndarray, fs: float, nfft: int):
     """Welch auto- and cross-spectra (Hann, 50 % overlap, one-sided density)."""
+    from scipy import signal as ssig  # here, not at the top: every column-panel section imports this module
+
     kw = {"fs": fs, "window": "hann", "nperseg": nfft, "noverlap": nfft // 2, "detrend": "constant"}
     f, gxx = ssig.welch(x, **kw)
     _, gyy = ssig.welch(y, **kw)

@@ -30,8 +30,11 @@ def _new(args: argparse.Namespace) -> int:
 def _run(args: argparse.Namespace) -> int:
     from latticecalc.project.runner import run_project
 
-    report = run_project(args.dir, timeout=args.timeout)
+    report = run_project(args.dir, timeout=args.timeout, only=args.only)
     print(f"Ran {len(report.notebooks)} notebooks in {report.seconds:.1f} s; outputs in {report.executed_dir}")
+    if report.skipped:
+        print(f"Partial run: skipped {', '.join(report.skipped)}. Export and sign-off refuse this project "
+              "until a run without --only.")
     return 0
 
 
@@ -73,9 +76,13 @@ def _build_parser(extra: Sequence[Builder] = ()) -> argparse.ArgumentParser:
     p.add_argument("--template", required=True, help="template name (see 'latticecalc templates')")
     p.set_defaults(func=_new)
 
-    p = sub.add_parser("run", help="execute the project's notebooks headless and save their outputs")
+    p = sub.add_parser("run", help="execute the project's notebooks headless and save their outputs",
+                       epilog="example: latticecalc run my-project --only 20 30 (the folder first)")
     p.add_argument("dir", help="project folder")
     p.add_argument("--timeout", type=int, default=1200, help="seconds allowed per cell (default 1200)")
+    p.add_argument("--only", nargs="+", metavar="SECTION",
+                   help="run only these sections, by number (20), stem or file name, and any they need; "
+                        "export refuses a partial run")
     p.set_defaults(func=_run)
 
     p = sub.add_parser("export", help="write the HTML calc package and JSON of results to DIR/out/")
@@ -102,8 +109,20 @@ def _extra_builders() -> list[Builder]:
     return [register]
 
 
+def _skip_iri_grammar() -> None:
+    """Let jsonschema (imported by nbformat) start without building its IRI grammar.
+
+    When the optional ``rfc3987_syntax`` is installed (JupyterLab brings it), importing jsonschema
+    builds that grammar, about 1.4 s; notebook validation checks no IRI, and nothing else the command
+    does uses it. Marking the module absent makes jsonschema leave that one format check out.
+    """
+    if "jsonschema" not in sys.modules:
+        sys.modules.setdefault("rfc3987_syntax", None)
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of the ``latticecalc`` console script."""
+    _skip_iri_grammar()
     parser = _build_parser(_extra_builders())
     args = parser.parse_args(argv)
     try:

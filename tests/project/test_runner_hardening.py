@@ -23,14 +23,20 @@ from pathlib import Path
 import nbformat
 import pytest
 
+from latticecalc.cli import main as cli
 from latticecalc.errors import (
     InputError,
     KernelDiedError,
     NotebookError,
+    ProjectError,
     RunInterruptedError,
     RunTimeoutError,
 )
-from latticecalc.project.runner import run_project
+from latticecalc.project import open_project
+from latticecalc.project.export import export_project
+from latticecalc.project.runner import run_project, select_notebooks
+from latticecalc.project.signoff import sign_project
+from latticecalc.project.templates import list_templates, new_project
 
 #: Seconds a run (or a CLI process) may take before a test calls it hung.
 HANG_GUARD_SECONDS = 120
@@ -286,3 +292,57 @@ def test_stop_signal_raises_run_interrupted_from_the_library(tmp_path, signum):
             proc.kill()
             proc.wait()
         _kill_kernel_of(folder)
+
+
+# --- partial runs (--only) ----------------------------------------------------------------------------
+SECTIONS = {"10_a.ipynb": ["x = 41"], "20_b.ipynb": ["y = 2"], "30_c.ipynb": ["print(x + 1)"]}
+
+
+def test_only_runs_the_named_section_and_the_earlier_notebook_it_needs(tmp_path):
+    # DEVELOPERS.md: all notebooks share one kernel, so 30_c needs x from 10_a; 20_b is not needed
+    folder = make_project(tmp_path / "only", SECTIONS)
+    lines: list[str] = []
+    report = run_project(folder, progress=lines.append, timeout=60, only=["30"])
+    assert [n for n, _ in report.notebooks] == ["10_a.ipynb", "30_c.ipynb"]
+    assert report.skipped == ("20_b.ipynb",)
+    assert lines[0] == "[1/2] 10_a.ipynb …"
+    executed = nbformat.read(str(folder / "out" / "executed" / "30_c.ipynb"), as_version=4)
+    assert executed.cells[1].outputs[0]["text"].strip() == "42"
+    assert not (folder / "out" / "executed" / "20_b.ipynb").exists()
+
+
+def test_only_names_a_section_by_number_stem_or_file_name(tmp_path):
+    # behaviour of the option (common practice: accept the names the user sees)
+    project = open_project(make_project(tmp_path / "names", SECTIONS))
+    for only in (["20"], ["20_b"], ["20_b.ipynb"]):
+        assert [p.name for p in select_notebooks(project, only)] == ["20_b.ipynb"], only
+    assert [p.name for p in select_notebooks(project, ["30", "20"])] == ["10_a.ipynb", "20_b.ipynb", "30_c.ipynb"]
+    with pytest.raises(InputError, match="no section '40'") as info:
+        select_notebooks(project, ["40"])
+    assert "10_a, 20_b, 30_c" in str(info.value)
+
+
+def test_every_bundled_section_runs_on_its_own(tmp_path):
+    # DEVELOPERS.md: the first code cell of each notebook opens the project; so --only runs just the
+    # sections named. Checked from the code of every bundled template's notebooks.
+    for t in list_templates():
+        project = open_project(new_project(tmp_path / t.name, template=t.name))
+        for nb in project.notebooks:
+            assert select_notebooks(project, [nb.stem]) == [nb], (t.name, nb.name)
+
+
+def test_export_and_sign_refuse_a_partial_run_naming_the_skipped_sections_until_a_full_run(tmp_path, capsys):
+    # README: export refuses a project whose run does not match it; a partial run is such a run
+    folder = make_project(tmp_path / "partial", SECTIONS)
+    assert cli(["run", str(folder), "--only", "30", "--timeout", "60"]) == 0
+    assert "Partial run: skipped 20_b.ipynb" in capsys.readouterr().out
+    with pytest.raises(ProjectError, match=r"20_b\.ipynb not run \(run again without --only\)"):
+        export_project(folder)
+    with pytest.raises(ProjectError, match=r"20_b\.ipynb not run"):
+        sign_project(folder, role="prepared", name="Pat Preparer")
+    assert cli(["export", str(folder)]) == 2
+    assert "20_b.ipynb not run" in capsys.readouterr().err
+    assert not list((folder / "out").glob("*.html"))
+    report = run_project(folder, progress=None, timeout=60)
+    assert report.skipped == ()
+    assert export_project(folder).html.is_file()

@@ -12,12 +12,21 @@ a deadline for the whole run and, when it is the main thread, catches SIGINT and
 failed cell, a cell over its time, a kernel that died, the run deadline and a signal each kill
 the kernel's whole process group and raise a :class:`~latticecalc.errors.NotebookError` subclass
 naming the notebook and the cell.
+
+A design loop may run only some sections (``only=["20", "30"]``, ``latticecalc run --only 20 30``).
+Each section notebook opens the project itself, so a section needs no other to run; a notebook that
+does use a name only an earlier notebook defines gets that notebook run before it (found from the
+code, :func:`select_notebooks`). Such a partial run records the skipped notebooks under a key of its
+own in the run record's state; :func:`~latticecalc.project.state.stale_files` names it, so export
+and sign-off refuse until a run without ``only``.
 """
 
 from __future__ import annotations
 
+import ast
 import asyncio
 import atexit
+import builtins
 import contextlib
 import json
 import os
@@ -27,7 +36,7 @@ import subprocess
 import sys
 import threading
 import time
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -74,6 +83,8 @@ class RunReport:
     notebooks: tuple[tuple[str, float], ...]
     executed_dir: Path
     seconds: float
+    #: Notebooks a partial run (``only=``) left out, in run order; empty after a full run.
+    skipped: tuple[str, ...] = ()
 
 
 def _kernel_manager() -> AsyncKernelManager:
@@ -184,7 +195,8 @@ async def _shutdown(km: AsyncKernelManager) -> None:
             await asyncio.wait_for(km.shutdown_kernel(now=True), timeout=15)
 
 
-async def _execute(project: Project, out: Path, timeout: int, live: _Live) -> list[tuple[str, float]]:
+async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeout: int,
+                   live: _Live) -> list[tuple[str, float]]:
     """The worker: start one kernel, execute every notebook in it, save the executed copies."""
     live.loop = asyncio.get_running_loop()
     live.task = asyncio.current_task()
@@ -199,12 +211,12 @@ async def _execute(project: Project, out: Path, timeout: int, live: _Live) -> li
         try:
             await km.start_kernel(cwd=str(project.folder), env=_kernel_env())
         except Exception as exc:
-            raise NotebookError(f"the Python kernel did not start ({exc})", input_name=project.notebooks[0].name,
+            raise NotebookError(f"the Python kernel did not start ({exc})", input_name=notebooks[0].name,
                                 hint="Check that ipykernel is installed in this environment") from None
         live.process = getattr(km.provisioner, "process", None)
         live.pgid = getattr(km.provisioner, "pgid", None)
-        total = len(project.notebooks)
-        for i, path in enumerate(project.notebooks, start=1):
+        total = len(notebooks)
+        for i, path in enumerate(notebooks, start=1):
             nb = nbformat.read(str(path), as_version=4)
             live.notebook, live.cell, live.source = path.name, None, ""
             live.messages.put(f"[{i}/{total}] {path.name} …")
@@ -240,9 +252,9 @@ async def _execute(project: Project, out: Path, timeout: int, live: _Live) -> li
     return timings
 
 
-def _work(project: Project, out: Path, timeout: int, live: _Live) -> None:
+def _work(project: Project, notebooks: Sequence[Path], out: Path, timeout: int, live: _Live) -> None:
     try:
-        live.outcome = asyncio.run(_execute(project, out, timeout, live))
+        live.outcome = asyncio.run(_execute(project, notebooks, out, timeout, live))
     except BaseException as exc:  # handed to the supervising thread, which raises it
         live.outcome = exc
 
@@ -289,13 +301,116 @@ def _signals_to(live: _Live) -> Iterator[None]:
             signal.signal(sig, handler if handler is not None else signal.SIG_DFL)
 
 
-def _code_cells(project: Project) -> int:
+def _code_cells(notebooks: Sequence[Path]) -> int:
     return sum(sum(1 for c in nbformat.read(str(p), as_version=4).cells if c.cell_type == "code")
-               for p in project.notebooks)
+               for p in notebooks)
+
+
+#: Names a notebook may use without defining them: the kernel's own (IPython) besides Python's builtins.
+_KERNEL_NAMES = frozenset(dir(builtins)) | {"display", "get_ipython", "In", "Out", "exit", "quit"}
+
+
+def _names(path: Path) -> tuple[set[str], set[str]] | None:
+    """Names a notebook's code defines and names it uses without defining them; None if it does not parse.
+
+    A name counts as defined wherever the notebook binds it (assignment, import, def, class, loop,
+    ``with``, argument, ``global``); lines of IPython magics and shell escapes are left out.
+    """
+    nb = nbformat.read(str(path), as_version=4)
+    lines = [line for c in nb.cells if c.cell_type == "code" for line in c.source.splitlines()
+             if not line.lstrip().startswith(("%", "!"))]
+    try:
+        tree = ast.parse("\n".join(lines))
+    except SyntaxError:
+        return None
+    defined: set[str] = set()
+    used: set[str] = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Name):
+            (used if isinstance(node.ctx, ast.Load) else defined).add(node.id)
+        elif isinstance(node, (ast.Import, ast.ImportFrom)):
+            if any(a.name == "*" for a in node.names):
+                return None  # what a star import binds is not known from the code
+            defined.update((a.asname or a.name).split(".")[0] for a in node.names)
+        elif isinstance(node, (ast.FunctionDef, ast.AsyncFunctionDef, ast.ClassDef)):
+            defined.add(node.name)
+        elif isinstance(node, ast.arg):
+            defined.add(node.arg)
+        elif isinstance(node, (ast.Global, ast.Nonlocal)):
+            defined.update(node.names)
+        elif isinstance(node, ast.ExceptHandler) and node.name:
+            defined.add(node.name)
+        elif isinstance(node, (ast.MatchAs, ast.MatchStar)) and node.name:
+            defined.add(node.name)
+        elif isinstance(node, ast.MatchMapping) and node.rest:
+            defined.add(node.rest)
+    return defined, used - defined - _KERNEL_NAMES
+
+
+def _section_keys(path: Path) -> set[str]:
+    """What ``only`` may call a notebook: its file name, its stem, and its number (``20`` of ``20_x``)."""
+    keys = {path.name, path.stem}
+    number = path.stem.split("_", 1)[0]
+    if number.isdigit():
+        keys |= {number, str(int(number))}
+    return keys
+
+
+def select_notebooks(project: Project, only: Sequence[str]) -> list[Path]:
+    """The notebooks a run with ``only`` executes, in the template's order.
+
+    Each entry of ``only`` names notebooks by file name (``20_cell_density_mass.ipynb``), stem
+    (``20_cell_density_mass``) or section number (``20``). A selected notebook that uses a name it does
+    not define itself (all notebooks of a project share one kernel) gets the earlier notebooks that
+    define it run first, and so on for theirs; a notebook whose code cannot be read that way (a syntax
+    error, a star import) needs every notebook before it.
+
+    Raises
+    ------
+    InputError
+        If an entry names no notebook of the project (the message lists the sections there are).
+    """
+    notebooks = project.notebooks
+    wanted: set[int] = set()
+    for entry in only:
+        hits = {i for i, nb in enumerate(notebooks) if entry.strip() in _section_keys(nb)}
+        if not hits:
+            listed = ", ".join(nb.stem for nb in notebooks)
+            raise InputError(f"no section {entry!r} in this project; its sections are: {listed}",
+                             input_name="--only", got=entry,
+                             hint="Name a section by its number (20), its stem or its file name")
+        wanted |= hits
+    names = [_names(nb) for nb in notebooks]
+    todo = sorted(wanted, reverse=True)
+    while todo:
+        i = todo.pop()
+        if names[i] is None:
+            needed = set(range(i))
+        else:
+            free = set(names[i][1])
+            needed = set()
+            for j in range(i - 1, -1, -1):  # the latest earlier definition is the one the kernel holds
+                if not free:
+                    break
+                if names[j] is None:
+                    needed.add(j)
+                    continue
+                if free & names[j][0]:
+                    needed.add(j)
+                    free -= names[j][0]
+        for j in needed - wanted:
+            wanted.add(j)
+            todo.append(j)
+    return [nb for i, nb in enumerate(notebooks) if i in wanted]
+
+
+def partial_run_key(skipped: Sequence[str]) -> str:
+    """The run-record state key that marks a partial run, naming what it skipped and what to do."""
+    return f"partial run: {', '.join(skipped)} not run (run again without --only)"
 
 
 def run_project(folder: str | Path, *, progress: Progress | None = _stderr, timeout: int = 1200,
-                run_timeout: float | None = None) -> RunReport:
+                run_timeout: float | None = None, only: Sequence[str] | None = None) -> RunReport:
     """Execute the project's notebooks in order in one kernel; save outputs; write the run record.
 
     Parameters
@@ -310,11 +425,16 @@ def run_project(folder: str | Path, *, progress: Progress | None = _stderr, time
         Seconds allowed for the whole run. The default, ``timeout`` for every code cell plus a
         minute for each kernel start, is never reached by a run whose cells keep to ``timeout``;
         it guarantees that a run ends whatever happens in the kernel.
+    only:
+        Run only these sections (numbers, stems or file names; see :func:`select_notebooks`) and the
+        notebooks they need. A run that leaves any notebook out is recorded as partial: export and
+        sign-off refuse it, naming the skipped notebooks, until a run without ``only``.
 
     Raises
     ------
     InputError
-        Before any kernel starts, if the inputs do not validate (or ``timeout`` is below 1 s).
+        Before any kernel starts, if the inputs do not validate, ``timeout`` is below 1 s or an
+        ``only`` entry names no section.
     NotebookError
         If a cell fails: names the notebook, the cell number, the error and the cell's output.
     RunTimeoutError
@@ -330,6 +450,8 @@ def run_project(folder: str | Path, *, progress: Progress | None = _stderr, time
         raise InputError("the cell timeout must be a whole number of seconds, at least 1", input_name="timeout",
                          got=repr(timeout))
     project: Project = open_project(folder)
+    notebooks = project.notebooks if only is None else select_notebooks(project, only)
+    skipped = tuple(nb.name for nb in project.notebooks if nb not in notebooks)
     say = progress or (lambda _m: None)
     out = project.out / EXECUTED_DIR
     out.mkdir(parents=True, exist_ok=True)
@@ -337,10 +459,10 @@ def run_project(folder: str | Path, *, progress: Progress | None = _stderr, time
     state_before = current_state(project)
     record_path.unlink(missing_ok=True)  # a run in progress or failed is not a valid run
     if run_timeout is None:
-        run_timeout = timeout * max(_code_cells(project), 1) + _STARTUP_SECONDS * (len(project.notebooks) + 1)
+        run_timeout = timeout * max(_code_cells(notebooks), 1) + _STARTUP_SECONDS * (len(notebooks) + 1)
     start = time.perf_counter()
     live = _Live()
-    worker = threading.Thread(target=_work, args=(project, out, timeout, live), name="latticecalc-run",
+    worker = threading.Thread(target=_work, args=(project, notebooks, out, timeout, live), name="latticecalc-run",
                               daemon=True)
     deadline = time.monotonic() + run_timeout
 
@@ -384,8 +506,12 @@ def run_project(folder: str | Path, *, progress: Progress | None = _stderr, time
         raise NotebookError("inputs or notebooks changed while the run was going on; run again",
                             input_name=str(project.folder))
     seconds = time.perf_counter() - start
-    record = {"state": state_before, "outputs": executed_outputs(project),
+    state = dict(state_before)
+    if skipped:  # a key the current state never has: stale_files() names it until a full run
+        state[partial_run_key(skipped)] = "skipped"
+    record = {"state": state, "outputs": executed_outputs(project),
               "finished": datetime.now(UTC).isoformat(timespec="seconds"), "latticecalc": __version__,
               "notebooks": [{"name": n, "seconds": round(t, 2)} for n, t in timings]}
     write_text_atomic(record_path, json.dumps(record, indent=2))
-    return RunReport(project=project.folder, notebooks=tuple(timings), executed_dir=out, seconds=seconds)
+    return RunReport(project=project.folder, notebooks=tuple(timings), executed_dir=out, seconds=seconds,
+                     skipped=skipped)

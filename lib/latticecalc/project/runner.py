@@ -58,7 +58,7 @@ from latticecalc.errors import (
 )
 from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.project import Project, open_project
-from latticecalc.project.state import EXECUTED_DIR, RUN_RECORD, current_state, executed_outputs
+from latticecalc.project.state import EXECUTED_DIR, RUN_RECORD, current_state, executed_outputs, settled_state
 
 Progress = Callable[[str], None]
 
@@ -502,11 +502,11 @@ def run_project(folder: str | Path, *, progress: Progress | None = _stderr, time
     if isinstance(live.outcome, BaseException):
         raise live.outcome
     timings = live.outcome
-    if current_state(project) != state_before:
-        raise NotebookError("inputs or notebooks changed while the run was going on; run again",
+    state = settled_state(state_before, current_state(project))
+    if state is None:
+        raise NotebookError("inputs, notebooks or data files changed while the run was going on; run again",
                             input_name=str(project.folder))
     seconds = time.perf_counter() - start
-    state = dict(state_before)
     if skipped:  # a key the current state never has: stale_files() names it until a full run
         state[partial_run_key(skipped)] = "skipped"
     record = {"state": state, "outputs": executed_outputs(project),

@@ -40,7 +40,11 @@ def _sha(data: bytes) -> str:
 
 
 def current_state(project: Project) -> dict[str, str]:
-    """Hash of each file whose change makes a run stale: inputs, project, template, notebook code."""
+    """Hash of each file whose change makes a run stale: inputs, project, template, notebook code, data files.
+
+    Data files are the files the ``path`` inputs name (records, imported calc package exports), keyed
+    ``"<path> (<input>)"`` (:func:`latticecalc.project.lineage.state_of`).
+    """
     state = {name: _sha((project.folder / name).read_bytes())
              for name in (INPUTS_FILE, PROJECT_FILE, TEMPLATE_FILE)}
     for nb in project.notebooks:
@@ -48,8 +52,26 @@ def current_state(project: Project) -> dict[str, str]:
             raise ProjectError("notebook listed in template.toml is missing", input_name=nb.name,
                                file=TEMPLATE_FILE)
         state[nb.name] = _sha(notebook_code(nb).encode("utf-8"))
+    from latticecalc.project.lineage import state_of
+
+    state.update(state_of(project))  # the files the inputs name: records and imported exports
     state["latticecalc"] = __version__
     return state
+
+
+def settled_state(before: dict[str, str], after: dict[str, str]) -> dict[str, str] | None:
+    """The state a run records: ``after`` when it differs from ``before`` only by files the run created.
+
+    A data file missing before the run and present after it was written by the run (a demo record
+    generated from its seed): its hash is the one the results rest on. Any other difference (an input,
+    a notebook or a record edited while the run was going on) gives None: the run cannot vouch for it.
+    """
+    if set(before) != set(after):
+        return None
+    for key, value in after.items():
+        if before[key] != value and before[key] != "missing":
+            return None
+    return dict(after)
 
 
 def executed_path(project: Project, name: str) -> Path:

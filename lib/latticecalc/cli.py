@@ -8,6 +8,7 @@ from collections.abc import Callable, Sequence
 
 from latticecalc import __version__
 from latticecalc.errors import LatticeCalcError
+from latticecalc.study import cli as study_cli
 
 
 def _templates(args: argparse.Namespace) -> int:
@@ -95,6 +96,8 @@ def _build_parser(extra: Sequence[Builder] = ()) -> argparse.ArgumentParser:
     p = sub.add_parser("demo", help="build, run and export the worked demo project")
     p.add_argument("dir", nargs="?", default=None, help="folder to build it in (default: a new dated folder)")
     p.set_defaults(func=_demo)
+
+    study_cli.add_parser(sub)   # dispatches through set_defaults(func=study_cli.run)
 
     for build in extra:
         build(sub)

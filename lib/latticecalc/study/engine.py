@@ -55,10 +55,17 @@ class Objective:
 
 @dataclass(frozen=True, kw_only=True)
 class Constraint:
-    """An output that must be at least ``minimum`` (a missing output or an errored design fails it)."""
+    """An output that must lie from ``minimum`` to ``maximum`` (a missing output or an errored design fails it)."""
 
     output: str
     minimum: float = 0.0
+    maximum: float = math.inf
+
+    def shortfall(self, value: Any) -> float:
+        """How far ``value`` lies outside the limits (0 inside; 1e6 for a missing or non-finite value)."""
+        if not isinstance(value, float) or not math.isfinite(value):
+            return 1e6
+        return max(0.0, self.minimum - value, value - self.maximum)
 
 
 #: The hand stage's objectives and constraints unless a study names others.
@@ -167,25 +174,13 @@ def _violation(out: Mapping[str, Any], constraints: Sequence[Constraint]) -> lis
     """Names of the constraints a design's outputs fail (errored designs fail all)."""
     if out.get("error", 0.0) > 0:
         return ["error"]
-    bad = []
-    for c in constraints:
-        v = out.get(c.output)
-        if not isinstance(v, float) or not math.isfinite(v) or v < c.minimum:
-            bad.append(c.output)
-    return bad
+    return [c.output for c in constraints if c.shortfall(out.get(c.output)) > 0]
 
 
 def _violation_amount(out: Mapping[str, Any], constraints: Sequence[Constraint]) -> float:
     if out.get("error", 0.0) > 0:
         return math.inf
-    total = 0.0
-    for c in constraints:
-        v = out.get(c.output)
-        if not isinstance(v, float) or not math.isfinite(v):
-            total += 1e6
-        else:
-            total += max(0.0, c.minimum - v)
-    return total
+    return float(sum(c.shortfall(out.get(c.output)) for c in constraints))
 
 
 def _objective_matrix(outs: Sequence[Mapping[str, Any]], objectives: Sequence[Objective]) -> np.ndarray:
@@ -417,11 +412,9 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
             outs = evaluate("hand", batch, total_hand, done)
             done += len(batch)
             F = _objective_matrix(outs, objectives)
-            G = np.array([[c.minimum - (o.get(c.output) if isinstance(o.get(c.output), float)
-                                        and math.isfinite(o.get(c.output)) else -1e6)
-                           for c in constraints] for o in outs]) if constraints else np.zeros((len(outs), 0))
-            if any(o.get("error", 0.0) > 0 for o in outs):
-                G = np.where(np.array([[o.get("error", 0.0) > 0] for o in outs]), 1e6, G)
+            # pymoo's constraints are G <= 0: each constraint's shortfall (an errored design fails them all)
+            G = np.array([[1e6 if o.get("error", 0.0) > 0 else c.shortfall(o.get(c.output)) for c in constraints]
+                          for o in outs]) if constraints else np.zeros((len(outs), 0))
             # pymoo's documented ask-and-tell: the values computed here are handed over as a static problem
             Evaluator().eval(StaticProblem(problem, F=F, G=G), pop)
             algorithm.tell(infills=pop)

@@ -23,6 +23,17 @@ def project(tmp_path):
     return dest
 
 
+def sealed(data: dict) -> dict:
+    """``data`` as 'latticecalc export' seals it: fingerprinted results, no sign-offs, preliminary."""
+    from latticecalc.project.lineage import seal_export
+    from latticecalc.project.signoff.fingerprint import fingerprint_of, round_sig
+
+    content = round_sig({"results": [{"id": r["id"], "value": r["value"], "unit": r["unit"], "text": r.get("text", "")}
+                                     for r in data["results"]]})
+    return seal_export(data, fingerprint=fingerprint_of(content), content=content, status="preliminary",
+                       signoffs=[], embed_format="latticecalc-signoff/1")
+
+
 def _set(folder, changes):
     proj = open_project(folder)
     set_values(folder / "inputs.toml", proj.template, changes)
@@ -49,12 +60,12 @@ def test_custom_cell_without_its_table_names_the_input(project):
 def test_calibrated_modulus_replaces_the_lattice_dynamic_modulus(project):
     # an export as written by 'latticecalc export' for a prototype-test project (only the rows read)
     export = project / "coupon.json"
-    export.write_text(json.dumps({
+    export.write_text(json.dumps(sealed({
         "generated": "2026-11-30T10:00:00+00:00",
         "project": {"calc_id": "PT-9", "revision": "A", "title": "coupon test", "prepared_by": "T. Tester"},
         "results": [{"id": "calibration.modulus", "value": 31.5, "unit": "MPa", "step": "calibration.modulus"},
                     {"id": "calibration.uncertainty", "value": 0.4, "unit": "MPa", "step": "calibration.uncertainty"}],
-    }))
+    })))
     proj = _set(project, {"lattice.calibration": "coupon.json"})
     design = design_from_inputs(proj.inputs, folder=project)
     # common practice: the calibrated dynamic modulus is what the vibration steps then use

@@ -19,6 +19,7 @@ from latticecalc.errors import InputError
 from latticecalc.materials import Material
 from latticecalc.physics.cells import Cell, build_cell
 from latticecalc.project.inputs import Inputs
+from latticecalc.project.lineage import check_export
 from latticecalc.project.project import Project
 from latticecalc.sheet import CalcResult, quantity_step
 from latticecalc.signals.frf import calibration_from_export
@@ -119,6 +120,7 @@ def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDe
         if folder is None:
             raise InputError("the calibration file is relative to the project folder; pass folder=",
                              input_name="lattice.calibration", file=inputs.file)
+        check_export(Path(folder) / exported, input_name="lattice.calibration", file=exported)
         found = calibration_from_export(Path(folder) / exported)
         calibration = materials.calibrated(mats["lattice"], dynamic_modulus=found.modulus, source=found.source,
                                            id_prefix="lattice.calibrated")
@@ -265,6 +267,7 @@ def receiver_setup(project: Project, design: PanelDesign) -> ReceiverSetup:
     direction = inp.get("receiver.direction")
     survey = None
     if survey_file:
+        check_export(Path(project.folder) / survey_file, input_name="coverage.survey_results", file=survey_file)
         survey = coverage.survey_requirement(Path(project.folder) / survey_file, direction=direction)
         direction = direction or survey["direction"]
         if direction is None:

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import fcntl
 import json
+from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
@@ -29,15 +31,25 @@ class ExportReport:
 
 
 def inputs_rows(project: Project) -> list[dict]:
-    """The inputs table: id, description, value text, unit, source, plus the JSON value."""
+    """The inputs table: id, description, value text, unit, source, plus the JSON value.
+
+    A file input's source also names the file's SHA-256 and size, and for an imported calc package its
+    calc id, revision and status (:mod:`latticecalc.project.lineage`).
+    """
+    from latticecalc.project.lineage import data_files
+
+    files = {f.input_name: f for f in data_files(project)}
     rows = []
     for e in project.inputs.entries():
         text, unit = e.display()
         value, value_unit = e.display_value()
         canon = e.canonical()
+        source = e.source
+        if e.spec.name in files:
+            source = "; ".join(s for s in (source, files[e.spec.name].summary()) if s)
         rows.append({"id": e.spec.name, "description": e.spec.description, "text": text, "unit": unit,
                      "value": value, "value_unit": value_unit, "si_value": canon["value"],
-                     "si_unit": canon["unit"], "source": e.source, "step": "inputs", "line": e.line})
+                     "si_unit": canon["unit"], "source": source, "step": "inputs", "line": e.line})
     return rows
 
 
@@ -129,13 +141,54 @@ def _seal(html: str) -> str:
     return seal_package(html)
 
 
-def _after_export(project: Project, data: dict, doc: SheetDocument) -> None:
-    """Keep the revision record of this export (after the package is written)."""
+def _revision_file(project: Project, data: dict, doc: SheetDocument) -> dict[Path, str]:
+    """The revision record of this export, to be written in the same batch as the package ({} if frozen)."""
     try:
-        from latticecalc.project.signoff import after_export
+        from latticecalc.project.signoff.extras import revision_file
     except ImportError:
-        return
-    after_export(project, data, doc)
+        return {}
+    found = revision_file(project, data, doc)
+    return {} if found is None else {found[0]: found[1]}
+
+
+def _sealed_json(data: dict, extras: PackageExtras) -> dict:
+    """The package JSON with its fingerprint, fingerprinted content, status, sign-offs and seal."""
+    from latticecalc.project.lineage import seal_export
+
+    embedded = json.loads(extras.embedded_json) if extras.embedded_json else {}
+    if not embedded:
+        return data
+    return seal_export(data, fingerprint=embedded["fingerprint"], content=embedded["fingerprint_content"],
+                       status=embedded["status"], signoffs=embedded["signoffs"], embed_format=embedded["format"])
+
+
+#: Staged files an export writes (``.<name>.<random>.part``), swept when an earlier export was killed.
+_PART_PATTERNS = (".{stem}.html.*.part", ".{stem}.json.*.part", ".{stem}.pdf.*.part")
+
+
+def sweep_leftovers(project: Project) -> list[Path]:
+    """Remove the staged files an interrupted export left (call it holding the export lock)."""
+    stem = project.meta.package_stem
+    found = [p for pattern in _PART_PATTERNS for p in project.out.glob(pattern.format(stem=stem))]
+    revisions = project.out / "revisions"
+    if revisions.is_dir():
+        found += list(revisions.glob(".*.json.*.part"))
+    for p in found:
+        if p.is_file() and not p.is_symlink():
+            p.unlink(missing_ok=True)
+    return found
+
+
+@contextmanager
+def export_lock(project: Project):
+    """One export of a project at a time (an advisory lock on ``out/.export.lock``)."""
+    project.out.mkdir(parents=True, exist_ok=True)
+    with open(project.out / ".export.lock", "a+b") as fh:
+        fcntl.flock(fh.fileno(), fcntl.LOCK_EX)
+        try:
+            yield
+        finally:
+            fcntl.flock(fh.fileno(), fcntl.LOCK_UN)
 
 
 def export_project(folder: str | Path, *, run: bool = False, with_code: bool = False,
@@ -173,6 +226,19 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
         raise ProjectError("changed since the last run, so its results may not match its inputs: "
                            + ", ".join(changed), input_name=str(project.folder),
                            hint="Run it again ('latticecalc run DIR'), or export with --run")
+    with export_lock(project):
+        sweep_leftovers(project)
+        html_path, json_path = _write_package(project, with_code=with_code)
+    pdf_path = None
+    if pdf:
+        from latticecalc.project.pdf import print_pdf
+
+        pdf_path = print_pdf(html_path)
+    return ExportReport(html=html_path, json=json_path, pdf=pdf_path)
+
+
+def _write_package(project: Project, *, with_code: bool) -> tuple[Path, Path]:
+    """Render the package and write its HTML, JSON and revision record as one batch."""
     executed = [project.out / EXECUTED_DIR / nb.name for nb in project.notebooks]
     doc = collect(executed)
     generated = datetime.now(UTC).isoformat(timespec="seconds")
@@ -185,16 +251,11 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
     stem = project.meta.package_stem
     html_path = project.out / f"{stem}.html"
     json_path = project.out / f"{stem}.json"
-    text = json.dumps(data, indent=2, ensure_ascii=False)
-    # Render everything first; then two atomic replaces: a failure leaves the old package intact.
-    write_many_atomic({html_path: html, json_path: text})
-    _after_export(project, data, doc)
-    pdf_path = None
-    if pdf:
-        from latticecalc.project.pdf import print_pdf
-
-        pdf_path = print_pdf(html_path)
-    return ExportReport(html=html_path, json=json_path, pdf=pdf_path)
+    text = json.dumps(_sealed_json(data, extras), indent=2, ensure_ascii=False)
+    # Render everything first, then stage all files and rename them: a failure while staging leaves the
+    # old package and its revision record as they were.
+    write_many_atomic({html_path: html, json_path: text, **_revision_file(project, data, doc)})
+    return html_path, json_path
 
 
 def embed_json(data: dict) -> str:

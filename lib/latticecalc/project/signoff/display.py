@@ -247,12 +247,19 @@ def signoff_states(html: str) -> dict[str, str]:
 
 
 def word_diff(old: str, new: str) -> str:
-    """The first run of words that differs: ``'57.76' became '57.70'``."""
+    """The first run of words that differs, and the word before it: ``'15.41' became '15.47' after 'mass'``.
+
+    When more runs differ, their count follows (``… (and 2 more changes)``).
+    """
     a, b = old.split(), new.split()
-    for op, i1, i2, j1, j2 in difflib.SequenceMatcher(a=a, b=b, autojunk=False).get_opcodes():
-        if op != "equal":
-            return f"'{' '.join(a[i1:i2])[:60]}' became '{' '.join(b[j1:j2])[:60]}'"
-    return "text differs"
+    runs = [op for op in difflib.SequenceMatcher(a=a, b=b, autojunk=False).get_opcodes() if op[0] != "equal"]
+    if not runs:
+        return "text differs"
+    _, i1, i2, j1, j2 = runs[0]
+    text = f"'{' '.join(a[i1:i2])[:60]}' became '{' '.join(b[j1:j2])[:60]}'"
+    if i1 > 0:
+        text += f" after '{a[i1 - 1][:30]}'"
+    return text + (f" (and {len(runs) - 1} more change{'s' if len(runs) > 2 else ''})" if len(runs) > 1 else "")
 
 
 def _diff(shown: str, expected: str) -> str:

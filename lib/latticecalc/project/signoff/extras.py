@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 from html import escape
+from pathlib import Path
 
+from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.export.html import PackageExtras, SignRow
 from latticecalc.project.project import Project
 from latticecalc.project.signoff.fingerprint import fingerprint_content, fingerprint_of
@@ -11,7 +13,7 @@ from latticecalc.project.signoff.journal import head_problem
 from latticecalc.project.signoff.keys import chain_problems
 from latticecalc.project.signoff.records import ROLES, SignoffState, judge, load_records, signatures_path, status_of
 from latticecalc.project.signoff.review import ReviewComment, load_comments, review_problems
-from latticecalc.project.signoff.revisions import history_html, load_revisions, record_export, revision_record
+from latticecalc.project.signoff.revisions import history_html, load_revisions, revision_record, revision_text
 from latticecalc.project.signoff.trust import project_trust
 from latticecalc.project.signoff.verify import EMBED_FORMAT, SEAL_PLACEHOLDER
 
@@ -123,10 +125,17 @@ def package_extras(project: Project, data: dict, doc) -> PackageExtras:
                          embedded_json=embed_json(embedded))
 
 
-def after_export(project: Project, data: dict, doc) -> None:
-    """Keep this export's JSON as the current revision's record (once the package is written)."""
+def revision_file(project: Project, data: dict, doc) -> tuple[Path, str] | None:
+    """Where the revision record of this export goes and its text (None when the revision is frozen: approved)."""
     fp, content, _states, status = signoff_view(project, data, doc)
     stored = load_revisions(project)
     previous = next((r for r in stored if r.get("revision") == project.meta.revision), None)
-    record_export(project, revision_record(data=data, fingerprint=fp, content=content, status=status,
-                                          previous=previous))
+    return revision_text(project, revision_record(data=data, fingerprint=fp, content=content, status=status,
+                                                  previous=previous))
+
+
+def after_export(project: Project, data: dict, doc) -> None:
+    """Write this export's revision record on its own (the export writes it in its batch instead)."""
+    found = revision_file(project, data, doc)
+    if found is not None:
+        write_text_atomic(found[0], found[1])

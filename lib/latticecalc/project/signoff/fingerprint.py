@@ -12,6 +12,10 @@ of the *fingerprint content*:
     Each input as the package shows it (value text and unit), so a visible edit is caught.
 ``notebooks``
     The code of each notebook in run order (``state.notebook_code``: cell sources, no outputs).
+``files``
+    Every file the ``path`` inputs name (records, imported calc package exports): input, path,
+    SHA-256 and size, and for an import its calc id, revision, fingerprint and status
+    (:mod:`latticecalc.project.lineage`), so a sign-off made with one record is void with another.
 ``results``
     The key results of the package JSON: id, unit, the text shown, and the value rounded to
     :data:`RESULT_SIG_FIGS` significant figures (checks also carry their verdict), so that float
@@ -53,7 +57,7 @@ if TYPE_CHECKING:
 #: Significant figures kept of every number in the fingerprint content.
 RESULT_SIG_FIGS = 10
 
-CONTENT_FORMAT = "latticecalc-fingerprint-content/2"
+CONTENT_FORMAT = "latticecalc-fingerprint-content/3"
 #: The parts of the content a reader sees on the page.
 DISPLAYED = ("checks", "summary", "shown", "inputs_shown")
 
@@ -115,6 +119,7 @@ def shown_steps(doc) -> dict[str, str]:
 
 def fingerprint_content(project: Project, data: dict, doc) -> dict:
     """The content the fingerprint covers, from the project, its package JSON ``data`` and sheet ``doc``."""
+    from latticecalc.project.lineage import data_files
     from latticecalc.project.signoff.display import checks_content, summary_content
     from latticecalc.project.state import notebook_code
 
@@ -125,6 +130,7 @@ def fingerprint_content(project: Project, data: dict, doc) -> dict:
         "inputs": project.inputs.canonical(),
         "inputs_shown": {i["id"]: f"{i['text']} {i['unit']}".strip() for i in data["inputs"]},
         "notebooks": [{"name": nb.name, "code": notebook_code(nb)} for nb in project.notebooks],
+        "files": [f.to_dict() for f in data_files(project)],
         "results": [_result_entry(r) for r in data["results"]],
         "shown": shown_steps(doc),
         "checks": checks_content(doc),
@@ -141,12 +147,13 @@ class ContentChanges:
     results: list[str] = field(default_factory=list)
     notebooks: list[str] = field(default_factory=list)
     project: list[str] = field(default_factory=list)
+    files: list[str] = field(default_factory=list)
     kit_version: str = ""
 
     @property
     def empty(self) -> bool:
         """True when nothing changed."""
-        return not (self.inputs or self.results or self.notebooks or self.project or self.kit_version)
+        return not (self.inputs or self.results or self.notebooks or self.project or self.files or self.kit_version)
 
     def describe(self, max_items: int | None = None) -> str:
         """One line naming what changed, e.g. ``inputs changed: cell.width (0.12 m -> 0.1 m)``.
@@ -154,7 +161,8 @@ class ContentChanges:
         ``max_items`` shortens each list to that many names plus "and N more".
         """
         parts = []
-        for label, items in (("inputs changed", self.inputs), ("results changed", self.results),
+        for label, items in (("data files changed", self.files), ("inputs changed", self.inputs),
+                             ("results changed", self.results),
                              ("notebook code changed", self.notebooks), ("project details changed", self.project)):
             if items:
                 shown = items if max_items is None or len(items) <= max_items else [
@@ -208,7 +216,33 @@ def diff_content(old: dict, new: dict) -> ContentChanges:
     kit = ""
     if old.get("kit_version") != new.get("kit_version"):
         kit = f"{old.get('kit_version')} -> {new.get('kit_version')}"
-    return ContentChanges(inputs=inputs, results=results, notebooks=notebooks, project=project, kit_version=kit)
+    return ContentChanges(inputs=inputs, results=results, notebooks=notebooks, project=project,
+                          files=_file_changes(old.get("files", []), new.get("files", [])), kit_version=kit)
+
+
+def _file_changes(old: list, new: list) -> list[str]:
+    """``records/site.csv (record.file): contents changed (SHA-256 1a2b… -> 3c4d…)`` for each file that differs."""
+    def by_key(rows: list) -> dict:
+        return {(r.get("input"), r.get("path")): r for r in rows if isinstance(r, dict)}
+
+    a, b = by_key(old), by_key(new)
+    out = []
+    for key in list(a) + [k for k in b if k not in a]:
+        ra, rb = a.get(key), b.get(key)
+        if ra == rb:
+            continue
+        name = f"{key[1]} ({key[0]})"
+        if ra is None:
+            out.append(f"{name} (now read)")
+        elif rb is None:
+            out.append(f"{name} (no longer read)")
+        elif ra.get("sha256") != rb.get("sha256"):
+            out.append(f"{name} (contents changed: SHA-256 {str(ra.get('sha256'))[:8]}… -> "
+                       f"{str(rb.get('sha256'))[:8]}…)")
+        else:
+            pa, pb = ra.get("package") or {}, rb.get("package") or {}
+            out.append(f"{name} (status {pa.get('status')} -> {pb.get('status')})")
+    return out
 
 
 __all__ = ["RESULT_SIG_FIGS", "ContentChanges", "canonical_json", "diff_content", "display_digest",

@@ -48,14 +48,22 @@ def revision_record(*, data: dict, fingerprint: str, content: dict, status: str,
             "content": content, "package": data}
 
 
-def record_export(project: Project, record: dict) -> bool:
-    """Store ``record`` as the current revision's; False if that revision is frozen (approved)."""
+def revision_text(project: Project, record: dict) -> tuple[Path, str] | None:
+    """Where ``record`` goes and its JSON text; None if that revision is frozen (approved, other content)."""
     path = revisions_dir(project) / f"{record['revision']}.json"
     if path.is_file():
         old = json.loads(path.read_text(encoding="utf-8"))
         if old.get("status") == "approved" and old.get("fingerprint") != record["fingerprint"]:
-            return False
-    write_text_atomic(path, json.dumps(record, indent=1, ensure_ascii=False))
+            return None
+    return path, json.dumps(record, indent=1, ensure_ascii=False)
+
+
+def record_export(project: Project, record: dict) -> bool:
+    """Store ``record`` as the current revision's; False if that revision is frozen (approved)."""
+    found = revision_text(project, record)
+    if found is None:
+        return False
+    write_text_atomic(*found)
     return True
 
 

@@ -49,6 +49,8 @@ from latticecalc.project.signoff.trust import load_trust
 EMBED_FORMAT = "latticecalc-signoff/1"
 SEAL_PLACEHOLDER = "@@latticecalc-seal@@"
 _SCRIPT = re.compile(r'(<script type="application/json" id="lc-package-data">)(.*?)(</script>)', re.DOTALL)
+#: The block key of the page text that lies in no element with an id (the summary box, captions...).
+OUTSIDE_BLOCKS = "(text outside the named blocks)"
 _VOID = {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta", "source", "track", "wbr"}
 
 
@@ -81,9 +83,13 @@ class _Blocks(HTMLParser):
     def handle_data(self, data):
         if self.skip:
             return
+        named = False
         for _, ident in self.stack:
             if ident is not None:
                 self.parts[ident].append(data)
+                named = True
+        if not named:
+            self.parts.setdefault(OUTSIDE_BLOCKS, []).append(data)
 
 
 def block_texts(html: str) -> dict[str, str]:
@@ -151,9 +157,43 @@ def read_embedded(html: str) -> dict:
     return data if isinstance(data, dict) else {}
 
 
-def verify_package(path: str | Path, *, keys: str | Path | None = None) -> VerifyReport:
-    """Check an exported package's content hash, visible figures and sign-offs (see module doc)."""
+def verify_export_json(path: str | Path, *, keys: str | Path | None = None) -> VerifyReport:
+    """Check a package's exported JSON: its seal, fingerprint, results and the status its sign-offs give.
+
+    The same checks a project that imports the JSON makes (:func:`latticecalc.project.lineage.check_export`);
+    with ``keys``, every sign-off that counts must also be signed by a listed key, for its person and role.
+    """
+    from latticecalc.errors import RecordError
+    from latticecalc.project.lineage import check_export
+
     path = Path(path)
+    report = VerifyReport(path=path)
+    try:
+        found = check_export(path, input_name="PACKAGE")
+    except RecordError as exc:  # what the export says does not hold (file errors are raised as they are)
+        report.problems.append("export: " + exc.message)
+        return report
+    report.notes.append(f"{found.label}: status {found.status}" + (" (" + "; ".join(found.signed) + ")"
+                                                                   if found.signed else ""))
+    if keys is not None:
+        trust = load_trust(keys)
+        data = json.loads(path.read_text(encoding="utf-8"))
+        for rec in data["signoff"].get("signoffs", []):
+            if isinstance(rec, dict) and rec.get("fingerprint") == found.fingerprint:
+                why = trust.problem(rec)
+                if why:
+                    report.problems.append(f"sign-off {rec.get('seq')} ({rec.get('role')}, {rec.get('name')}): {why}")
+    return report
+
+
+def verify_package(path: str | Path, *, keys: str | Path | None = None) -> VerifyReport:
+    """Check an exported package's content hash, visible figures and sign-offs (see module doc).
+
+    A ``.json`` path is the package's exported JSON: see :func:`verify_export_json`.
+    """
+    path = Path(path)
+    if path.suffix.lower() == ".json":
+        return verify_export_json(path, keys=keys)
     try:
         html = path.read_text(encoding="utf-8")
     except FileNotFoundError:
@@ -198,13 +238,20 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
     if document_hash(html) != seal.get("document_sha256"):
         sealed = seal.get("blocks", {})
         changed = [k for k in sealed if blocks.get(k) != sealed[k]]
-        changed += [k for k in blocks if k not in sealed]
+        # a package sealed before the outside text was kept has no such block: nothing to compare it with
+        changed += [k for k in blocks if k not in sealed and k != OUTSIDE_BLOCKS]
         inner = [k for k in changed if not any(o != k and sealed.get(o, "") and o in changed
                                                and sealed.get(o, "") in sealed.get(k, "") for o in changed)]
         if not inner:
-            bad.append("document: markup or images differ from the sealed package (no text changed)")
+            bad.append("document: markup or images differ from the sealed package (no text changed)"
+                       if OUTSIDE_BLOCKS in sealed else
+                       "document: differs from the sealed package, and no block with an id changed its text "
+                       "(this package was sealed without its other text: markup, images or text outside "
+                       "the named blocks changed)")
         for k in inner[:10]:
-            if k not in sealed:
+            if k == OUTSIDE_BLOCKS:
+                bad.append(f"document: {k}: {word_diff(sealed[k], blocks[k])}")
+            elif k not in sealed:
                 bad.append(f"document: block '{k}' was added")
             elif k not in blocks:
                 bad.append(f"document: block '{k}' was removed")
@@ -290,4 +337,5 @@ def _check_signoffs(report: VerifyReport, data: dict, content: dict, stated: str
                             "('latticecalc trust') to check who may sign what")
 
 
-__all__ = ["SEAL_PLACEHOLDER", "VerifyReport", "block_texts", "document_hash", "seal_package", "verify_package"]
+__all__ = ["SEAL_PLACEHOLDER", "VerifyReport", "block_texts", "document_hash", "seal_package", "verify_export_json",
+           "verify_package"]

@@ -113,3 +113,28 @@ def test_bad_inputs(cubic):
     lossy = SimpleNamespace(**{**vars(PLA), "loss_factor": -0.1})
     with pytest.raises(InputError, match="loss factor"):
         panel.transmissibility(cubic, materials={"lattice": lossy})
+
+
+RTOL_PROJECTED_DB = 0.01     # projected sweep against one direct solve per frequency (tolerance 1e-3 dB + margin)
+
+
+@pytest.mark.parametrize("direction", ["vertical", "normal"])
+def test_projected_sweep_matches_direct_solves(direction):
+    # Hetmaniuk, Tezaur & Farhat (2012) [from memory]: Galerkin projection on solutions at sampled frequencies
+    # converges to the direct solution; here every one of the 120 frequencies is compared
+    cell = build_cell("octet", cell_width=Q_(40, "mm"), strut_diameter=Q_(2.5, "mm"), frame_diameter=Q_(6, "mm"))
+    kw = dict(materials={"lattice": TPU, "frame": PLA}, nx=2, ny=3, n_elements=4, f_min=Q_(1, "Hz"),
+              f_max=Q_(900, "Hz"), n_frequencies=120, check_points=0, direction=direction)
+    projected = panel.transmissibility(cell, **kw)
+    direct = panel.transmissibility(cell, solver="direct", **kw)
+    np.testing.assert_allclose(projected["level"], direct["level"], rtol=0, atol=RTOL_PROJECTED_DB)
+    step = projected.step("panel.sweep-error")
+    assert float(step.result.magnitude) < RTOL_PROJECTED_DB
+    assert "solved exactly" in projected.step("panel.dofs").method
+    with pytest.raises(InputError, match="no such step"):
+        direct.step("panel.sweep-error")
+
+
+def test_unknown_sweep_solver_is_refused(cubic):
+    with pytest.raises(InputError, match="solver"):
+        panel.transmissibility(cubic, materials={"lattice": PLA}, solver="modal")

@@ -23,6 +23,7 @@ import json
 import math
 import sys
 import time
+import warnings
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -385,7 +386,9 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
     # 1. screen
     n_screen = settings.screen
     sob = qmc.Sobol(d=space.dimension, scramble=True, seed=settings.seed)
-    U = sob.random(n_screen)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")     # any count is allowed: balance is best at powers of 2, not required
+        U = sob.random(n_screen)
     total_hand = n_screen + settings.population * settings.generations
     screen = [space.decode(u) for u in U]
     evaluate("hand", screen, total_hand, 0)

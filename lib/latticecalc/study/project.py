@@ -88,7 +88,7 @@ def _input_text(name: str, value: Any) -> Any:
 
     dim = KNOWN_VARIABLES.get(name, ("", None, ""))[1]
     if dim is not None and name in KNOWN_VARIABLES:
-        return f"{float(value):.6g} {UNITS[dim]}"
+        return f"{round(float(value), 6):.12g} {UNITS[dim]}"
     return value
 
 

@@ -46,6 +46,10 @@ KNOWN_VARIABLES: dict[str, tuple[str, str | None, str]] = {
 #: The unit each continuous variable is stored in (designs are plain numbers in these units).
 UNITS = {"length": "mm", "mass": "g"}
 
+#: Resolution of continuous values (common practice: a print is not made finer than 0.01 mm, a mass than 0.1 g);
+#: a design is written back into a project exactly as it was evaluated.
+RESOLUTION = {"mm": 0.01, "g": 0.1}
+
 _CELL_KINDS = ("octet", "simple-cubic", "bcc", "fcc", "diamond")
 
 
@@ -59,8 +63,10 @@ class Continuous:
     unit: str
 
     def decode(self, u: float) -> float:
-        """The value at ``u`` in [0, 1]."""
-        return float(self.low + (self.high - self.low) * min(max(u, 0.0), 1.0))
+        """The value at ``u`` in [0, 1], rounded to the resolution a design is made and written to."""
+        x = self.low + (self.high - self.low) * min(max(u, 0.0), 1.0)
+        step = RESOLUTION.get(self.unit, 0.0)
+        return float(min(max(round(x / step) * step, self.low), self.high)) if step else float(x)
 
     def encode(self, value: Any) -> float:
         """The point in [0, 1] of ``value``."""

@@ -71,7 +71,7 @@ def test_practitioner_units():
 @pytest.mark.parametrize(
     ("x", "sig", "text"),
     [(259.4236, 4, "259.4"), (306796.0, 4, "306800"), (50.0, 4, "50"), (0.0123456, 3, "0.0123"),
-     (1.23456e-5, 3, "1.23e-05"), (0.0, 3, "0")],
+     (1.23456e-5, 3, "1.23 × 10⁻⁵"), (0.0, 3, "0")],
 )
 def test_significant_figures(x, sig, text):
     assert format_number(x, sig) == text

@@ -274,8 +274,67 @@ def unit_text(unit: Any) -> str:
     return text.replace(" ", "")
 
 
-def format_number(x: float, sig: int = 4) -> str:
-    """Format a float to ``sig`` significant figures without needless exponents.
+#: Unicode superscripts for the exponent of a power of ten (``×10⁻⁵``).
+_TO_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+#: Narrow no-break space: the SI Brochure's thin space between groups of three digits.
+THIN_SPACE = "\u202f"
+#: Most values of an array written out in full; longer arrays are summarised (count, smallest, largest).
+MAX_LISTED = 6
+
+#: Units an engineer reaches for, per dimension, most preferred first.  A value keeps its own unit
+#: when its number reads plainly there; otherwise the first of these in which it does is used.
+PREFERRED_UNITS = {
+    "[length]": ("mm", "m", "µm", "km", "nm"),
+    "[length] / [time]": ("mm/s", "µm/s", "m/s", "nm/s"),
+    "[length] / [time] ** 2": ("m/s^2", "mm/s^2", "µm/s^2"),
+    "1 / [time]": ("Hz", "kHz", "mHz", "MHz"),
+    "[time]": ("s", "ms", "µs", "min", "h"),
+    "[mass]": ("kg", "g", "t", "mg"),
+    "[mass] / [length] / [time] ** 2": ("MPa", "kPa", "Pa", "GPa"),
+    "[mass] * [length] / [time] ** 2": ("N", "kN", "MN", "mN"),
+    "[mass] / [time] ** 2": ("N/m", "kN/m", "MN/m", "N/mm"),
+    "[length] ** 2": ("mm^2", "m^2", "cm^2"),
+    "[length] ** 3": ("mm^3", "m^3", "cm^3"),
+    "[length] ** 4": ("mm^4", "m^4", "cm^4"),
+}
+
+
+def _plain_range(exponent: int, sig: int) -> bool:
+    """True when a number of this decimal exponent is written without a power of ten."""
+    return -3 <= exponent < sig + 3
+
+
+def power_of_ten(mantissa: str, exponent: int) -> str:
+    """``'1.23 × 10⁻⁵'``: a number with a power of ten, multiplication sign and superscript exponent."""
+    return f"{mantissa} × 10{str(exponent).translate(_TO_SUPERSCRIPT)}"
+
+
+def group_digits(text: str, sep: str = THIN_SPACE) -> str:
+    """Digits of a plain number grouped in threes either side of the decimal point (more than 4 digits).
+
+    >>> group_digits("306800", sep=" ")
+    '306 800'
+    >>> group_digits("1234.5", sep=" ")
+    '1234.5'
+    """
+    sign = text[0] if text[:1] in "-−+" else ""
+    body = text[len(sign):]
+    whole, dot, frac = body.partition(".")
+    if not whole.isdigit() or (frac and not frac.isdigit()):
+        return text
+    if len(whole) > 4:
+        whole = f"{int(whole):,}".replace(",", sep)
+    if len(frac) > 4:
+        frac = sep.join(frac[i:i + 3] for i in range(0, len(frac), 3))
+    return sign + whole + dot + frac
+
+
+def format_number(x: float, sig: int = 4, *, group: bool = False) -> str:
+    """Format a number to ``sig`` significant figures without needless exponents.
+
+    A number too small or too large to read plainly is written with a power of ten
+    (``1.23 × 10⁻⁵``), never ``1.23e-05``.  ``None`` and NaN are ``—``, booleans ``yes``/``no``;
+    ``group=True`` puts a thin space between groups of three digits.
 
     >>> format_number(259.4236, 4)
     '259.4'
@@ -284,40 +343,172 @@ def format_number(x: float, sig: int = 4) -> str:
     >>> format_number(50.0, 4)
     '50'
     >>> format_number(0.000123456, 3)
-    '1.23e-04'
+    '1.23 × 10⁻⁴'
     """
     if x is None or (isinstance(x, float) and math.isnan(x)):
         return "—"
     if isinstance(x, (bool, np.bool_)):
-        return str(bool(x))
+        return "yes" if x else "no"
     x = float(x)
+    if math.isnan(x):
+        return "—"
     if x == 0:
         return "0"
     if math.isinf(x):
         return "∞" if x > 0 else "−∞"
     exponent = math.floor(math.log10(abs(x)))
-    if exponent < -3 or exponent >= sig + 3:
-        return f"{x:.{sig - 1}e}"
+    if not _plain_range(exponent, sig):
+        mantissa, _, exp = f"{x:.{sig - 1}e}".partition("e")
+        if "." in mantissa:
+            mantissa = mantissa.rstrip("0").rstrip(".")
+        return power_of_ten(mantissa, int(exp))
     rounded = round(x, sig - 1 - exponent)
     decimals = max(sig - 1 - exponent, 0)
     text = f"{rounded:.{decimals}f}"
     if "." in text:
         text = text.rstrip("0").rstrip(".")
-    return text
+    if text == "-0":
+        text = "0"
+    return group_digits(text) if group else text
+
+
+def _exponent(values: np.ndarray) -> int | None:
+    finite = np.abs(values[np.isfinite(values) & (values != 0)])
+    if finite.size == 0:
+        return None
+    return int(math.floor(math.log10(float(finite.max()))))
+
+
+def readable_unit(q: pint.Quantity, sig: int = 4) -> pint.Quantity:
+    """``q`` in a unit where its number reads plainly: its own unit if it does, else an engineer's prefix.
+
+    ``1.5e-4 m`` becomes ``0.15 mm``; ``1e-9 m/s`` becomes ``1 nm/s``; ``20 MPa`` stays.  For an array
+    the unit is chosen so that its largest value is at least 1 and its smallest non-zero value still
+    reads plainly (``[2.7e-6, 1.3e-4] m/s`` becomes ``2.7 … 130 µm/s``).  A quantity with no preferred
+    unit that reads plainly is returned as it is.
+    """
+    mags = np.atleast_1d(np.asarray(q.magnitude, dtype=float))
+    exponent = _exponent(mags)
+    if exponent is None or not getattr(q, "_is_multiplicative", True):
+        return q
+    array = mags.size > 1
+
+    def spread(values: np.ndarray) -> tuple[int, int] | None:
+        nonzero = np.abs(values[np.isfinite(values) & (values != 0)])
+        if nonzero.size == 0:
+            return None
+        return (int(math.floor(math.log10(float(nonzero.min())))),
+                int(math.floor(math.log10(float(nonzero.max())))))
+
+    def fits(values: np.ndarray, strict: bool) -> bool:
+        lo_hi = spread(values)
+        if lo_hi is None:
+            return True
+        lo, hi = lo_hi
+        if not (_plain_range(lo, sig) and _plain_range(hi, sig)):
+            return False
+        return not strict or (hi >= 0 if array else lo >= -1)
+
+    if fits(mags, strict=False) and not (array and not fits(mags, strict=True) and spread(mags)[0] < -2):
+        return q
+    candidates = []
+    for unit in PREFERRED_UNITS.get(str(q.dimensionality), ()):
+        try:
+            candidates.append(q.to(unit))
+        except pint.errors.PintError:
+            continue
+    for strict in (True, False):
+        for candidate in candidates:
+            if fits(np.atleast_1d(np.asarray(candidate.magnitude, dtype=float)), strict):
+                return candidate
+    return q
+
+
+def _number_list(values, sig: int) -> str:
+    flat = np.ravel(np.asarray(values, dtype=float))
+    if flat.size == 0:
+        return "no values"
+    if flat.size <= MAX_LISTED:
+        return ", ".join(format_number(v, sig) for v in flat)
+    finite = flat[np.isfinite(flat)]
+    if finite.size == 0:
+        return f"{flat.size} values, none a number"
+    if finite.min() == finite.max():
+        return f"{flat.size} values, all {format_number(finite.min(), sig)}"
+    return f"{flat.size} values from {format_number(finite.min(), sig)} to {format_number(finite.max(), sig)}"
+
+
+_E_NUMBER = re.compile(r"(?<![\w.])([+-]?)(\d+(?:\.\d+)?)[eE]([+-]?\d+)(?![\w.])")
+
+
+def plain_numbers(text: str) -> str:
+    """Numbers written by a program in e-notation (``2.1e-06``, ``1.1e+03``) rewritten as an engineer writes them.
+
+    ``'sampling error about ±2.1e-06'`` becomes ``'sampling error about ±2.1 × 10⁻⁶'``; ``'1.1e+03'``
+    becomes ``'1100'``.  The mantissa's digits set the significant figures; other text is left alone.
+    """
+    def one(m: re.Match) -> str:
+        digits = len(m.group(2).replace(".", "").lstrip("0")) or 1
+        return format_number(float(m.group(1) + m.group(2) + "e" + m.group(3)), max(digits, 1))
+
+    return _E_NUMBER.sub(one, text)
 
 
 def format_quantity(q: Any, unit: str | None = None, sig: int = 4) -> str:
-    """``'259.4 Hz'``; arrays are shown as a short list."""
+    """A value as an engineer writes it: number, space, unit (``'259.4 Hz'``, ``'0.15 mm'``).
+
+    The value keeps its unit unless its number would need a power of ten, when a prefixed unit is
+    chosen (:func:`readable_unit`).  Up to :data:`MAX_LISTED` values of an array are listed
+    (``'39.25, 24.5 Hz'``); a longer array is summarised (``'25 values from 0.155 to 130 µm/s'``).
+    """
     if not isinstance(q, pint.Quantity):
-        return format_number(q, sig) if np.ndim(q) == 0 else str(q)
+        return format_number(q, sig) if np.ndim(q) == 0 else _number_list(q, sig)
     if unit is not None:
         q = q.to(unit)
+    else:
+        q = readable_unit(q, sig)
     u = unit_text(q.units)
     mag = q.magnitude
-    if np.ndim(mag) == 0:
-        num = format_number(mag, sig)
-    else:
-        flat = np.ravel(mag)
-        shown = ", ".join(format_number(v, sig) for v in flat[:6])
-        num = "[" + shown + (", …" if flat.size > 6 else "") + "]"
+    if np.ndim(mag) and np.size(mag) == 0:
+        return "no values"
+    num = format_number(mag, sig) if np.ndim(mag) == 0 else _number_list(mag, sig)
     return f"{num} {u}".strip()
+
+
+def format_value(value: Any, sig: int = 4) -> str:
+    """Any input or result value as text for a reader: never a Python repr.
+
+    Booleans are ``yes``/``no``, ``None`` is ``—``, a list is a comma list (``none`` when empty),
+    a mapping is its keys (``'tpu-90a-printed (1 entry)'``: its content belongs in a table),
+    Quantities and numbers go through :func:`format_quantity`.
+    """
+    if hasattr(value, "unwrap"):
+        value = value.unwrap()
+    if value is None:
+        return "—"
+    if isinstance(value, (bool, np.bool_)):
+        return "yes" if value else "no"
+    if isinstance(value, pint.Quantity):
+        return format_quantity(value, sig=sig)
+    if isinstance(value, str):
+        return value
+    if isinstance(value, (int, np.integer)):
+        return str(int(value))
+    if isinstance(value, (float, np.floating)):
+        return format_number(float(value), sig)
+    if isinstance(value, dict) or hasattr(value, "items"):
+        keys = [str(k) for k in value]
+        if not keys:
+            return "none"
+        return ", ".join(keys) + f" ({len(keys)} {'entry' if len(keys) == 1 else 'entries'})"
+    if isinstance(value, np.ndarray):
+        return _number_list(value, sig)
+    if isinstance(value, (list, tuple)):
+        if not value:
+            return "none"
+        if all(isinstance(v, pint.Quantity) for v in value):
+            units = {str(v.units) for v in value}
+            if len(units) == 1:
+                return format_quantity(Q_(np.array([v.magnitude for v in value], dtype=float), units.pop()), sig=sig)
+        return ", ".join(format_value(v, sig) for v in value)
+    return str(value)

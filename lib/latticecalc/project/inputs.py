@@ -24,7 +24,7 @@ from latticecalc.errors import FileFormatError, InputError, LatticeCalcError, Mi
 from latticecalc.files import parse_toml, read_text
 from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.schema import InputSpec, TemplateSpec
-from latticecalc.units import format_number, format_quantity, parse, unit_text
+from latticecalc.units import format_number, format_quantity, format_value, parse, unit_text
 
 INPUTS_FILE = "inputs.toml"
 #: Most items a quantity-list input may hold (each item is parsed on its own).
@@ -48,8 +48,8 @@ class InputValue:
             return format_number(value, 6), unit
         if isinstance(self.value, list) and self.value and isinstance(self.value[0], pint.Quantity):
             return ", ".join(format_number(x, 6) for x in value), unit
-        if isinstance(self.value, (dict, list)):
-            return _short(self.value), ""
+        if isinstance(self.value, (dict, list, bool)):
+            return format_value(_plain(self.value)), ""
         return str(self.value), ""
 
     def display_value(self) -> tuple[Any, str]:
@@ -83,11 +83,6 @@ def _plain(v: Any) -> Any:
     if hasattr(v, "unwrap"):
         return v.unwrap()
     return v
-
-
-def _short(v: Any) -> str:
-    text = str(_plain(v))
-    return text if len(text) < 80 else text[:77] + "…"
 
 
 class Inputs(Mapping):

@@ -7,6 +7,7 @@ units are carried (and checked) by the arithmetic itself.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import cached_property
@@ -17,7 +18,7 @@ import pint
 import sympy as sp
 
 from latticecalc.errors import DimensionError, InputError
-from latticecalc.units import Q_, format_number, ureg
+from latticecalc.units import MAX_LISTED, Q_, format_number, readable_unit, ureg
 
 
 @dataclass(frozen=True)
@@ -97,7 +98,22 @@ class Formula:
     def substituted_latex(self, values: Mapping[str, Any], sig: int = 4) -> str:
         """The expression with every symbol replaced by its value and unit, in LaTeX."""
         names = {s: value_latex(values[s.name], sig=sig, wrap=True) for s in self.symbols}
-        return sp.latex(self.expr, symbol_names=names)
+        return explicit_products(sp.latex(self.expr, symbol_names=names))
+
+
+# A space sympy leaves between two factors where the reader could not tell a product from one number:
+# after a closing bracket, a power or a digit, before a digit or an opening bracket.
+_JUXTAPOSED = re.compile(r"(\\right\)|\\right\]|[0-9}]) (?=[0-9]|\\left[(\[])")
+
+
+def explicit_products(latex: str) -> str:
+    r"""Put a multiplication dot where a substituted product would read as one number.
+
+    ``\left(20\,\text{MPa}\right) 1.3`` becomes ``\left(20\,\text{MPa}\right) \cdot 1.3``; a product
+    of a number and a symbol (``2 \pi``) is left as it is.  The SI Brochure (BIPM 2019, §5.4)
+    asks for a multiplication sign or a half-high dot between numbers.
+    """
+    return _JUXTAPOSED.sub(r"\1 \\cdot ", latex)
 
 
 def _unit_latex(unit: pint.Unit) -> str:
@@ -106,25 +122,52 @@ def _unit_latex(unit: pint.Unit) -> str:
         return ""
     if text == "%":
         return r"\,\%"
-    text = text.replace("µ", r"\mu{}").replace("·", r"\cdot{}").replace("%", "pct")
+    # the unit is text (upright, as written): µ and · are characters, not LaTeX commands
+    text = text.replace("%", "pct").replace("{", "").replace("}", "").replace("\\", "")
     return r"\,\text{" + text + "}"
 
 
+def number_latex(x: float, sig: int = 4) -> str:
+    r"""One number in LaTeX: plain, or with a power of ten (``1.5 \times 10^{-4}``), never ``1.5e-04``."""
+    text = format_number(float(x), sig)
+    if " × 10" in text:
+        mantissa, _, power = text.partition(" × 10")
+        exponent = power.translate(str.maketrans("⁻⁰¹²³⁴⁵⁶⁷⁸⁹", "-0123456789"))
+        return rf"{mantissa} \times 10^{{{exponent}}}"
+    return text.replace("∞", r"\infty").replace("−", "-").replace("—", r"\text{—}")
+
+
+def _vector_latex(flat: np.ndarray, sig: int) -> str:
+    if flat.size == 0:
+        return r"\left[\text{no values}\right]"
+    if flat.size <= MAX_LISTED - 2:
+        return r"\left[" + ", ".join(number_latex(v, sig) for v in flat) + r"\right]"
+    finite = flat[np.isfinite(flat)]
+    if finite.size == 0:
+        return r"\left[\text{" + str(flat.size) + r" values, none a number}\right]"
+    lo, hi = finite.min(), finite.max()
+    if lo == hi:
+        return r"\left[\text{" + str(flat.size) + r" values, all }" + number_latex(lo, sig) + r"\right]"
+    return (r"\left[\text{" + str(flat.size) + r" values: }" + number_latex(lo, sig) + r" \ldots "
+            + number_latex(hi, sig) + r"\right]")
+
+
 def value_latex(value: Any, *, sig: int = 4, wrap: bool = False) -> str:
-    r"""LaTeX for one value with its unit, e.g. ``(20\,\text{MPa})``."""
+    r"""LaTeX for one value with its unit, e.g. ``(20\,\text{MPa})``.
+
+    A value whose number would need a power of ten in its own unit is shown with an engineer's
+    prefix (:func:`latticecalc.units.readable_unit`); an array of more than four values is shown
+    by its first value, its count and its range, so no number is ever cut.
+    """
     if isinstance(value, pint.Quantity):
+        value = readable_unit(value, sig)
         mag, unit = value.magnitude, value.units
     else:
         mag, unit = value, ureg.dimensionless
     if np.ndim(mag) != 0:
-        flat = np.ravel(mag)
-        num = r"\left[" + ", ".join(format_number(v, sig) for v in flat[:4]) + (
-            r", \ldots" if flat.size > 4 else "") + r"\right]"
+        num = _vector_latex(np.ravel(np.asarray(mag, dtype=float)), sig)
     else:
-        num = format_number(float(mag), sig)
-        if "e" in num:
-            base, exp = num.split("e")
-            num = rf"{base} \times 10^{{{int(exp)}}}"
+        num = number_latex(float(mag), sig)
     unit_tex = _unit_latex(unit) if not unit == ureg.dimensionless else ""
     text = num + unit_tex
     if wrap and (unit_tex or num.startswith("-") or r"\times" in num):

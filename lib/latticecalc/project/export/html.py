@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
 from html import escape
 from importlib import resources
 
 from latticecalc.project.export.collect import SheetDocument
-from latticecalc.sheet.render import record_html
+from latticecalc.sheet.render import band_note_html, band_notes, check_measure_text, check_relation_text, record_html
+from latticecalc.units import format_value
 
 CAUTIONS = (
     "This calculation package is a design aid. It does not replace the judgement of a licensed "
@@ -104,13 +106,75 @@ def _title_block(meta: dict, extras: PackageExtras, prepared_date: str) -> str:
 </table></div>"""
 
 
+_REPLACES = re.compile(r"\breplaces? ([a-z0-9_]+(?:\.[a-z0-9_]+)+)")
+_SURVEY_FALLBACK = "used when no site-survey export is named"
+
+
+def _given(row: dict) -> bool:
+    return row.get("value") not in (None, "", [], {})
+
+
+def unused_inputs(inputs: list[dict]) -> dict[str, str]:
+    """Inputs whose value another given input replaces, with the words the source column shows.
+
+    An input's description says what it replaces (``'... its peaks to target replace
+    coverage.target_peaks'``), or that it is only ``used when no site-survey export is named``; when
+    the replacing input is given, the replaced value is not what the calculation used, and its
+    template source (``'example values; take them from a site survey'``) must not read as if it were.
+    """
+    by_id = {i["id"]: i for i in inputs}
+    out: dict[str, str] = {}
+    survey = next((i for i in inputs if "site-survey project" in i.get("description", "") and _given(i)), None)
+    for row in inputs:
+        if not _given(row):
+            continue
+        for name in _REPLACES.findall(row.get("description", "")):
+            if name in by_id and name != row["id"]:
+                out[name] = f"not used: {row['id']} ({row['text']}) replaces it"
+    if survey is not None:
+        for row in inputs:
+            if _SURVEY_FALLBACK in row.get("description", "") and row["id"] not in out:
+                out[row["id"]] = f"not used: the site-survey export {survey['id']} ({survey['text']}) replaces it"
+    return out
+
+
+def _mapping_table(row: dict) -> str:
+    """A mapping input (e.g. project materials) as a small table: entry, property, value, source."""
+    body = []
+    for entry, props in row["value"].items():
+        items = props.items() if isinstance(props, dict) else [("value", props)]
+        for key, val in items:
+            source = ""
+            if isinstance(val, dict) and "value" in val and set(val) <= {"value", "source"}:
+                source, val = str(val.get("source", "")), val["value"]
+            body.append(f"<tr><td><code>{escape(str(entry))}</code></td><td>{escape(str(key).replace('_', ' '))}</td>"
+                        f"<td>{escape(format_value(val, 6))}</td><td>{escape(source) or '—'}</td></tr>")
+    return (f'<table class="lc-inputs lc-input-mapping" id="input-table-{escape(row["id"])}"><caption>'
+            f'{escape(row["id"])}: {escape(row["description"])}</caption><thead><tr><th>Entry</th><th>Property</th>'
+            f"<th>Value</th><th>Source</th></tr></thead><tbody>{''.join(body)}</tbody></table>")
+
+
 def _inputs_table(inputs: list[dict]) -> str:
-    rows = "".join(
-        f"<tr id=\"input-{escape(i['id'])}\"><td><code>{escape(i['id'])}</code></td><td>{escape(i['description'])}</td>"
-        f"<td>{escape(i['text'])}</td><td>{escape(i['unit'])}</td><td>{escape(i['source']) or '—'}</td></tr>"
-        for i in inputs)
-    return ('<table class="lc-inputs"><thead><tr><th>Input</th><th>Description</th><th>Value</th>'
-            f"<th>Unit</th><th>Source</th></tr></thead><tbody>{rows}</tbody></table>")
+    unused = unused_inputs(inputs)
+    rows = []
+    mappings = []
+    for i in inputs:
+        source = escape(i["source"]) or "—"
+        if i["id"] in unused:
+            source = f'<span class="lc-unused">{escape(unused[i["id"]])}</span>' + (
+                f" <s>{escape(i['source'])}</s>" if i["source"] else "")
+        text = escape(i["text"])
+        if isinstance(i.get("value"), dict) and i["value"]:
+            mappings.append(_mapping_table(i))
+            text += f' <a href="#input-table-{escape(i["id"])}">(table below)</a>'
+        rows.append(f"<tr id=\"input-{escape(i['id'])}\"><td><code>{escape(i['id'])}</code></td>"
+                    f"<td>{escape(i['description'])}</td><td>{text}</td><td>{escape(i['unit'])}</td>"
+                    f"<td>{source}</td></tr>")
+    return ('<table class="lc-inputs"><colgroup><col class="lc-col-id"><col class="lc-col-desc">'
+            '<col class="lc-col-val"><col class="lc-col-unit"><col class="lc-col-src"></colgroup><thead><tr>'
+            "<th>Input</th><th>Description</th>"
+            f"<th>Value</th><th>Unit</th><th>Source</th></tr></thead><tbody>{''.join(rows)}</tbody></table>"
+            + "".join(mappings))
 
 
 def _checks_table(checks: list[dict]) -> str:
@@ -118,14 +182,14 @@ def _checks_table(checks: list[dict]) -> str:
         return "<p>No checks in this calculation.</p>"
     rows = []
     for c in checks:
-        rel = "≤" if c["sense"] == "max" else "≥"
         cls = "lc-verdict-ok" if c["ok"] else "lc-verdict-notok"
         rows.append(f'<tr><td><a href="#step-{escape(c["id"])}">{escape(c["id"])}</a></td>'
-                    f"<td>{escape(c['description'])}</td><td>{escape(c['demand_text'])} {rel} "
-                    f"{escape(c['limit_text'])}</td><td>{float(c['utilisation']):.2f}</td>"
+                    f"<td>{escape(c['description'])}</td><td>{escape(check_relation_text(c))}</td>"
+                    f"<td>{escape(check_measure_text(c))}</td>"
                     f'<td class="{cls}"><strong>{escape(c["verdict"])}</strong></td></tr>')
-    return ('<table class="lc-checks"><thead><tr><th>Step</th><th>Check</th><th>Demand vs limit</th>'
-            "<th>Utilisation</th><th>Result</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
+    return ('<table class="lc-checks"><thead><tr><th>Step</th><th>Check</th><th>Demand against limit</th>'
+            "<th>How far from the limit</th><th>Result</th></tr></thead><tbody>" + "".join(rows)
+            + "</tbody></table>")
 
 
 def _comments_for(step_id: str, extras: PackageExtras) -> str:
@@ -209,8 +273,10 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
                 continue
             if rec["kind"] == "result":  # each step followed by its review comments
                 title = f'<div class="lc-result-title">{escape(rec["title"])}</div>' if rec.get("title") else ""
+                notes = band_notes(rec["steps"])
                 parts.append('<div class="lc-calc">' + title + "".join(
-                    record_html(st) + (_comments_for(st["id"], extras) if "id" in st else "")
+                    record_html(st) + (band_note_html(notes[st["id"]]) if st.get("id") in notes else "")
+                    + (_comments_for(st["id"], extras) if "id" in st else "")
                     for st in rec["steps"]) + "</div>")
                 continue
             parts.append(record_html(rec))

@@ -23,6 +23,8 @@ import math
 from html.parser import HTMLParser
 from typing import Any
 
+from latticecalc.sheet.render import check_measure_text, check_relation_text
+
 #: A utilisation this close to 1 is not re-judged (the fingerprint keeps 10 significant figures).
 UTILISATION_RTOL = 1e-8
 
@@ -57,7 +59,8 @@ def checks_content(doc) -> list[dict]:
                     "unit": rec["limit"].get("unit", ""), "demand_text": rec["demand_text"],
                     "limit_text": rec["limit_text"], "utilisation": rec["utilisation"],
                     "utilisation_text": utilisation_text(rec["utilisation"]), "ok": rec["ok"],
-                    "verdict": rec["verdict"]})
+                    "verdict": rec["verdict"], "relation_text": check_relation_text(rec),
+                    "measure_text": check_measure_text(rec)})
     return out
 
 
@@ -118,9 +121,12 @@ def expected_checks_rows(content: dict) -> list[tuple[str, list[str]]]:
     rows = []
     for c in _dicts(content.get("checks")):
         rel = "≤" if c.get("sense") == "max" else "≥"
-        rows.append((str(c.get("id")), [_norm(c.get("id")), _norm(c.get("description")),
-                                        _norm(f"{c.get('demand_text')} {rel} {c.get('limit_text')}"),
-                                        _norm(c.get("utilisation_text")), _norm(c.get("verdict"))]))
+        if "relation_text" in c:  # the relation in words, rebuilt from the check's own numbers
+            relation, measure = check_relation_text(c), check_measure_text(c)
+        else:  # a package fingerprinted before the checks summary said it in words
+            relation, measure = f"{c.get('demand_text')} {rel} {c.get('limit_text')}", c.get("utilisation_text")
+        rows.append((str(c.get("id")), [_norm(c.get("id")), _norm(c.get("description")), _norm(relation),
+                                        _norm(measure), _norm(c.get("verdict"))]))
     return rows
 
 

@@ -7,6 +7,7 @@ from types import SimpleNamespace
 
 import numpy as np
 import pytest
+import scipy.linalg as sla
 from tests.helpers import assert_quantity_close
 
 from latticecalc import Q_
@@ -181,3 +182,56 @@ def test_band_edge_mode_on_the_full_mesh_matches_the_band(framed_octet):
     assert_quantity_close(shape.frequency, Q_(f_band, "Hz"), rtol=RTOL_REDUCED)
     assert shape.lines.shape == shape.displacement.shape
     assert 0.0 <= shape.strut_energy <= 1.0
+
+
+RTOL_CUTOFF = 1e-3           # strut modes up to 3 × the top band: band edges within 0.1 % of the full mesh
+RTOL_EIGEN_SOLVERS = 1e-9    # two eigen-solvers on the same matrices: round-off and Lanczos tolerance
+
+
+def test_mode_cutoff_keeps_band_edges_of_the_full_mesh(framed_octet):
+    # Krattiger & Hussein (2014): Bloch mode synthesis converges to the full model as interior modes are added;
+    # keeping those up to a multiple of the highest frequency of interest is common practice
+    kw = dict(materials=MATS, n_elements=4, n_bands=16, points=12, zone_points=0, convergence_check=False)
+    cut = bloch.dispersion(framed_octet, **kw)
+    full = bloch.dispersion(framed_octet, method="full", **kw)
+    fc, ff = cut["frequencies"].magnitude[:, 3:], full["frequencies"].magnitude[:, 3:]
+    np.testing.assert_allclose(np.nanmin(fc, axis=0), np.nanmin(ff, axis=0), rtol=RTOL_CUTOFF, atol=0)
+    np.testing.assert_allclose(np.nanmax(fc, axis=0), np.nanmax(ff, axis=0), rtol=RTOL_CUTOFF, atol=0)
+    # fewer strut modes than the fixed count, and the sheet says which and how far off the edges are
+    fixed = bloch.dispersion(framed_octet, mode_cutoff=None, edge_check=False, **kw)
+    assert cut.n_dofs_reduced < fixed.n_dofs_reduced
+    assert "3 × the top computed band" in cut.step("bloch.dofs").method
+    err = cut.step("bloch.reduction-error")
+    assert 0 < float(err.result.to("percent").magnitude) < 100 * RTOL_CUTOFF
+
+
+def test_cutoff_follows_a_top_band_above_the_corner_estimate(framed_octet):
+    # common practice: every strut mode below 3 × the top band of the whole path is kept
+    r = bloch.dispersion(framed_octet, materials=MATS, n_elements=4, n_bands=16, points=12, zone_points=0,
+                         convergence_check=False, edge_check=False)
+    top = np.nanmax(r["frequencies"].magnitude[:, -1])
+    pf = bloch.periodic_frame(framed_octet)
+    modes = bloch.strut_mode_frequencies(pf, fe.sections_for(framed_octet, MATS), n_elements=4, strut_modes=8,
+                                         theory="timoshenko")
+    kept = int((modes <= 3 * top).sum())
+    # 4 master joints × 6 DOFs plus the modes kept
+    assert r.n_dofs_reduced >= 24 + kept
+
+
+def test_tuned_sparse_eigensolver_matches_dense(operators):
+    # scipy.linalg.eigh as an independent oracle (Virtanen et al. 2020) for the shift-invert Lanczos path
+    _, full = operators
+    k = np.array([31.0, -57.0, 12.0])
+    K, M = full.matrices(k)
+    w2, x = bloch._sparse_hermitian_lowest(K, M, 12, shift=full._shift())
+    ref = sla.eigh(K.toarray(), M.toarray(), eigvals_only=True)[:12]
+    np.testing.assert_allclose(w2, ref, rtol=RTOL_EIGEN_SOLVERS, atol=0)
+    # eigenvectors M-normalised and satisfying K x = ω² M x
+    np.testing.assert_allclose(np.real(np.einsum("ij,ij->j", x.conj(), M @ x)), 1.0, rtol=1e-9, atol=0)
+    res = K @ x - (M @ x) * w2[None, :]
+    assert np.abs(res).max() <= 1e-7 * np.abs(K @ x).max()
+
+
+def test_bad_mode_cutoff(framed_octet):
+    with pytest.raises(InputError, match="mode_cutoff"):
+        bloch.dispersion(framed_octet, materials=MATS, mode_cutoff=0.5)

@@ -7,7 +7,11 @@ The cell's frame model (:mod:`latticecalc.physics.frame_fe`) is reduced strut by
 Bloch mode synthesis with the joints as the interface: the interior of every strut is reduced
 once, before the wave-vector loop, and each wave vector then needs one small dense Hermitian
 eigenproblem (Krattiger, D. & Hussein, M. I., "Bloch mode synthesis: ultrafast methodology for
-elastic band-structure calculations", *Phys. Rev. E* 90 (2014) 063306).
+elastic band-structure calculations", *Phys. Rev. E* 90 (2014) 063306).  The strut modes kept
+are those up to :data:`MODE_CUTOFF` (3) × the top computed band (estimated at the path's corners,
+re-solved if the path's top band lies higher); the band frequencies at the gap-edge wave vectors
+are compared with the full strut mesh and the difference is put on the sheet.  The full mesh is
+solved by shift-invert Lanczos on the Hermitian pencil with one symmetric-ordering factorisation.
 
 Bloch–Floquet conditions tie each image joint on a face x = a to its master on x = 0:
 u(image) = e^{i k·R} u(master), R the lattice translation between them (Bloch 1929;
@@ -54,6 +58,8 @@ SETYAWAN_CURTAROLO_2010 = Source(author="Setyawan, W. & Curtarolo, S.",
 BRILLOUIN_1946 = Source(author="Brillouin, L.", title="Wave Propagation in Periodic Structures", year=1946,
                         locator="Bloch-Floquet condition u(x + a) = exp(i k a) u(x)")
 
+#: Strut modes kept up to this multiple of the top computed band (Bloch mode synthesis).
+MODE_CUTOFF = 3.0
 DEFAULT_PATH = "G-X-M-G-R-X|M-R"
 DEFAULT_PATH_2D = "G-X-M-G"
 _AXES = {"x": 0, "y": 1, "z": 2}
@@ -280,17 +286,48 @@ class BlochOperator:
         return -1e-4 * d
 
 
-def _sparse_hermitian_lowest(K, M, nb: int, *, shift: float):
-    """Lowest ``nb`` eigenpairs of a sparse complex Hermitian pencil via its real symmetric double.
+def shift_invert(K, M, shift: float) -> spla.LinearOperator:
+    """(K − σ M)⁻¹ as an operator, factorised once with a symmetric ordering (K, M symmetric or Hermitian, sparse).
 
-    [[Re, −Im], [Im, Re]] has every eigenvalue of the Hermitian pencil twice, so ARPACK's real
-    symmetric shift-invert mode can be used (more robust than its complex general mode).
+    SuperLU with a minimum-degree ordering of Aᵀ + A and diagonal pivots keeps the factors of these
+    symmetric matrices several times sparser than the default column ordering; partial pivoting is the
+    fallback when a diagonal pivot fails.
     """
+    A = (K - shift * M).tocsc()
+    try:
+        lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
+        probe = np.ones(A.shape[0], dtype=A.dtype)
+        x = lu.solve(probe)
+        if not (np.all(np.isfinite(x)) and np.linalg.norm(A @ x - probe) <= 1e-8 * np.linalg.norm(probe)):
+            raise RuntimeError("inaccurate symmetric factorisation")
+    except RuntimeError:
+        lu = spla.splu(A)
+    return spla.LinearOperator(A.shape, matvec=lu.solve, dtype=A.dtype)
+
+
+def _sparse_hermitian_lowest(K, M, nb: int, *, shift: float):
+    """Lowest ``nb`` eigenpairs of a sparse complex Hermitian pencil, shift-invert about ``shift``.
+
+    The pencil is solved as it is, with (K − σM)⁻¹ factorised once in a symmetric ordering
+    (:func:`shift_invert`).  Should ARPACK fail there, the real symmetric double
+    [[Re, −Im], [Im, Re]] (every eigenvalue twice) is solved instead.
+    """
+    n = K.shape[0]
+    if nb < n - 1:
+        # the complex Hermitian pencil itself: each eigenvalue once, so Lanczos converges several
+        # times faster than on the real double, where every eigenvalue is repeated
+        try:
+            w, x = spla.eigsh(K, k=nb, M=M, sigma=shift, which="LM", OPinv=shift_invert(K, M, shift))
+            order = np.argsort(w.real)
+            w, x = w.real[order], x[:, order]
+            x /= np.sqrt(np.real(np.einsum("ij,ij->j", x.conj(), M @ x)))[None, :]
+            return w[:nb], x[:, :nb]
+        except (spla.ArpackError, spla.ArpackNoConvergence, RuntimeError):
+            pass
     Kr = sp.bmat([[K.real, -K.imag], [K.imag, K.real]]).tocsc()
     Mr = sp.bmat([[M.real, -M.imag], [M.imag, M.real]]).tocsc()
-    n = K.shape[0]
     k2 = min(2 * nb, 2 * n - 2)
-    w, v = spla.eigsh(Kr, k=k2, M=Mr, sigma=shift, which="LM")
+    w, v = spla.eigsh(Kr, k=k2, M=Mr, sigma=shift, which="LM", OPinv=shift_invert(Kr, Mr, shift))
     order = np.argsort(w)
     w, v = w[order][::2], v[:, order][:, ::2]
     x = v[:n] + 1j * v[n:]
@@ -361,10 +398,11 @@ def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n
                      strut_modes: int, theory: str, part: str | None = "lattice",
                      supports: Mapping[int, Sequence[str]] | None = None,
                      point_masses: Mapping[str, Any] | None = None,
-                     end_zones: np.ndarray | None = None) -> BlochOperator:
+                     end_zones: np.ndarray | None = None, cutoff: float | None = None) -> BlochOperator:
     """Bloch operator of the strut-reduced model (joints + ``strut_modes`` modes per strut), dense.
 
     ``end_zones`` (struts of ``pf``, 2), m: rigid node zones (see :func:`node_zones_of`).
+    ``cutoff`` (Hz): of those modes, keep only the ones at or below this frequency (None: all).
     """
     red = fe.reduce_struts(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, sections=sections,
                            n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses,
@@ -373,8 +411,21 @@ def reduced_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n
     Mp = fe.reduced_matrices(red, n_joints=len(pf.nodes), group=part)[1] if part in pf.groups else None
     extra = K.shape[0] - 6 * len(pf.nodes)
     dm, do, nr = _joint_maps(pf, extra)
-    return _drop(BlochOperator(K=K, M=M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp),
-                 _restrained_dofs(pf, supports))
+    dropped = _restrained_dofs(pf, supports)
+    if cutoff is not None and red.n_modes:
+        above = np.flatnonzero(red.omega2.ravel() > (2 * np.pi * cutoff) ** 2)
+        dropped = np.union1d(dropped, nr - extra + above)
+    return _drop(BlochOperator(K=K, M=M, dof_master=dm, dof_offset=do, n_reduced=nr, M_part=Mp), dropped)
+
+
+def strut_mode_frequencies(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int,
+                           strut_modes: int, theory: str, point_masses: Mapping[str, Any] | None = None,
+                           end_zones: np.ndarray | None = None) -> np.ndarray:
+    """Fixed–fixed mode frequencies (Hz) of every strut of ``pf``, (struts, ``strut_modes``)."""
+    red = fe.reduce_struts(nodes=pf.nodes, struts=pf.struts, groups=pf.groups, sections=sections,
+                           n_elements=n_elements, n_modes=strut_modes, theory=theory, point_masses=point_masses,
+                           end_zones=end_zones)
+    return np.sqrt(np.clip(red.omega2, 0.0, None)) / (2 * np.pi)
 
 
 def full_operator(pf: PeriodicFrame, sections: Mapping[str, fe.Section], *, n_elements: int, theory: str,
@@ -610,6 +661,20 @@ def _bands_on(op: BlochOperator, ks: np.ndarray, n_bands: int, *, progress: Any,
     return f, e
 
 
+def _edge_rows(f: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Rows and bands of the edges to check: both edges of each complete gap, else the top band's maximum."""
+    gaps = find_gaps(f)
+    rows, bands = [], []
+    for _lo, _hi, j in gaps:
+        rows += [int(np.nanargmax(f[:, j])), int(np.nanargmin(f[:, j + 1]))]
+        bands += [j, j + 1]
+    if not gaps:
+        j = int(np.max(np.flatnonzero(np.isfinite(f).all(axis=0)), initial=0))
+        rows.append(int(np.nanargmax(f[:, j])))
+        bands.append(j)
+    return np.array(rows, int), np.array(bands, int)
+
+
 def _check_count(value: Any, *, name: str, minimum: int) -> int:
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < minimum:
         raise InputError(f"{name} must be a whole number >= {minimum}", input_name=name,
@@ -631,7 +696,8 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                method: str = "reduced", zone: str = "octant", zone_points: int = 4,
                theory: str = "timoshenko", energy_group: str = "lattice", convergence_check: bool = True,
                supports: Mapping[int, Sequence[str]] | None = None, cache: Any = None, progress: Any = None,
-               id_prefix: str = "bloch", node_zones: str = "none") -> Dispersion:
+               id_prefix: str = "bloch", node_zones: str = "none", mode_cutoff: float | None = MODE_CUTOFF,
+               edge_check: bool = True) -> Dispersion:
     """Bloch-wave dispersion of an infinite lattice of ``cell``, its complete gaps and mode types.
 
     Parameters
@@ -655,7 +721,16 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         Periodic axes: ``"xyz"`` for the bulk lattice, two letters (``"xz"``) for a panel one
         cell thick.
     strut_modes:
-        Fixed–fixed modes kept per strut in the reduced model (``method="reduced"``).
+        Fixed–fixed modes computed per strut in the reduced model (``method="reduced"``): all are kept
+        when ``mode_cutoff`` is None, else the most that are kept.
+    mode_cutoff:
+        Keep the strut modes up to ``mode_cutoff`` × the top computed band (default
+        :data:`MODE_CUTOFF` = 3); the top band is first estimated at the path's corners with all
+        ``strut_modes`` modes, and the path is solved again with a higher cutoff when its top band lies
+        higher.  None keeps ``strut_modes`` modes of every strut.
+    edge_check:
+        Solve the full strut mesh at the wave vectors of the gap edges (of the top band's extremes when
+        there is no gap) and report the largest relative difference on the sheet.
     method:
         ``"reduced"`` (strut-level Bloch mode synthesis, fast) or ``"full"`` (the unreduced mesh,
         sparse shift-invert eigensolver at each wave vector).
@@ -709,23 +784,59 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
     pm = fe.check_point_masses(fe.cell_point_masses(cell), n)
     zones = node_zones_of(pf, sections, node_zones)
 
-    def operator(n_el: int) -> BlochOperator:
-        if pm and n_el % 2:
-            n_el += 1                  # an added mass sits on the strut's middle node
+    cutoff_on = mode_cutoff is not None and method == "reduced" and sm > 0
+    if mode_cutoff is not None and not (isinstance(mode_cutoff, (int, float)) and mode_cutoff >= 1):
+        raise InputError("the strut-mode cutoff is a multiple of the top band, at least 1", input_name="mode_cutoff",
+                         expected="a number >= 1 (e.g. 3) or None", got=repr(mode_cutoff))
+
+    def mesh_of(n_el: int) -> int:
+        return n_el + 1 if pm and n_el % 2 else n_el      # an added mass sits on the strut's middle node
+
+    def operator(n_el: int, cutoff: float | None = None) -> BlochOperator:
+        n_el = mesh_of(n_el)
         if method == "full":
             return full_operator(pf, sections, n_elements=n_el, theory=theory, part=energy_group,
                                  supports=supports, point_masses=pm, end_zones=zones)
         return reduced_operator(pf, sections, n_elements=n_el, strut_modes=sm, theory=theory, part=energy_group,
-                                supports=supports, point_masses=pm, end_zones=zones)
+                                supports=supports, point_masses=pm, end_zones=zones, cutoff=cutoff)
 
     def compute() -> dict[str, np.ndarray]:
-        op = operator(n)
+        out: dict[str, np.ndarray] = {}
+        cutoff = None
+        if cutoff_on:
+            modes = strut_mode_frequencies(pf, sections, n_elements=mesh_of(n), strut_modes=sm, theory=theory,
+                                           point_masses=pm, end_zones=zones)
+            corners = np.unique(np.r_[0, np.flatnonzero(np.diff(wp.segment)), np.flatnonzero(np.diff(wp.segment)) + 1,
+                                      len(wp.k) - 1])
+            f_est = _bands_on(operator(n), wp.k[corners], nb, progress=None, desc="")[0]
+            cutoff = float(mode_cutoff) * float(np.nanmax(f_est[:, -1]))
+        op = operator(n, cutoff)
         f, e = _bands_on(op, wp.k, nb, progress=progress, desc="dispersion")
         fz = _bands_on(op, kz, nb, progress=progress, desc="zone")[0] if len(kz) else np.zeros((0, nb))
-        out = {"f": f, "e": e, "fz": fz, "n_reduced": np.array(op.n_reduced),
-               "n_full": np.array(6 * (len(pf.nodes) + len(pf.struts) * (n - 1)))}
+        if cutoff_on:
+            top = float(mode_cutoff) * float(np.nanmax(np.vstack([f, fz])[:, -1]))
+            if np.any((modes > cutoff) & (modes <= top)):
+                # the path's top band lies above the corners' estimate: keep the modes up to its multiple
+                cutoff = top
+                op = operator(n, cutoff)
+                f, e = _bands_on(op, wp.k, nb, progress=progress, desc="dispersion")
+                fz = _bands_on(op, kz, nb, progress=None, desc="")[0] if len(kz) else np.zeros((0, nb))
+            out["cutoff"] = np.array([cutoff, int((modes <= cutoff).sum()), modes.size])
+        out.update({"f": f, "e": e, "fz": fz, "n_reduced": np.array(op.n_reduced),
+                    "n_full": np.array(6 * (len(pf.nodes) + len(pf.struts) * (n - 1)))})
+        if edge_check and method == "reduced":
+            f_all, k_all = np.vstack([f, fz]), np.vstack([wp.k, kz])
+            rows = np.unique(_edge_rows(f_all)[0])
+            full = full_operator(pf, sections, n_elements=mesh_of(n), theory=theory, part=None, supports=supports,
+                                 point_masses=pm, end_zones=zones)
+            ref = np.full((rows.size, nb), np.nan)
+            with single_thread():
+                for r_, i in enumerate(rows):
+                    w2 = full.solve(k_all[i], nb)
+                    ref[r_, :w2.size] = np.sqrt(w2) / (2 * np.pi)
+            out["edge_check"] = np.stack([f_all[rows], ref], axis=0)
         if convergence_check and n > 1:
-            op2 = operator(max(1, n // 2))
+            op2 = operator(max(1, n // 2), cutoff)
             out["f_coarse"] = _bands_on(op2, wp.k, nb, progress=progress, desc="mesh check")[0]
             out["fz_coarse"] = _bands_on(op2, kz, nb, progress=None, desc="")[0] if len(kz) else np.zeros((0, nb))
         return out
@@ -733,7 +844,9 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
     key = fingerprint("dispersion-v2", _cell_key(cell, materials), n, nb, path, pts, periodic, sm, method, zone,
                       zone_points, theory, energy_group, convergence_check,
                       {str(k): list(v) if not isinstance(v, str) else v for k, v in (supports or {}).items()},
-                      *((("node-zones", node_zones),) if node_zones != "none" else ()))
+                      *((("node-zones", node_zones),) if node_zones != "none" else ()),
+                      *((("mode-cutoff", float(mode_cutoff)),) if cutoff_on else ()),
+                      *((("edge-check",),) if edge_check and method == "reduced" else ()))
     data = cached_arrays(cache, key, compute)
     f, e, fz = data["f"], data["e"], data["fz"]
     both = np.vstack([f, fz]) if len(fz) else f
@@ -744,8 +857,15 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         a = wp.tick_labels[i].split("|")[-1]
         b = wp.tick_labels[i + 1].split("|")[0]
         directional[f"{a}-{b}"] = [Gap(low=Q_(lo, "Hz"), high=Q_(hi, "Hz"), below=j) for lo, hi, j in find_gaps(f[sel])]
+    if "cutoff" in data:
+        cut, kept, total = data["cutoff"]
+        kept_desc = (f"the fixed-fixed modes up to {float(mode_cutoff):g} × the top computed band "
+                     f"({format_quantity(Q_(float(cut), 'Hz'))}; {int(kept)} of the {int(total)} lowest {sm} per "
+                     "strut)")
+    else:
+        kept_desc = f"{sm} fixed-fixed modes"
     mdesc = (f"{n} {theory} beam elements per strut; " + (
-        f"each strut reduced to its end joints + {sm} fixed-fixed modes (Bloch mode synthesis)"
+        f"each strut reduced to its end joints + {kept_desc} (Bloch mode synthesis)"
         if method == "reduced" else "full mesh, sparse shift-invert eigensolver")
         + ("; rigid node zones on the lattice struts (flexible length between them, rigid offsets to the "
            "joints, zone mass on the joints)" if zones is not None else ""))
@@ -790,6 +910,18 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         steps.append(quantity_step(id=f"{id_prefix}.gap-count", description="Complete gaps among the bands "
                                    "computed", value=Q_(0, ""), method=mdesc, source=KRATTIGER_HUSSEIN_2014,
                                    note=f"no complete gap below band {nb}"))
+    if "edge_check" in data:
+        red_f, ref = data["edge_check"]
+        # rigid-body branches (0 Hz at Γ) have no relative error to speak of
+        ok = np.isfinite(red_f) & np.isfinite(ref) & (ref > 1e-3 * np.nanmax(ref))
+        err = float(np.max(np.abs(red_f[ok] - ref[ok]) / ref[ok])) if ok.any() else 0.0
+        where = "the complete gaps' edges" if gaps else f"the top of band {nb}"
+        steps.append(quantity_step(
+            id=f"{id_prefix}.reduction-error", description="Largest difference of the band frequencies between "
+            f"the reduced model and the full strut mesh, at the wave vectors of {where}",
+            value=Q_(100 * err, "percent"), unit="percent", sig=2,
+            method=f"full mesh ({mesh_of(n)} elements per strut, sparse shift-invert) solved for all {nb} bands at "
+                   f"{red_f.shape[0]} wave vectors; reduced model: {kept_desc}", source=KRATTIGER_HUSSEIN_2014))
     if "f_coarse" in data:
         fc = np.vstack([data["f_coarse"], data["fz_coarse"]]) if len(fz) else data["f_coarse"]
         coarse_mesh = f"{max(1, n // 2)} to {n} elements per strut"

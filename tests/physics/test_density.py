@@ -12,6 +12,7 @@ from tests.helpers import assert_quantity_close
 
 from latticecalc import Q_, materials
 from latticecalc.errors import DimensionError, InputError
+from latticecalc.physics import density as dens
 from latticecalc.physics.cells import STRUT_LENGTH_FRACTION, build_cell
 from latticecalc.physics.density import panel_mass, panel_strut_counts, relative_density
 
@@ -175,3 +176,21 @@ def test_bad_inputs():
     framed = build_cell("bcc", cell_width=A, strut_diameter=Q_(3, "mm"), frame_diameter=Q_(4, "mm"))
     with pytest.raises(InputError, match="frame"):
         panel_mass(framed, materials={"lattice": pu}, cells_wide=1, cells_high=1, cells_deep=1)
+
+
+def test_geometric_density_is_computed_once_per_geometry():
+    # common practice: a memo must return exactly what the computation returns, and only for the same inputs
+    cell = build_cell("octet", cell_width=Q_(40, "mm"), strut_diameter=Q_(2.5, "mm"), frame_diameter=Q_(6, "mm"))
+    dens._UNION_MEMO.clear()
+    first = relative_density(cell, "geometric", samples=256)
+    assert len(dens._UNION_MEMO) == 2                 # two seeds, one entry each
+    again = relative_density(cell, "geometric", samples=256)
+    assert len(dens._UNION_MEMO) == 2
+    direct = dens._union_volumes_computed(cell, samples=256, seed=20240611)
+    assert dens._union_volumes(cell, samples=256, seed=20240611) == direct
+    for g in cell.group_names:
+        assert again.by_group[g] == first.by_group[g]
+    thicker = build_cell("octet", cell_width=Q_(40, "mm"), strut_diameter=Q_(2.6, "mm"), frame_diameter=Q_(6, "mm"))
+    other = relative_density(thicker, "geometric", samples=256)
+    assert len(dens._UNION_MEMO) == 4
+    assert other.by_group["lattice"] > first.by_group["lattice"]

@@ -44,6 +44,7 @@ import pint
 import sympy as sp
 from scipy.stats import qmc
 
+from latticecalc.cache import fingerprint
 from latticecalc.errors import InputError
 from latticecalc.materials import Material
 from latticecalc.physics.beams import AREA_TUBE, TUBE_SECTION_SOURCE
@@ -169,7 +170,29 @@ def _strut_samples(n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
     return cyl, ball
 
 
+#: Union volumes already computed in this process, by a fingerprint of the geometry, samples and seed:
+#: a run asks for the same cell's geometric density in several sections.
+_UNION_MEMO: dict[str, dict[str, float]] = {}
+_UNION_MEMO_SIZE = 32
+
+
+def _union_key(cell: Cell, samples: int, seed: int) -> str:
+    inner = {g: cell.inner_diameter(g).to("m").magnitude for g in cell.group_names}
+    return fingerprint("union-volumes-v1", cell.cell_width, cell.nodes, np.asarray(cell.struts), list(cell.groups),
+                       cell.strut_diameters, inner, np.asarray(cell.weights), _group_priority(cell), samples, seed)
+
+
 def _union_volumes(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
+    """Volume per cell [m³] of each group's share of the union of struts, memoised in the process."""
+    key = _union_key(cell, samples, seed)
+    if key not in _UNION_MEMO:
+        if len(_UNION_MEMO) >= _UNION_MEMO_SIZE:
+            _UNION_MEMO.pop(next(iter(_UNION_MEMO)))
+        _UNION_MEMO[key] = _union_volumes_computed(cell, samples=samples, seed=seed)
+    return dict(_UNION_MEMO[key])
+
+
+def _union_volumes_computed(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
     """Volume per cell [m³] of each group's share of the union of struts (see module docstring)."""
     a = cell.cell_width.to("m").magnitude
     x = cell.nodes.to("m").magnitude

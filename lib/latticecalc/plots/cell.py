@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from latticecalc.plots.style import PALETTE, styled
 from latticecalc.units import format_quantity
 
-_COLOURS = {"lattice": "#3b6ea5", "frame": "#8c8c8c"}
+_COLOURS = {"lattice": PALETTE["design"], "frame": PALETTE["context"]}
 
 
+@styled
 def cell_figure(cell, *, elev: float = 22.0, azim: float = -58.0):
     """3D drawing of ``cell`` in millimetres, one colour per strut group.
 
@@ -33,10 +35,10 @@ def cell_figure(cell, *, elev: float = 22.0, azim: float = -58.0):
         width = 0.8 + 3.2 * cell.diameters[g].to("mm").magnitude / d_max
         first = True
         for i, j in cell.struts[cell.group_mask(g)]:
-            ax.plot(*np.stack([x[i], x[j]]).T, color=_COLOURS.get(g, "#c0504d"), linewidth=width,
+            ax.plot(*np.stack([x[i], x[j]]).T, color=_COLOURS.get(g, PALETTE["accent"]), linewidth=width,
                     label=f"{g}, d = {format_quantity(cell.diameters[g].to('mm'))}" if first else None)
             first = False
-    ax.scatter(*x.T, s=6, color="k")
+    ax.scatter(*x.T, s=6, color=PALETTE["ink"])
     a = cell.cell_width.to("mm").magnitude
     for setter in (ax.set_xlim, ax.set_ylim, ax.set_zlim):
         setter(0, a)
@@ -46,5 +48,5 @@ def cell_figure(cell, *, elev: float = 22.0, azim: float = -58.0):
     ax.set_zlabel("z, up (mm)")
     ax.view_init(elev=elev, azim=azim)
     ax.set_title(f"{cell.kind} cell, a = {format_quantity(cell.cell_width.to('mm'))}", fontsize=9)
-    ax.legend(fontsize=7, frameon=False, loc="upper left")
+    ax.legend(loc="upper left")
     return fig

@@ -4,12 +4,15 @@ from __future__ import annotations
 
 import numpy as np
 
-_BARE = "#555555"
-_WITH = "#1f6f8b"
-_REQ = "#b5432f"
-_BOUND = "#8a7a2a"
+from latticecalc.plots.style import PALETTE, plain_log_ticks, styled
+
+_BARE = PALETTE["context"]
+_WITH = PALETTE["design"]
+_REQ = PALETTE["limit"]
+_BOUND = PALETTE["band_strong"]
 
 
+@styled
 def floor_response_figure(response, *, direction: str, peaks=None, required=None, band=None):
     """Two stacked axes: floor over ground with and without panels (dB), and the insertion loss (dB).
 
@@ -35,14 +38,13 @@ def floor_response_figure(response, *, direction: str, peaks=None, required=None
     ax1.semilogx(f, hb, color=_BARE, lw=1.2, label="column alone")
     ax1.semilogx(f, hw, color=_WITH, lw=1.0, ls="--", label="column with panels")
     ax1.set_ylabel(f"floor over ground, {direction} (dB)")
-    ax1.grid(True, which="both", color="0.9", lw=0.5)
-    ax1.legend(fontsize=7, loc="upper left")
+    ax1.legend(loc="upper left")
     ax2.semilogx(f, il, color=_WITH, lw=1.2, label="predicted insertion loss")
-    ax2.axhline(0, color="0.6", lw=0.6)
+    ax2.axhline(0, color=PALETTE["context_light"], lw=0.6)
     if band is not None:
         lo, hi = (float(b.to("Hz").m) for b in band)
         for ax in (ax1, ax2):
-            ax.axvspan(lo, max(hi, lo * 1.002), color="#e8d9a8", zorder=0,
+            ax.axvspan(lo, max(hi, lo * 1.002), color=PALETTE["band"], zorder=0,
                        label="host band (hand estimate)" if ax is ax2 else None)
     if peaks is not None and required is not None:
         fp = np.atleast_1d(peaks.to("Hz").m)
@@ -54,13 +56,13 @@ def floor_response_figure(response, *, direction: str, peaks=None, required=None
         ax2.set_ylim(min(float(np.nanmin(il)), 0.0) - 0.5, top)
     ax2.set_ylabel("insertion loss (dB)")
     ax2.set_xlabel("frequency (Hz)")
-    ax2.grid(True, which="both", color="0.9", lw=0.5)
-    ax2.legend(fontsize=7, loc="upper left")
+    ax2.legend(loc="upper left")
     ax2.set_xlim(f.min(), f.max())
-    fig.tight_layout()
+    plain_log_ticks(ax2, "x")
     return fig
 
 
+@styled
 def floor_levels_figure(level, *, band_il=None):
     """Survey max-hold band velocity, the predicted floor velocity with the panels, and the criterion."""
     from matplotlib.figure import Figure
@@ -78,12 +80,13 @@ def floor_levels_figure(level, *, band_il=None):
     ax.set_xticklabels([f"{v:.3g}" for v in c], rotation=90, fontsize=6)
     ax.set_xlabel("one-third-octave band centre (Hz)")
     ax.set_ylabel("RMS velocity (µm/s)")
-    ax.grid(True, axis="y", which="both", color="0.9", lw=0.5)
-    ax.legend(fontsize=7, loc="upper left")
-    fig.tight_layout()
+    plain_log_ticks(ax, "y")
+    ax.grid(False, axis="x")
+    ax.legend(loc="upper left")
     return fig
 
 
+@styled
 def mass_sweep_figure(sweep, *, required=None, current=None):
     """Insertion loss at the peak against the panels' mass: coupled model, hand estimate and bound."""
     from matplotlib.figure import Figure
@@ -94,7 +97,7 @@ def mass_sweep_figure(sweep, *, required=None, current=None):
     fig = Figure(figsize=(7.0, 3.8))
     ax = fig.add_subplot()
     ax.plot(m[ok], v["insertion_loss"][ok], "o-", color=_WITH, label="coupled column model")
-    ax.plot(m[ok], v["estimate"][ok], "s--", color="0.4", ms=4, label="hand estimate (mass-like column)")
+    ax.plot(m[ok], v["estimate"][ok], "s--", color=PALETTE["context"], ms=4, label="hand estimate (mass-like column)")
     ax.plot(m[ok], v["bound"][ok], ":", color=_BOUND, label="single-absorber bound (column resonant)")
     for mi, ma in zip(m[ok], v["added_mass"][ok], strict=True):
         ax.annotate(f"{ma * 1e3:g} g", (mi, 0), textcoords="offset points", xytext=(0, 4), fontsize=6,
@@ -102,7 +105,7 @@ def mass_sweep_figure(sweep, *, required=None, current=None):
     if required is not None:
         ax.axhline(float(required), color=_REQ, lw=1.0, label="required")
     if current is not None:
-        ax.axvline(float(current), color="0.5", lw=0.6, ls="--", label="this design's panels")
+        ax.axvline(float(current), color=PALETTE["context"], lw=0.6, ls="--", label="this design's panels")
     ax.set_xlabel("mass of the panels on the column (kg); added mass per strut marked")
     ax.set_ylabel("insertion loss at the peak (dB)")
     shown = [np.nanmax(v["insertion_loss"][ok]), np.nanmax(v["estimate"][ok])] + (
@@ -113,12 +116,11 @@ def mass_sweep_figure(sweep, *, required=None, current=None):
     if np.nanmax(v["bound"][ok]) > top:
         ax.text(0.99, 0.97, f"bound reaches {np.nanmax(v['bound'][ok]):.0f} dB (off scale)", transform=ax.transAxes,
                 ha="right", va="top", fontsize=7, color=_BOUND)
-    ax.grid(True, color="0.9", lw=0.5)
-    ax.legend(fontsize=7, loc="upper left")
-    fig.tight_layout()
+    ax.legend(loc="upper left")
     return fig
 
 
+@styled
 def insertion_loss_directions_figure(response, *, peaks=None):
     """Predicted insertion loss at the floor for each computed ground-motion direction."""
     from matplotlib.figure import Figure
@@ -126,18 +128,17 @@ def insertion_loss_directions_figure(response, *, peaks=None):
     f = response["frequency"].to("Hz").m
     fig = Figure(figsize=(7.0, 3.2))
     ax = fig.add_subplot()
-    styles = {"normal": ("-", _WITH), "along": ("--", "#6a4c93"), "vertical": (":", _BARE)}
+    styles = {"normal": ("-", _WITH), "along": ("--", PALETTE["accent"]), "vertical": (":", _BARE)}
     for d, il in response["insertion_loss"].items():
         ls, c = styles.get(d, ("-", "k"))
         ax.semilogx(f, il, ls=ls, color=c, lw=1.2, label=d)
     if peaks is not None:
         for x in np.atleast_1d(peaks.to("Hz").m):
             ax.axvline(x, color=_REQ, lw=0.6, ls=":")
-    ax.axhline(0, color="0.6", lw=0.6)
+    ax.axhline(0, color=PALETTE["context_light"], lw=0.6)
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("insertion loss at the floor (dB)")
-    ax.grid(True, which="both", color="0.9", lw=0.5)
-    ax.legend(fontsize=7, loc="upper left", title="ground motion", title_fontsize=7)
+    ax.legend(loc="upper left", title="ground motion", title_fontsize=7)
     ax.set_xlim(f.min(), f.max())
-    fig.tight_layout()
+    plain_log_ticks(ax, "x")
     return fig

@@ -7,8 +7,14 @@ notebook; the HTML view is drawn from that same record by :mod:`latticecalc.shee
 from __future__ import annotations
 
 import base64
+import hashlib
 import io
+import os
+import tempfile
+from pathlib import Path
 from typing import Any
+
+import numpy as np
 
 from latticecalc.sheet.render import NOTEBOOK_CSS, record_html
 from latticecalc.sheet.source import Source
@@ -47,15 +53,128 @@ class Shown:
         return _bundle(self.record, self._plain)
 
 
-def figure(fig: Any, *, id: str, caption: str, dpi: int = 130) -> Shown:
-    """Show a matplotlib figure on the sheet with an id and caption (closed after rendering)."""
-    import matplotlib.pyplot as plt
+#: ``figure(..., cache="auto")``: cache figure images when the current folder is a project (it holds this file).
+_PROJECT_MARKER = "template.toml"
+_FIGURE_SUBFOLDER = "figures"
 
+
+def _figure_folder(cache: Any) -> Path | None:
+    from latticecalc.cache import DEFAULT_FOLDER, resolve_folder
+
+    if cache == "auto":
+        here = Path.cwd()
+        return here / DEFAULT_FOLDER / _FIGURE_SUBFOLDER if (here / _PROJECT_MARKER).is_file() else None
+    folder = resolve_folder(cache)
+    return None if folder is None else folder / _FIGURE_SUBFOLDER
+
+
+def _feed(h, value: Any) -> None:
+    """Feed one artist property into the hash (arrays by their bytes, the rest by its repr)."""
+    if isinstance(value, np.ma.MaskedArray):
+        value = value.filled(np.nan)
+    if isinstance(value, np.ndarray):
+        arr = np.ascontiguousarray(value)
+        if arr.dtype == object:
+            h.update(repr(arr.tolist()).encode())
+        else:
+            h.update(str(arr.dtype).encode() + str(arr.shape).encode() + arr.tobytes())
+    elif isinstance(value, (list, tuple)) and value and isinstance(value[0], np.ndarray):
+        for v in value:
+            _feed(h, v)
+    else:
+        h.update(repr(value).encode())
+    h.update(b"|")
+
+
+def _artist_state(artist) -> list:
+    """What a drawn artist shows: its data, colours, line styles, text and place (no drawing needed)."""
+    out: list = [type(artist).__name__, artist.get_visible(), artist.get_zorder(), artist.get_label(),
+                 artist.get_alpha()]
+    for getter in ("get_xydata", "get_offsets", "get_array", "get_segments", "get_xy", "get_text", "get_position",
+                   "get_color", "get_facecolor", "get_edgecolor", "get_linestyle", "get_linewidth", "get_marker",
+                   "get_markersize", "get_fontsize", "get_rotation", "get_hatch", "get_extent", "get_sizes",
+                   "get_clim", "get_width", "get_height", "get_ha", "get_va"):
+        method = getattr(artist, getter, None)
+        if method is None:
+            continue
+        try:
+            value = method()
+        except (TypeError, ValueError, AttributeError, RuntimeError):
+            continue
+        out.append(np.asarray(value) if isinstance(value, (list, tuple)) and getter != "get_segments"
+                   and value and not isinstance(value[0], np.ndarray) and not isinstance(value[0], str)
+                   else value)
+    if hasattr(artist, "get_paths") and not hasattr(artist, "get_segments"):
+        out.extend(p.vertices for p in artist.get_paths())
+    cmap = getattr(artist, "get_cmap", None)
+    if cmap is not None:
+        out.append(cmap().name)
+    return out
+
+
+def figure_fingerprint(fig: Any, *, id: str, dpi: int) -> str:
+    """SHA-256 of a figure's id, the data and look of every artist it holds, the house style version and dpi.
+
+    Two figures with the same fingerprint draw the same image, so a cached PNG stands for either.
+    Reading the artists costs far less than drawing them.
+    """
+    import matplotlib
+
+    from latticecalc.plots.style import STYLE_VERSION
+
+    h = hashlib.sha256()
+    for part in (id, STYLE_VERSION, matplotlib.__version__, dpi, tuple(fig.get_size_inches())):
+        _feed(h, part)
+    for artist in fig.findobj():
+        for value in _artist_state(artist):
+            _feed(h, value)
+        if hasattr(artist, "get_xlim") and hasattr(artist, "get_xscale"):
+            for value in (artist.get_xlim(), artist.get_ylim(), artist.get_xscale(), artist.get_yscale(),
+                          artist.get_xticks(), artist.get_yticks(),
+                          [t.get_text() for t in artist.get_xticklabels()],
+                          [t.get_text() for t in artist.get_yticklabels()]):
+                _feed(h, np.asarray(value) if not isinstance(value, (str, list)) else value)
+    return h.hexdigest()
+
+
+def _png(fig: Any, dpi: int) -> bytes:
     buf = io.BytesIO()
     fig.savefig(buf, format="png", dpi=dpi, bbox_inches="tight")
+    return buf.getvalue()
+
+
+def figure(fig: Any, *, id: str, caption: str, dpi: int = 130, cache: Any = "auto") -> Shown:
+    """Show a matplotlib figure on the sheet with an id and caption (closed after rendering).
+
+    The PNG is cached on disk under the figure's fingerprint (:func:`figure_fingerprint`: id, data,
+    style version): a figure that did not change since the last run is not drawn again.
+    ``cache``: ``"auto"`` (the project's ``.latticecalc-cache/figures`` when the current folder is a
+    project, else no cache), a folder, ``True`` (``./.latticecalc-cache``) or ``None`` (always draw).
+    """
+    import matplotlib.pyplot as plt
+
+    folder = _figure_folder(cache)
+    png = None
+    if folder is not None:
+        path = folder / f"{figure_fingerprint(fig, id=id, dpi=dpi)}.png"
+        if path.is_file():
+            png = path.read_bytes()
+        else:
+            png = _png(fig, dpi)
+            folder.mkdir(parents=True, exist_ok=True)
+            fd, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
+            try:
+                with os.fdopen(fd, "wb") as fh:
+                    fh.write(png)
+                os.replace(tmp, path)
+            finally:
+                if os.path.exists(tmp):
+                    os.remove(tmp)
+    if png is None:
+        png = _png(fig, dpi)
     plt.close(fig)
-    png = base64.b64encode(buf.getvalue()).decode("ascii")
-    return Shown({"kind": "figure", "id": id, "caption": caption, "png": png}, f"[figure {id}] {caption}")
+    text = base64.b64encode(png).decode("ascii")
+    return Shown({"kind": "figure", "id": id, "caption": caption, "png": text}, f"[figure {id}] {caption}")
 
 
 def note(text: str, *, category: str = "note", source: Source | None = None) -> Shown:

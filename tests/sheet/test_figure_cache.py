@@ -1,0 +1,94 @@
+"""Figure images are cached by a fingerprint of the figure's id, its data and the house style.
+
+Sources: the kit's own promise (``latticecalc.sheet.figure``): a figure whose id and data did not
+change is not drawn again, and any change to either draws it afresh; the house style is one set of
+matplotlib settings (``latticecalc.plots.style``) applied by every plot function.
+"""
+
+from __future__ import annotations
+
+import base64
+
+import matplotlib
+import numpy as np
+import pytest
+
+from latticecalc.plots import style
+from latticecalc.sheet import display
+
+matplotlib.use("Agg")
+
+
+@style.styled
+def _line_figure(y):
+    fig = style.new_figure(4.0, 2.5)
+    ax = fig.add_subplot()
+    ax.plot(np.arange(len(y)), y)
+    return fig
+
+
+@pytest.fixture
+def drawn(monkeypatch):
+    """Count the figures actually drawn to PNG."""
+    calls = []
+    real = display._png
+
+    def counting(fig, dpi):
+        calls.append(dpi)
+        return real(fig, dpi)
+
+    monkeypatch.setattr(display, "_png", counting)
+    return calls
+
+
+def test_an_unchanged_figure_is_not_drawn_again(tmp_path, drawn):
+    first = display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.a", caption="a", cache=tmp_path)
+    second = display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.a", caption="a", cache=tmp_path)
+    assert len(drawn) == 1                                     # the second came from the cache
+    assert first.record["png"] == second.record["png"]
+    assert base64.b64decode(second.record["png"]).startswith(b"\x89PNG")
+    assert len(list((tmp_path / "figures").glob("*.png"))) == 1
+
+
+def test_changed_data_or_id_draws_afresh(tmp_path, drawn):
+    display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.a", caption="a", cache=tmp_path)
+    display.figure(_line_figure([1.0, 2.0, 3.5]), id="fig.a", caption="a", cache=tmp_path)
+    display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.b", caption="b", cache=tmp_path)
+    assert len(drawn) == 3
+
+
+def test_the_style_version_is_part_of_the_key(monkeypatch):
+    key = display.figure_fingerprint(_line_figure([1.0, 2.0]), id="fig.a", dpi=130)
+    monkeypatch.setattr(style, "STYLE_VERSION", style.STYLE_VERSION + "-changed")
+    assert display.figure_fingerprint(_line_figure([1.0, 2.0]), id="fig.a", dpi=130) != key
+
+
+def test_no_cache_outside_a_project(tmp_path, monkeypatch, drawn):
+    monkeypatch.chdir(tmp_path)                                  # no template.toml here
+    display.figure(_line_figure([1.0]), id="fig.a", caption="a")
+    display.figure(_line_figure([1.0]), id="fig.a", caption="a")
+    assert len(drawn) == 2 and not (tmp_path / ".latticecalc-cache").exists()
+
+
+def test_plain_log_tick_labels():
+    # common practice: a log frequency axis is labelled 1, 2, 5, 10 ..., never 4.6×10¹
+    with style.house_style():
+        fig = style.new_figure()
+        ax = fig.add_subplot()
+        ax.semilogx([3.0, 300.0], [1.0, 2.0])
+        ax.set_xlim(3.0, 300.0)
+        style.plain_log_ticks(ax, "x")
+        fig.canvas.draw()
+        labels = [t.get_text() for t in ax.get_xticklabels() if t.get_text()]
+    assert labels and all("10" not in label or label in ("10", "100") for label in labels)
+    assert not any("×" in label or "^" in label or "$" in label for label in labels)
+
+
+def test_spectrum_view_drops_high_passed_bins_and_floors_the_axis():
+    f = np.arange(0.0, 100.0, 0.5)
+    level = np.full(f.size, 60.0)
+    level[:3] = -420.0                                         # DC and high-passed bins, as a record gives them
+    level[80] = 90.0
+    keep, (bottom, top) = style.spectrum_view(f, level, span_db=60.0)
+    assert not keep[:3].any() and keep[3:].all()
+    assert bottom >= 90.0 - 60.0 - 2.0 and top == 95.0

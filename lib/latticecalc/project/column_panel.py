@@ -25,6 +25,56 @@ from latticecalc.sheet import CalcResult, quantity_step
 from latticecalc.signals.frf import calibration_from_export
 from latticecalc.units import Q_
 
+#: Peak memory of the frame model's largest solve per degree of freedom of :func:`fe_memory_estimate`'s
+#: mesh bound (bytes): measured 1.95 to 2.46 kB for framed octet panels of 4 x 12 and 16 x 48 cells, self-weight
+#: (2 elements per strut) and transmissibility (8), on this kit's solvers; rounded up.
+FE_BYTES_PER_DOF = 2.5e3
+#: Memory of the kernel with the kit loaded, before any frame model (bytes), measured 0.16 GB; rounded up.
+FE_BASE_BYTES = 0.25e9
+
+
+@dataclass(frozen=True, kw_only=True)
+class MemoryEstimate:
+    """Memory the frame-model sections are expected to need, against the project's limit."""
+
+    dofs: int
+    bytes: float
+    limit: float
+
+    @property
+    def text(self) -> str:
+        """``0.31 GB for 100,800 degrees of freedom (limit 4 GB)``."""
+        from latticecalc.files import format_size
+
+        return f"{format_size(self.bytes)} for {self.dofs:,} degrees of freedom (limit {format_size(self.limit)})"
+
+
+def fe_memory_estimate(design: PanelDesign, *, n_elements: int, limit_gb: float) -> MemoryEstimate:
+    """Peak memory of the frame-model sections, estimated before any of them runs.
+
+    The mesh is bounded without building it: every cell contributes all its joints and struts (shared
+    joints and frame members are counted in each cell, so the bound is above the mesh, by 1.4 x for a
+    framed octet), each strut ``n_elements - 1`` inner nodes, six degrees of freedom a node. The memory
+    is :data:`FE_BASE_BYTES` plus :data:`FE_BYTES_PER_DOF` a degree of freedom (measured, see there).
+    """
+    cells = design.cells_wide * design.cells_high
+    joints, struts = len(design.cell.nodes), len(design.cell.struts)
+    dofs = 6 * cells * (joints + struts * max(int(n_elements), 2) - struts)
+    return MemoryEstimate(dofs=int(dofs), bytes=FE_BASE_BYTES + FE_BYTES_PER_DOF * dofs, limit=float(limit_gb) * 1e9)
+
+
+def check_fe_memory(design: PanelDesign, inputs: Inputs) -> MemoryEstimate:
+    """:func:`fe_memory_estimate` for the project's inputs; an :class:`InputError` above ``fe.memory_limit``."""
+    limit = inputs.get("fe.memory_limit") or 4.0
+    est = fe_memory_estimate(design, n_elements=inputs["fe.elements_per_strut"], limit_gb=limit)
+    if est.bytes > est.limit:
+        raise InputError("the frame model of this panel would need more memory than the limit: " + est.text,
+                         input_name="panel.cells_wide, panel.cells_high, fe.elements_per_strut", file=inputs.file,
+                         expected=f"at most {limit:g} GB (fe.memory_limit)",
+                         hint="Model fewer cells (the frame model checks the panel's attenuation per cell), "
+                              "fewer elements per strut, or raise fe.memory_limit on a machine with more memory")
+    return est
+
 
 @dataclass(frozen=True, kw_only=True)
 class PanelDesign:

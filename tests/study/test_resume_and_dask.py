@@ -83,3 +83,21 @@ def test_two_worker_dask_cluster_gives_the_serial_result(tmp_path):
         assert a.design == b.design
         assert a.outputs == b.outputs          # identical, not merely close
     assert parallel.pareto == serial.pareto and parallel.nearest == serial.nearest
+
+
+def test_scheduler_given_by_address_gives_the_serial_result(tmp_path):
+    from distributed import LocalCluster
+
+    ctx = bcc_context(39.0)
+    space = space_from_table(SPACE)
+    small = StudySettings(screen=6, population=0, generations=0, bloch=0, coupled=0, seed=2)
+    serial = run_study(space, ctx, settings=small, store=tmp_path / "serial")
+    # a scheduler the study did not start (as a firm's cluster would be), reached by its address
+    with LocalCluster(n_workers=1, threads_per_worker=1, processes=True, dashboard_address=None) as cluster:
+        remote = DaskExecutor(address=cluster.scheduler_address)
+        try:
+            assert remote.address == cluster.scheduler_address
+            got = run_study(space, ctx, settings=small, store=tmp_path / "remote", executor=remote)
+        finally:
+            remote.close()
+    assert [(r.id, r.outputs) for r in got.records] == [(r.id, r.outputs) for r in serial.records]

@@ -49,3 +49,12 @@ def make_quick(folder):
     set_values(folder / "inputs.toml", spec, {k: v for k, v in QUICK_FE.items()
                                               if any(s.name == k for s in spec.inputs)})
     return folder
+
+
+def package_paths(folder):
+    """The exported HTML and JSON of a project (``out/<calc-id>-rev<rev>.html`` and ``.json``)."""
+    from latticecalc.project import open_project
+
+    project = open_project(folder)
+    html = project.out / f"{project.meta.package_stem}.html"
+    return html, html.with_suffix(".json")

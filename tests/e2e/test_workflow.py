@@ -9,7 +9,6 @@ from pathlib import Path
 
 import nbformat
 import pytest
-from tests.helpers import make_quick
 
 from latticecalc.cli import main as cli
 from latticecalc.errors import NotebookError, ProjectError
@@ -23,13 +22,9 @@ EXTERNAL = re.compile(r"""(?:\b(?:src|href)\s*=\s*["']?\s*|url\(\s*["']?\s*)(htt
 
 
 @pytest.fixture(scope="module")
-def exported(tmp_path_factory) -> Path:
-    folder = tmp_path_factory.mktemp("e2e") / "panel"
-    assert cli(["new", str(folder), "--template", "column-panel"]) == 0
-    make_quick(folder)
-    assert cli(["run", str(folder)]) == 0
-    assert cli(["export", str(folder)]) == 0
-    return folder
+def exported(quick_panel) -> Path:
+    """new -> run -> export through the command line: the session's quick project (tests/conftest.py)."""
+    return quick_panel
 
 
 def _package(folder: Path) -> tuple[Path, Path]:
@@ -77,8 +72,8 @@ def test_external_pattern_catches_what_it_should():
     assert EXTERNAL.findall("background: url( 'http://x/y.png')")
 
 
-def test_hostile_project_title_is_inert(tmp_path):
-    folder = make_quick(new_project(tmp_path / "hostile", template="column-panel"))
+def test_hostile_project_title_is_inert(quick_panel_copy):
+    folder = quick_panel_copy                      # the rerun below finds the receiver's results cached
     meta = folder / "project.toml"
     hostile = "<script>alert(1)</script>"
     meta.write_text(meta.read_text().replace('title = "Lattice absorber panel, column ..."',

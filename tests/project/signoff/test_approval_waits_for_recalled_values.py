@@ -9,20 +9,15 @@ from __future__ import annotations
 
 import pytest
 
-from latticecalc.cli import main
 from latticecalc.errors import ProjectError
-from latticecalc.project.export import export_project
-from latticecalc.project.runner import run_project
 from latticecalc.project.signoff import sign_project
 
 pytestmark = pytest.mark.slow
 
 
-def test_approval_refused_while_a_check_relies_on_a_recalled_value(tmp_path):
-    folder = tmp_path / "survey"
-    assert main(["new", str(folder), "--template", "site-survey"]) == 0
-    run_project(folder)
-    export_project(folder)
+def test_approval_refused_while_a_check_relies_on_a_recalled_value(tmp_path, executed_projects):
+    # a copy of the session's site-survey project with its defaults, run and exported (tests/conftest.py)
+    folder = executed_projects.copy("site-survey", tmp_path / "survey")
     html = next((folder / "out").glob("*.html")).read_text(encoding="utf-8")
     assert "Values to confirm before approval" in html and "Amick" in html
     sign_project(folder, role="prepared", name="Pat Preparer")

@@ -132,3 +132,37 @@ def test_events_and_max_hold_on_synthetic_site():
     # the strongest demo tone (40 Hz, ±3 % with train speed) dominates the max-hold spectrum
     k = int(np.argmax(spec.value["velocity_rms"].m))
     assert spec.value["nominal"][k] == "40"
+
+
+RTOL_SAME_KERNEL = 1e-12     # the same Welch and band integration, with or without the sheet steps
+
+
+def test_event_band_levels_equal_one_band_level_call_per_event():
+    # common practice: the per-event numbers come from one kernel; each must equal third_octave_levels on
+    # that event's samples (the Welch PSD of Welch 1967 integrated over IEC 61260-1 bands)
+    rec = synthetic.site_record(duration=Q_(240, "s"), passbys=4, seed=2, channels=("z",))
+    z = rec.channel("z")
+    ev = S.find_events(S.running_rms(z, sample_rate=rec.sample_rate))
+    spec = S.event_spectra(z, sample_rate=rec.sample_rate, events=ev)
+    fs = rec.sample_rate.to("Hz").m
+    for k, (a, b) in enumerate(zip(ev.value["start"].to("s").m, ev.value["end"].to("s").m)):
+        one = S.third_octave_levels(z[int(a * fs):int(math.ceil(b * fs)) + 1], sample_rate=rec.sample_rate)
+        np.testing.assert_allclose(spec.value["per_event"].m[k], one.value["velocity_rms"].to("m/s").m,
+                                   rtol=RTOL_SAME_KERNEL, atol=0)
+    # an event too short for the lowest band is refused as a single call would be
+    short = S.Events(value={"start": Q_([10.0, 100.0], "s"), "end": Q_([10.5, 110.0], "s"),
+                            "peak": Q_([1.0, 1.0], "m/s^2")}, steps=(), threshold=Q_(1.0, "m/s^2"))
+    with pytest.raises(RecordError, match="too short"):
+        S.event_spectra(z, sample_rate=rec.sample_rate, events=short)
+
+
+def test_velocity_chunks_do_not_change_the_result(monkeypatch):
+    # common practice: the integration is bin by bin (Brandt 2011, V = A / (j 2π f)), so the chunking of
+    # the spectrum must not change a single sample, also where a chunk starts inside the high-pass taper
+    rng = np.random.default_rng(5)
+    a = Q_(rng.standard_normal(20_001), "m/s^2")
+    whole = S.to_velocity(a, sample_rate=Q_(FS, "Hz")).value.m
+    monkeypatch.setattr(S, "FFT_CHUNK", 7)
+    chunked = S.to_velocity(a, sample_rate=Q_(FS, "Hz")).value.m
+    np.testing.assert_array_equal(chunked, whole)
+    assert np.abs(whole).max() > 0

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import pint
@@ -164,6 +165,8 @@ def _signal(signal, *, name: str = "signal", quantity: str | None = None) -> tup
             raise InputError("unknown quantity", input_name="quantity",
                              expected="'acceleration' or 'velocity'", got=repr(kind))
     for kind in kinds:
+        if isinstance(signal, pint.Quantity) and signal.dimensionality != Q_(1.0, _si(kind)).dimensionality:
+            continue               # not this kind: skip the failed check, whose message formats every sample
         try:
             q = check_dimension(signal, name=name, expected=kind)
         except Exception:
@@ -296,15 +299,19 @@ def to_velocity(signal, *, sample_rate, highpass=DEFAULT_HIGHPASS) -> SignalResu
     a = np.asarray(_magnitude(q, "m/s^2"), dtype=float)
     n = a.size
     spec = sfft.rfft(a)
-    freq = sfft.rfftfreq(n, 1.0 / fs)
-    w = _highpass_weights(freq, f_hp)
-    first = int(np.argmax(w > 0)) if np.any(w > 0) else spec.size
-    spec[:first] = 0.0
-    for b0 in range(first, spec.size, FFT_CHUNK):     # in place, chunk by chunk, to bound temporaries
+    del a                       # only the spectrum and then the velocity are held (a record's channel each)
+    bin_width = 1.0 / (n * (1.0 / fs))                # as scipy.fft.rfftfreq spaces the bins
+    for b0 in range(0, spec.size, FFT_CHUNK):         # in place, chunk by chunk, to bound temporaries
         sl = slice(b0, min(b0 + FFT_CHUNK, spec.size))
-        spec[sl] = VELOCITY_FROM_ACCELERATION.evaluate(
-            {"A": Q_(spec[sl] * w[sl], "m/s^2"), "f": Q_(freq[sl], "Hz")}).to("m/s").magnitude
-    v = sfft.irfft(spec, n=n)
+        freq = np.arange(sl.start, sl.stop) * bin_width
+        w = _highpass_weights(freq, f_hp)
+        kept = w > 0                                   # the weights only rise: zero below, kept above
+        block = spec[sl]
+        if kept.any():
+            block[kept] = VELOCITY_FROM_ACCELERATION.evaluate(
+                {"A": Q_(block[kept] * w[kept], "m/s^2"), "f": Q_(freq[kept], "Hz")}).to("m/s").magnitude
+        block[~kept] = 0.0
+    v = sfft.irfft(spec, n=n, overwrite_x=True)
     del spec
     steps = (
         evaluate(VELOCITY_AMPLITUDE, id="signal.integration", description="Acceleration to velocity, "
@@ -485,6 +492,36 @@ def _as_db(step: Step) -> Step:
     return replace(step, result=Q_(step.result.to("").magnitude, "dB"))
 
 
+def _check_band_duration(n: int, fs: float, f1: float, f2: float, nominal: Any) -> None:
+    """A record shorter than 1 / (lowest band's width) cannot resolve that band (B·T >= 1)."""
+    width0 = f2 - f1
+    duration = n / fs
+    if duration * width0 < 1.0:
+        raise RecordError("record too short for the lowest band", input_name="signal",
+                          expected=f">= {1 / width0:.2f} s (bandwidth-time product B·T >= 1 for the "
+                          f"{nominal} Hz band)", got=f"{duration:.3f} s",
+                          hint="Use a longer record or a higher lowest band")
+
+
+def _band_velocity_rms(x: np.ndarray, fs: float, f1: np.ndarray, f2: np.ndarray, *, kind: str,
+                       bins_per_band: int) -> np.ndarray:
+    """Band RMS velocity (m/s) of a signal in SI units: the numbers of :func:`third_octave_levels`, no steps."""
+    nfft = _nfft_for(fs, (f2[0] - f1[0]) / bins_per_band)
+    freq, psd, _, _ = _welch(x, fs, nfft)
+    if kind == "acceleration":
+        gvv = np.zeros_like(freq)
+        pos = freq > 0
+        gvv[pos] = VELOCITY_PSD.evaluate({"G_aa": Q_(psd[pos], "(m/s^2)^2/Hz"),
+                                          "f": Q_(freq[pos], "Hz")}).to("(m/s)^2/Hz").m
+    else:
+        gvv = psd
+    df = fs / nfft
+    cum = np.concatenate(([0.0], np.cumsum(gvv * df)))
+    bounds = np.concatenate(([freq[0] - df / 2], freq + df / 2))
+    ms = np.interp(f2, bounds, cum) - np.interp(f1, bounds, cum)
+    return np.sqrt(np.maximum(ms, 0.0))
+
+
 def third_octave_levels(signal, *, sample_rate, quantity: str = "acceleration", lowest=DEFAULT_LOWEST,
                         highest=DEFAULT_HIGHEST, bins_per_band: int = BINS_PER_BAND,
                         id_prefix: str = "bands") -> BandLevels:
@@ -523,11 +560,7 @@ def third_octave_levels(signal, *, sample_rate, quantity: str = "acceleration", 
     n = q.magnitude.shape[0]
     width0 = f2[0] - f1[0]
     duration = n / fs
-    if duration * width0 < 1.0:
-        raise RecordError("record too short for the lowest band", input_name="signal",
-                          expected=f">= {1 / width0:.2f} s (bandwidth-time product B·T >= 1 for the "
-                          f"{bands.value['nominal'][0]} Hz band)", got=f"{duration:.3f} s",
-                          hint="Use a longer record or a higher lowest band")
+    _check_band_duration(n, fs, f1[0], f2[0], bands.value["nominal"][0])
     if isinstance(bins_per_band, bool) or not isinstance(bins_per_band, int) or bins_per_band < 2:
         raise InputError("bins per band must be a whole number >= 2", input_name="bins_per_band",
                          expected=">= 2", got=repr(bins_per_band))
@@ -723,14 +756,22 @@ def event_spectra(signal, *, sample_rate, events: Events, quantity: str = "accel
     if not isinstance(events, Events) or len(events) == 0:
         raise InputError("no events to analyse", input_name="events", expected="at least one event",
                          got="none", hint="Lower the event threshold or check the record")
+    spans = [(int(a * fs), int(math.ceil(b * fs)) + 1)
+             for a, b in zip(events.value["start"].to("s").m, events.value["end"].to("s").m)]
+    # the last event through the full call (its steps describe the bands); every event's numbers
+    # through the same kernel without building steps per event
+    i0, i1 = spans[-1]
+    last = third_octave_levels(q[i0:i1], sample_rate=Q_(fs, "Hz"), quantity=kind, lowest=lowest,
+                               highest=highest, id_prefix=f"event{len(spans)}")
+    f1 = last.value["lower"].to("Hz").m
+    f2 = last.value["upper"].to("Hz").m
+    x = _magnitude(q, _si(kind))
     per = []
-    last = None
-    for k, (a, b) in enumerate(zip(events.value["start"].to("s").m, events.value["end"].to("s").m)):
-        i0, i1 = int(a * fs), int(math.ceil(b * fs)) + 1
-        seg = q[i0:i1]
-        last = third_octave_levels(seg, sample_rate=Q_(fs, "Hz"), quantity=kind, lowest=lowest,
-                                   highest=highest, id_prefix=f"event{k + 1}")
-        per.append(last.value["velocity_rms"].to("m/s").m)
+    for i0, i1 in spans[:-1]:
+        seg = x[i0:i1]
+        _check_band_duration(seg.shape[0], fs, f1[0], f2[0], last.value["nominal"][0])
+        per.append(_band_velocity_rms(seg, fs, f1, f2, kind=kind, bins_per_band=BINS_PER_BAND))
+    per.append(last.value["velocity_rms"].to("m/s").m)
     per_arr = np.vstack(per)
     hold = per_arr.max(axis=0)
     lev = velocity_level(Q_(np.maximum(hold, 1e-30), "m/s"), id="maxhold.level")

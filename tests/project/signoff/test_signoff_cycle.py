@@ -128,7 +128,7 @@ def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(p
     html = package_of(project).read_text(encoding="utf-8")
     title = unescape(html.split('id="title-block"', 1)[1].split("</table>", 1)[0])
     assert "VOID" in title
-    assert f"inputs changed: {INPUT} (0.003 m -> 0.0032 m)" in title
+    assert f"inputs changed: {INPUT} (3 mm -> 3.2 mm)" in title       # in the unit the input was typed in
     assert "results changed:" in title
     assert read_embedded(html)["status"] == "preliminary"
     assert verify_package(package_of(project)).ok  # the package is honest about the void sign-off
@@ -146,8 +146,9 @@ def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(p
     assert comp.changes.results and "revision (A -> B)" in comp.changes.project
     assert main(["compare", str(project), "--from", "A", "--to", "B"]) == 0
     out = capsys.readouterr().out
-    assert f"input    {INPUT} (0.0032 m -> 0.0035 m)" in out
-    assert "result   " in out
+    assert f"Inputs:\n  {INPUT} (3.2 mm -> 3.5 mm)" in out
+    assert "Results (as shown):" in out
+    assert out.index("Revision A to revision B:") < out.index("Inputs:")
     history = package_of(project).read_text(encoding="utf-8").split('id="revisions"', 1)[1].split("</section>")[0]
     assert re.search(r"<td>A</td>.*<td>preliminary</td>.*<td>B</td>", history, re.DOTALL)
     assert INPUT in history

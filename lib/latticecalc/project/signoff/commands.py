@@ -42,7 +42,7 @@ def _trust(args: argparse.Namespace) -> int:
 def _verify(args: argparse.Namespace) -> int:
     from latticecalc.project.signoff.verify import verify_package
 
-    report = verify_package(args.package, keys=args.keys)
+    report = verify_package(args.package, keys=args.keys, require_keys=args.require_keys)
     print(report.text())
     return 0 if report.ok else 1
 
@@ -114,10 +114,12 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help="a role the key may sign (repeat for more)")
     p.set_defaults(func=_trust)
 
-    p = sub.add_parser("verify", help="check an exported package's content hash and signatures")
-    p.add_argument("package", help="the exported .html package")
+    p = sub.add_parser("verify", help="check an exported package (HTML or its JSON): content, seal and sign-offs")
+    p.add_argument("package", help="the exported .html package or its .json")
     p.add_argument("--keys", default=None,
                    help="trusted keys: a trusted-keys.toml, a project or folder holding one, or a folder of *.pub")
+    p.add_argument("--require-keys", action="store_true",
+                   help="with --keys, fail on a sign-off made without a key (by default it is reported as a note)")
     p.set_defaults(func=_verify)
 
     p = sub.add_parser("review", help="review comments against step ids: add, reply, close, list")

@@ -185,15 +185,22 @@ def _value_text(entry: Any) -> str:
 def diff_content(old: dict, new: dict) -> ContentChanges:
     """Name the inputs, results, notebooks and project fields that differ between two contents."""
     oi, ni = old.get("inputs", {}), new.get("inputs", {})
+    # as the inputs table shows them (the input's own unit), falling back on the SI value
+    os_, ns = old.get("inputs_shown", {}), new.get("inputs_shown", {})
+
+    def shown(side: dict, texts: dict, k: str) -> str:
+        text = texts.get(k) if isinstance(texts, dict) else None
+        return text if isinstance(text, str) and text else _value_text(side[k])
+
     inputs = []
     for k in sorted(set(oi) | set(ni)):
         if oi.get(k) != ni.get(k):
             if k not in oi:
-                inputs.append(f"{k} (added: {_value_text(ni[k])})")
+                inputs.append(f"{k} (added: {shown(ni, ns, k)})")
             elif k not in ni:
                 inputs.append(f"{k} (removed)")
             else:
-                inputs.append(f"{k} ({_value_text(oi[k])} -> {_value_text(ni[k])})")
+                inputs.append(f"{k} ({shown(oi, os_, k)} -> {shown(ni, ns, k)})")
     orr = {r["id"]: r for r in old.get("results", [])}
     nr = {r["id"]: r for r in new.get("results", [])}
     results = []

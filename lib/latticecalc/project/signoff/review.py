@@ -175,6 +175,37 @@ def add_comment(folder: str | Path, *, step: str, author: str, text: str) -> Rev
     return replay([rec])[0]
 
 
+def checkers_of(project: Project) -> list[str]:
+    """Who may act as a checker on this project: names of its ``checked`` sign-offs and of keys trusted to check."""
+    from latticecalc.project.signoff.records import load_records
+    from latticecalc.project.signoff.trust import project_trust
+
+    names = [str(r.get("name", "")) for r in load_records(project) if r.get("role") == "checked"]
+    trust = project_trust(project.folder)
+    if trust is not None and trust.bound:
+        names += [k.person for k in trust.keys.values() if "checked" in k.roles and k.person]
+    return names
+
+
+def close_refusal(project: Project, comment: ReviewComment, closer: str) -> str:
+    """Why ``closer`` may not close ``comment`` ("" if they may): only its author or a checker closes it.
+
+    A checker is a person who signed this project ``checked`` or whose key the project's trust list allows
+    to sign ``checked``; names are compared as :func:`~latticecalc.project.signoff.identity.same_person`
+    does. The preparer (``calc.prepared_by``) may close only a comment they wrote.
+    """
+    from latticecalc.project.signoff.identity import same_person
+
+    if same_person(closer, comment.author):
+        return ""
+    if same_person(closer, project.meta.prepared_by):
+        return (f"the preparer cannot close comment {comment.id} by {comment.author}: only its author or a checker "
+                "closes a comment")
+    if any(same_person(closer, name) for name in checkers_of(project)):
+        return ""
+    return f"only the comment's author ({comment.author}) or a checker of this project may close comment {comment.id}"
+
+
 def _follow_up(folder: str | Path, kind: str, comment_id: str, author: str, text: str) -> ReviewComment:
     project = open_project(folder)
     record = {"event": kind, "id": comment_id, "author": _text(author, "--author"),
@@ -188,6 +219,11 @@ def _follow_up(folder: str | Path, kind: str, comment_id: str, author: str, text
                              expected="one of " + (", ".join(state) or "(none yet)"))
         if kind == "close" and state[comment_id].status == "closed":
             raise InputError("is closed already", input_name=comment_id)
+        if kind == "close":
+            why = close_refusal(project, state[comment_id], record["author"])
+            if why:
+                raise InputError(why, input_name="--author", got=repr(record["author"]),
+                                 hint="The preparer answers with a reply; the comment's author or a checker closes it")
         return _chain(existing, rec)
 
     append_line(review_path(project), record, prepare=check)
@@ -210,5 +246,5 @@ def list_comments(folder: str | Path, *, include_closed: bool = True) -> list[Re
     return [c for c in comments if include_closed or c.status == "open"]
 
 
-__all__ = ["ReviewComment", "add_comment", "close_comment", "event_chain_problems", "list_comments", "load_comments",
-           "reply_comment", "review_problems"]
+__all__ = ["ReviewComment", "add_comment", "checkers_of", "close_comment", "close_refusal", "event_chain_problems",
+           "list_comments", "load_comments", "reply_comment", "review_problems"]

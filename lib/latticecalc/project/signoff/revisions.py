@@ -67,38 +67,86 @@ def record_export(project: Project, record: dict) -> bool:
     return True
 
 
+def check_changes(old: dict, new: dict) -> tuple[list[str], list[str]]:
+    """(verdicts that changed, utilisations that moved in their shown digits) between two contents."""
+    a = {c.get("id"): c for c in old.get("checks", []) if isinstance(c, dict)}
+    b = {c.get("id"): c for c in new.get("checks", []) if isinstance(c, dict)}
+    verdicts, moved = [], []
+    for cid in list(a) + [k for k in b if k not in a]:
+        ca, cb = a.get(cid), b.get(cid)
+        if ca is None:
+            verdicts.append(f"{cid}: new check, {cb.get('verdict')} (utilisation {cb.get('utilisation_text')})")
+        elif cb is None:
+            verdicts.append(f"{cid}: no longer checked (was {ca.get('verdict')})")
+        elif ca.get("verdict") != cb.get("verdict"):
+            verdicts.append(f"{cid}: {ca.get('verdict')} -> {cb.get('verdict')} (utilisation "
+                            f"{ca.get('utilisation_text')} -> {cb.get('utilisation_text')})")
+        elif ca.get("utilisation_text") != cb.get("utilisation_text"):
+            moved.append(f"{cid}: utilisation {ca.get('utilisation_text')} -> {cb.get('utilisation_text')} "
+                         f"(still {cb.get('verdict')})")
+    return verdicts, moved
+
+
+def shown_result_changes(old: dict, new: dict) -> list[str]:
+    """Key results whose shown text changed (a change below the shown digits is not listed)."""
+    a = {r.get("id"): r for r in old.get("results", []) if isinstance(r, dict)}
+    b = {r.get("id"): r for r in new.get("results", []) if isinstance(r, dict)}
+    out = []
+    for rid in list(a) + [k for k in b if k not in a]:
+        ra, rb = a.get(rid), b.get(rid)
+        if ra is None:
+            out.append(f"{rid}: new, {rb.get('text', '')}")
+        elif rb is None:
+            out.append(f"{rid}: no longer computed (was {ra.get('text', '')})")
+        elif ra.get("text", "") != rb.get("text", ""):
+            out.append(f"{rid}: {ra.get('text', '')} -> {rb.get('text', '')}")
+    return out
+
+
 @dataclass(frozen=True, kw_only=True)
 class Comparison:
-    """What changed from revision ``a`` to revision ``b``."""
+    """What changed from revision ``a`` to revision ``b``: verdicts first, then inputs, then shown results."""
 
     a: str
     b: str
     changes: ContentChanges
+    verdicts: tuple[str, ...] = ()
+    utilisations: tuple[str, ...] = ()
+    results: tuple[str, ...] = ()
 
     def lines(self) -> list[str]:
-        """Human-readable lines, one per changed item."""
+        """Human-readable lines: a one-line tally, then each group that has entries (unchanged ones hidden)."""
         c = self.changes
-        out = [f"Changes from revision {self.a} to revision {self.b}: {len(c.inputs)} input(s), "
-               f"{len(c.results)} key result(s), {len(c.notebooks)} notebook(s), {len(c.project)} project field(s)"]
-        if c.empty:
-            return out + ["  no inputs or key results changed"]
-        for label, items in (("input", c.inputs), ("result", c.results), ("notebook", c.notebooks),
-                             ("project", c.project)):
-            out += [f"  {label:<8} {item}" for item in items]
+        tally = (f"{len(self.verdicts)} verdict(s) changed, {len(self.utilisations)} utilisation(s) moved, "
+                 f"{len(c.inputs)} input(s), {len(self.results)} result(s) shown differently, "
+                 f"{len(c.files)} data file(s), {len(c.notebooks)} notebook(s), {len(c.project)} project field(s)")
+        out = [f"Revision {self.a} to revision {self.b}: {tally}"]
+        groups = (("Verdicts", self.verdicts), ("Utilisations", self.utilisations), ("Inputs", c.inputs),
+                  ("Results (as shown)", self.results), ("Data files", c.files), ("Notebook code", c.notebooks),
+                  ("Project", c.project))
+        for title, items in groups:
+            if items:
+                out.append(f"{title}:")
+                out += [f"  {item}" for item in items]
         if c.kit_version:
-            out.append(f"  kit      {c.kit_version}")
+            out.append(f"Kit version: {c.kit_version}")
+        if len(out) == 1:
+            out.append("  nothing a reader would see changed")
         return out
 
 
 def compare_revisions(folder: str | Path, *, a: str, b: str) -> Comparison:
-    """Inputs, key results, notebook code and project fields that changed from revision a to b."""
+    """Verdicts, utilisations, inputs, shown results, files, notebook code and project fields, revision a to b."""
     project = open_project(folder)
     records = {r["revision"]: r for r in load_revisions(project)}
     for name, rev in (("--from", a), ("--to", b)):
         if rev not in records:
             raise InputError("no exported record of that revision", input_name=name, got=repr(rev),
                              expected="one of " + (", ".join(records) or "(none: export first)"))
-    return Comparison(a=a, b=b, changes=diff_content(records[a]["content"], records[b]["content"]))
+    old, new = records[a]["content"], records[b]["content"]
+    verdicts, moved = check_changes(old, new)
+    return Comparison(a=a, b=b, changes=diff_content(old, new), verdicts=tuple(verdicts), utilisations=tuple(moved),
+                      results=tuple(shown_result_changes(old, new)))
 
 
 def history_html(stored: list[dict], current: dict, *, frozen: bool) -> str:

@@ -157,7 +157,7 @@ def read_embedded(html: str) -> dict:
     return data if isinstance(data, dict) else {}
 
 
-def verify_export_json(path: str | Path, *, keys: str | Path | None = None) -> VerifyReport:
+def verify_export_json(path: str | Path, *, keys: str | Path | None = None, require_keys: bool = False) -> VerifyReport:
     """Check a package's exported JSON: its seal, fingerprint, results and the status its sign-offs give.
 
     The same checks a project that imports the JSON makes (:func:`latticecalc.project.lineage.check_export`);
@@ -181,19 +181,24 @@ def verify_export_json(path: str | Path, *, keys: str | Path | None = None) -> V
         for rec in data["signoff"].get("signoffs", []):
             if isinstance(rec, dict) and rec.get("fingerprint") == found.fingerprint:
                 why = trust.problem(rec)
-                if why:
+                if why and not rec.get("signature") and not require_keys:
+                    report.notes.append(f"sign-off {rec.get('seq')} ({rec.get('role')}, {rec.get('name')}): no keyed "
+                                        "signature, so not checked against the trusted keys")
+                elif why:
                     report.problems.append(f"sign-off {rec.get('seq')} ({rec.get('role')}, {rec.get('name')}): {why}")
     return report
 
 
-def verify_package(path: str | Path, *, keys: str | Path | None = None) -> VerifyReport:
+def verify_package(path: str | Path, *, keys: str | Path | None = None, require_keys: bool = False) -> VerifyReport:
     """Check an exported package's content hash, visible figures and sign-offs (see module doc).
 
-    A ``.json`` path is the package's exported JSON: see :func:`verify_export_json`.
+    With ``keys``, a sign-off made without a key is reported as a note (it counts only as a content
+    hash); ``require_keys`` makes it a failure, as does any keyed sign-off the trusted keys do not vouch
+    for. A ``.json`` path is the package's exported JSON: see :func:`verify_export_json`.
     """
     path = Path(path)
     if path.suffix.lower() == ".json":
-        return verify_export_json(path, keys=keys)
+        return verify_export_json(path, keys=keys, require_keys=require_keys)
     try:
         html = path.read_text(encoding="utf-8")
     except FileNotFoundError:
@@ -257,7 +262,7 @@ def verify_package(path: str | Path, *, keys: str | Path | None = None) -> Verif
                 bad.append(f"document: block '{k}' was removed")
             else:
                 bad.append(f"document: block '{k}': {word_diff(sealed[k], blocks[k])}")
-    _check_signoffs(report, data, content, stated, blocks, signoff_states(bare), trust, keys)
+    _check_signoffs(report, data, content, stated, blocks, signoff_states(bare), trust, keys, require_keys)
     return report
 
 
@@ -266,7 +271,7 @@ def _status(roles: set) -> str:
 
 
 def _check_signoffs(report: VerifyReport, data: dict, content: dict, stated: str, blocks: dict[str, str],
-                    states: dict[str, str], trust, keys) -> None:
+                    states: dict[str, str], trust, keys, require_keys: bool = False) -> None:
     """Signatures, chain, separation of roles, trust, what each sign-off signed, and the status shown."""
     bad = report.problems
     title = blocks.get("title-block", "")
@@ -296,7 +301,10 @@ def _check_signoffs(report: VerifyReport, data: dict, content: dict, stated: str
             ok = False
         if trust is not None and not void:  # who may sign: reported, the package's own status aside
             why = trust.problem(rec) or (persons.get(i, "") if i not in rules else "")
-            if why:
+            if why and not sig and not require_keys:  # an unkeyed sign-off is a fact to note, not a forgery
+                report.notes.append(f"{who}: no keyed signature, so not checked against the trusted keys "
+                                    "(--require-keys makes this a failure)")
+            elif why:
                 bad.append(f"{who}: {why}")
         elif not sig and not void:
             report.notes.append(f"{who}: no keyed signature (content hash only)")

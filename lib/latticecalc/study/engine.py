@@ -456,7 +456,8 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
         pareto = [feasible[i] for i in np.flatnonzero(mask)]
         pareto.sort(key=lambda k: _objective_matrix([_merged(outputs[k])], final_objectives)[0, 0])
     cons_final = {"hand": constraints, "bloch": BLOCH_CONSTRAINTS, "coupled": COUPLED_CONSTRAINTS}[final_stage]
-    nearest = sorted(at_final, key=lambda k: (_violation_amount(outputs[k][final_stage], cons_final), k))[:5]
+    nearest = _distinct(sorted(at_final, key=lambda k: (_violation_amount(outputs[k][final_stage], cons_final), k)),
+                        designs, space, count=5)
     ids = {k: "D" + k[:8] for k in keys}
     records = tuple(DesignRecord(id=ids[k], design=dict(designs[k]), outputs=outputs[k], lacks=lacks[k])
                     for k in keys)
@@ -464,6 +465,24 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
                        nearest=tuple(ids[k] for k in nearest) if not pareto else (),
                        computed=tuple(computed), counts=counts, seconds=seconds, executor=executor.name,
                        final_stage=final_stage, objectives=tuple(final_objectives))
+
+
+def _distinct(keys: Sequence[str], designs: Mapping[str, Mapping[str, Any]], space: DesignSpace, *, count: int,
+              apart: float = 0.05) -> list[str]:
+    """The first ``count`` of ``keys`` that lie at least ``apart`` from each other in the unit cube.
+
+    The nearest designs are shown to say what the space lacks; five near-copies of one design would say it once.
+    """
+    chosen: list[str] = []
+    points: list[np.ndarray] = []
+    for k in keys:
+        x = space.encode(designs[k])
+        if all(np.max(np.abs(x - p)) >= apart for p in points):
+            chosen.append(k)
+            points.append(x)
+        if len(chosen) == count:
+            break
+    return chosen
 
 
 def _merged(stage_outputs: Mapping[str, Mapping[str, Any]]) -> dict[str, Any]:

@@ -20,32 +20,35 @@ if str(ROOT) not in sys.path:
 
 
 class ExecutedProjects:
-    """Projects made from a bundled template, run and exported once each, on first use."""
+    """Projects made from a bundled template, run and exported once each, on first use.
+
+    Each has the template's defaults with the numerical check coarsened by ``tests.helpers.make_quick``
+    (which changes nothing in a template without those inputs): no test here reads a full-resolution
+    result, and the full resolution runs in ``latticecalc demo`` and ``benchmarks/``.
+    """
 
     def __init__(self, factory: pytest.TempPathFactory):
         self._factory = factory
         self._done: dict[str, Path] = {}
 
-    def get(self, template: str, *, quick: bool = False) -> Path:
-        """The shared executed project of ``template`` (its defaults; ``quick``: coarsened). Do not modify."""
-        key = f"{template}-quick" if quick else template
-        if key not in self._done:
+    def get(self, template: str) -> Path:
+        """The shared executed project of ``template``. Do not modify it: take a :meth:`copy`."""
+        if template not in self._done:
             from latticecalc.cli import main as cli
             from tests.helpers import make_quick
 
-            # through the command line, as a user would: new -> (make_quick) -> run -> export
-            folder = self._factory.mktemp(key) / key
+            # through the command line, as a user would: new -> (inputs edited) -> run -> export
+            folder = self._factory.mktemp(template) / template
             assert cli(["new", str(folder), "--template", template]) == 0
-            if quick:
-                make_quick(folder)
+            make_quick(folder)
             assert cli(["run", str(folder)]) == 0
             assert cli(["export", str(folder)]) == 0
-            self._done[key] = folder
-        return self._done[key]
+            self._done[template] = folder
+        return self._done[template]
 
-    def copy(self, template: str, dest: Path, *, quick: bool = False) -> Path:
+    def copy(self, template: str, dest: Path) -> Path:
         """A private copy of the shared executed project at ``dest`` (still current: nothing to rerun)."""
-        shutil.copytree(self.get(template, quick=quick), dest)
+        shutil.copytree(self.get(template), dest)
         return dest
 
 
@@ -58,10 +61,10 @@ def executed_projects(tmp_path_factory) -> ExecutedProjects:
 @pytest.fixture(scope="session")
 def quick_panel(executed_projects) -> Path:
     """A column-panel project coarsened by ``make_quick``, run and exported once. Read only: copy it to change it."""
-    return executed_projects.get("column-panel", quick=True)
+    return executed_projects.get("column-panel")
 
 
 @pytest.fixture
 def quick_panel_copy(executed_projects, tmp_path) -> Path:
     """A private copy of :func:`quick_panel` for a test that changes the project."""
-    return executed_projects.copy("column-panel", tmp_path / "panel", quick=True)
+    return executed_projects.copy("column-panel", tmp_path / "panel")

@@ -1,17 +1,33 @@
-"""The demo's calc package opens in headless Chromium with its math laid out, offline."""
+"""The demo's calc package opens in headless Chromium with its math laid out, offline.
+
+Nothing here reads the demo's numbers, so the demo is built with its column-panel's numerical check
+coarsened (``make_quick`` applied to each demo project before it runs): the same build, projects,
+overlays and package, in a fraction of the time.
+"""
 
 from __future__ import annotations
 
 import pytest
+from tests.helpers import make_quick
 
-from latticecalc.project.demo import build_demo
+from latticecalc.project import demo
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
 
 @pytest.fixture(scope="module")
 def demo_html(tmp_path_factory):
-    return build_demo(tmp_path_factory.mktemp("demo") / "d", progress=None).main_package
+    real_run = demo.run_project
+
+    def quick_run(folder, **kwargs):
+        make_quick(folder)
+        return real_run(folder, **kwargs)
+
+    with pytest.MonkeyPatch.context() as mp:
+        mp.setattr(demo, "run_project", quick_run)
+        report = demo.build_demo(tmp_path_factory.mktemp("demo") / "d", progress=None)
+    assert len(report.packages) == len(demo.demo_projects())
+    return report.main_package
 
 
 def test_demo_package_renders_math_offline(browser, demo_html, tmp_path):

@@ -13,13 +13,11 @@ from pathlib import Path
 
 import pytest
 import tomlkit
-from tests.helpers import make_quick
 
 from latticecalc.project import open_project
 from latticecalc.project.export import export_project
 from latticecalc.project.runner import run_project
 from latticecalc.project.signoff import add_comment, reply_comment, sign_project, verify_package
-from latticecalc.project.templates import new_project
 
 pytestmark = [pytest.mark.browser]
 
@@ -35,9 +33,13 @@ def _edit_toml(path: Path, edit) -> None:
 
 
 @pytest.fixture(scope="module")
-def hostile_package(tmp_path_factory) -> Path:
-    """A project whose every user-typed field holds script and markup, reviewed and signed."""
-    folder = make_quick(new_project(tmp_path_factory.mktemp("hostile") / "panel", template="column-panel"))
+def hostile_package(tmp_path_factory, executed_projects) -> Path:
+    """A project whose every user-typed field holds script and markup, reviewed and signed.
+
+    A copy of the session's quick project (tests/conftest.py): its rerun finds the results whose
+    inputs did not change in the copied result cache.
+    """
+    folder = executed_projects.copy("column-panel", tmp_path_factory.mktemp("hostile") / "panel")
 
     def meta(doc):
         for key in ("name", "number", "client"):

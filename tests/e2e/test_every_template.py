@@ -1,7 +1,9 @@
 """Templates are tests too: every bundled template runs with its own defaults and exports a package.
 
 Each template's project is run and exported once per session (``executed_projects`` in
-tests/conftest.py); other tests take copies of the same runs.
+tests/conftest.py) and other tests take copies of the same runs. The column-panel's numerical check
+is coarsened there (``make_quick``: fewer wave vectors, frequencies and Monte Carlo samples): this
+test asks whether the template runs and exports, not what its full-resolution numbers are.
 """
 
 from __future__ import annotations

@@ -166,3 +166,19 @@ def test_demo_record_is_reproducible_and_written_once(tmp_path):
     rec = R.read_record(p)
     assert rec.channels == ("x", "y", "z")
     np.testing.assert_allclose(rec.data, a.data, rtol=1e-4, atol=1e-8)   # 5 significant figures in the CSV
+
+
+def test_released_pages_of_a_mapped_record_read_back_the_same(tmp_path):
+    # common practice: dropping mapped pages must never change what is read (they come back from the file)
+    data = np.random.default_rng(3).standard_normal((50_000, 3))
+    p = tmp_path / "rec.npy"
+    np.save(p, data)
+    rec = R.read_npy(p, sample_rate=Q_(1000, "Hz"), unit="m/s^2")
+    z = rec.channel("z").magnitude
+    assert getattr(z, "_mmap", None) is not None or isinstance(z.base, np.memmap)
+    before = np.array(z[1000:2000])
+    R.release_pages(z)
+    np.testing.assert_array_equal(np.array(z[1000:2000]), before)
+    np.testing.assert_array_equal(np.array(z), data[:, 2])
+    R.release_pages(data)            # an array in memory: nothing to release, nothing changes
+    np.testing.assert_array_equal(np.load(p), data)

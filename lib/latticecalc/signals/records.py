@@ -39,6 +39,7 @@ from __future__ import annotations
 import bisect
 import io
 import math
+import mmap as mmap_module
 import os
 import re
 import warnings
@@ -609,6 +610,25 @@ def _runs_at(x: np.ndarray, level: float, min_run: int) -> np.ndarray:
     return idx[starts[keep]]
 
 
+def release_pages(array) -> None:
+    """Let the system drop the pages of a memory-mapped record read so far (no-op for arrays in memory).
+
+    Reading one channel of an (n, 3) file touches every page of the file, and mapped pages count in
+    the process's resident memory until dropped; dropped pages stay in the page cache and are read
+    again when needed.  Long-record passes call this after each block.
+    """
+    base = array
+    while base is not None:
+        mm = getattr(base, "_mmap", None)
+        if mm is not None:
+            try:
+                mm.madvise(mmap_module.MADV_DONTNEED)
+            except (AttributeError, OSError, ValueError):   # platform without it, or a closed map
+                pass
+            return
+        base = getattr(base, "base", None)
+
+
 def _finish(*, file, channels, data, unit, quantity, sample_rate, full_scale, line_of, source_text) -> Record:
     fs = check_positive(check_dimension(sample_rate, name="sample_rate", expected="frequency"),
                         name="sample_rate").to("Hz")
@@ -622,7 +642,8 @@ def _finish(*, file, channels, data, unit, quantity, sample_rate, full_scale, li
     for c, name in enumerate(channels):
         hi, lo = -np.inf, np.inf
         for start in range(0, n, BLOCK_SAMPLES):
-            block = np.asarray(data[start:start + BLOCK_SAMPLES, c], dtype=float)
+            block = np.array(data[start:start + BLOCK_SAMPLES, c], dtype=float)
+            release_pages(data)
             bad = ~np.isfinite(block)
             if bad.any():
                 r = start + int(np.flatnonzero(bad)[0])
@@ -634,7 +655,8 @@ def _finish(*, file, channels, data, unit, quantity, sample_rate, full_scale, li
         if hi == lo and fs_val is None:
             continue   # a constant channel has no peaks to clip
         for start in range(0, n, BLOCK_SAMPLES):
-            block = np.asarray(data[start:start + BLOCK_SAMPLES, c], dtype=float)
+            block = np.array(data[start:start + BLOCK_SAMPLES, c], dtype=float)
+            release_pages(data)
             if fs_val is not None:
                 rows = np.flatnonzero(np.abs(block) >= 0.999 * fs_val)
             else:

@@ -33,6 +33,7 @@ from scipy import signal as ssig
 from latticecalc.errors import InputError, RecordError
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, Step, evaluate, quantity_step
 from latticecalc.signals.bands import DEFAULT_HIGHEST, DEFAULT_LOWEST, IEC_61260_1, third_octave_bands
+from latticecalc.signals.records import release_pages
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity, parse
 
 WELCH_1967 = Source(author="Welch, P. D.", title="The use of fast Fourier transform for the estimation "
@@ -216,6 +217,7 @@ def _welch(x: np.ndarray, fs: float, nfft: int, *, overlap: float = 0.5, detrend
     for b0 in range(0, starts.size, batch):
         idx = starts[b0:b0 + batch]
         segs = np.stack([np.asarray(x[s:s + nperseg], dtype=float) for s in idx])
+        release_pages(x)
         if detrend == "constant":
             segs -= segs.mean(axis=1, keepdims=True)
         elif detrend == "linear":
@@ -296,8 +298,12 @@ def to_velocity(signal, *, sample_rate, highpass=DEFAULT_HIGHPASS) -> SignalResu
     fs = _rate(sample_rate)
     f_hp = float(check_positive(check_dimension(highpass, name="highpass", expected="frequency"),
                                 name="highpass").to("Hz").m)
-    a = np.asarray(_magnitude(q, "m/s^2"), dtype=float)
-    n = a.size
+    src = _magnitude(q, "m/s^2")
+    n = src.shape[0]
+    a = np.empty(n)
+    for b0 in range(0, n, FFT_CHUNK * 8):          # a mapped record is copied block by block, its pages let go
+        a[b0:b0 + FFT_CHUNK * 8] = src[b0:b0 + FFT_CHUNK * 8]
+        release_pages(src)
     spec = sfft.rfft(a)
     del a                       # only the spectrum and then the velocity are held (a record's channel each)
     bin_width = 1.0 / (n * (1.0 / fs))                # as scipy.fft.rfftfreq spaces the bins

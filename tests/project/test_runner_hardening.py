@@ -320,6 +320,9 @@ def test_only_names_a_section_by_number_stem_or_file_name(tmp_path):
     with pytest.raises(InputError, match="no section '40'") as info:
         select_notebooks(project, ["40"])
     assert "10_a, 20_b, 30_c" in str(info.value)
+    for nothing in ([], "20"):               # an empty list would run nothing; a string is not a list
+        with pytest.raises(InputError, match="one or more"):
+            select_notebooks(project, nothing)
 
 
 def test_every_bundled_section_runs_on_its_own(tmp_path):

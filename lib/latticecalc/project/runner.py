@@ -368,9 +368,13 @@ def select_notebooks(project: Project, only: Sequence[str]) -> list[Path]:
     Raises
     ------
     InputError
-        If an entry names no notebook of the project (the message lists the sections there are).
+        If ``only`` is empty or a bare string, or an entry names no notebook of the project (the
+        message lists the sections there are).
     """
     notebooks = project.notebooks
+    if isinstance(only, str) or not only:
+        raise InputError("name the sections to run as a list of one or more", input_name="--only",
+                         got=repr(only), hint="For example only=['20', '30'] (latticecalc run DIR --only 20 30)")
     wanted: set[int] = set()
     for entry in only:
         hits = {i for i, nb in enumerate(notebooks) if entry.strip() in _section_keys(nb)}

@@ -172,3 +172,27 @@ def test_a_band_whose_edges_cross_is_named_as_no_band():
     fine = check(id="cov.peak1-upper", description="below upper edge", demand=Q_(52.0, "Hz"),
                  limit=Q_(60.0, "Hz"), sense="max").to_dict()
     assert band_notes([low, fine]) == {}
+
+
+def test_an_input_a_given_export_replaces_says_it_was_not_used():
+    # the kit's own promise: the inputs table does not present a replaced value's template source as its source
+    from latticecalc.project.export.html import _inputs_table, unused_inputs
+
+    rows = [
+        {"id": "coverage.target_peaks", "description": "Peaks the stop band must cover, used when no site-survey "
+         "export is named", "text": "47, 56", "unit": "Hz", "value": [47.0, 56.0],
+         "source": "example values; take them from a site survey"},
+        {"id": "coverage.survey_results", "description": "JSON export of a site-survey project; its peaks to target "
+         "replace coverage.target_peaks", "text": "../s/out/S-revA.json", "unit": "", "value": "../s/out/S-revA.json",
+         "source": ""},
+        {"id": "materials", "description": "Project materials", "text": "tpu (1 entry)", "unit": "",
+         "value": {"tpu": {"name": "TPU 90A", "modulus_low_factor": {"value": 0.95, "source": "data sheet QP-90A"}}},
+         "source": ""},
+    ]
+    unused = unused_inputs(rows)
+    assert list(unused) == ["coverage.target_peaks"]
+    assert unused["coverage.target_peaks"].startswith("not used: coverage.survey_results")
+    html = _inputs_table(rows)
+    assert "data sheet QP-90A" in html and "0.95" in html and "{'" not in html      # the mapping as a table
+    rows[1]["value"] = rows[1]["text"] = ""
+    assert unused_inputs(rows) == {}                                                # no export named: it is used

@@ -16,6 +16,7 @@ from latticecalc.project.export.collect import SheetDocument, collect
 from latticecalc.project.export.html import PackageExtras, render_package
 from latticecalc.project.project import Project, open_project
 from latticecalc.project.state import EXECUTED_DIR, stale_files
+from latticecalc.sheet.render import check_measure_text
 
 PACKAGE_FORMAT = "latticecalc-package"
 PACKAGE_FORMAT_VERSION = 1
@@ -101,8 +102,7 @@ def summary_record(project: Project, doc: SheetDocument) -> dict | None:
         rows.append({"label": "Checks", "text": f"{len(checks) - failing} OK, {failing} NOT OK", "step": ""})
         worst = max(checks, key=lambda c: float(c["utilisation"]))
         rows.append({"label": "Governing check", "step": worst["id"],
-                     "text": f"{worst['description']}: utilisation {float(worst['utilisation']):.2f} "
-                             f"({worst['verdict']})"})
+                     "text": f"{worst['description']}: {check_measure_text(worst)} ({worst['verdict']})"})
     return {"kind": "summary", "title": "Summary", "rows": rows} if rows else None
 
 

@@ -139,7 +139,9 @@ def _row_text(row: dict, results: dict[str, dict], checks: dict[str, dict]) -> s
         if not checks:
             return None
         worst = max(checks.values(), key=lambda c: _float(c.get("utilisation")))
-        return f"{worst.get('description')}: utilisation {worst.get('utilisation_text')} ({worst.get('verdict')})"
+        measure = (check_measure_text(worst) if "measure_text" in worst
+                   else f"utilisation {worst.get('utilisation_text')}")
+        return f"{worst.get('description')}: {measure} ({worst.get('verdict')})"
     if rule == "step":
         r = results.get(row.get("step", ""))
         if r is None:

@@ -351,13 +351,21 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
     seconds = {s: 0.0 for s in STAGES}
     objectives, constraints = settings.objectives, settings.constraints
 
+    def _report(stage: str, done: int, total: int, results: list, t0: float, sent: int) -> None:
+        rate = (time.perf_counter() - t0) / max(1, sent)
+        cons = constraints if stage == "hand" else (BLOCH_CONSTRAINTS if stage == "bloch" else COUPLED_CONSTRAINTS)
+        obs = objectives if stage == "hand" else COUPLED_OBJECTIVES
+        progress(stage, done, total, _best_text([r for r in results if r], obs, cons), rate * (total - done))
+
     def evaluate(stage: str, batch: list[dict[str, Any]], total: int, done0: int) -> list[dict[str, Any]]:
         keys = [design_fingerprint(stage, d, context) for d in batch]
         results: list[dict[str, Any]] = [{}] * len(batch)
-        todo = [i for i, k in enumerate(keys) if not (stage == "hand" and k in hand_out)]
+        # each distinct design once: a design already evaluated by hand, or met earlier in this batch, is not sent
+        first: dict[str, int] = {}
         for i, k in enumerate(keys):
-            if stage == "hand" and k in hand_out:
-                results[i] = hand_out[k]
+            if not (stage == "hand" and k in hand_out):
+                first.setdefault(k, i)
+        todo = sorted(first.values())
         chunk = max(1, 4 * getattr(executor, "workers", 1))
         t0 = time.perf_counter()
         for start in range(0, len(todo), chunk):
@@ -368,15 +376,14 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
                 if was_computed:
                     computed.append((stage, keys[i]))
                     counts[stage] += 1
-            if progress is not None:
-                done = done0 + start + len(part)
-                rate = (time.perf_counter() - t0) / max(1, start + len(part))
-                cons = constraints if stage == "hand" else (BLOCH_CONSTRAINTS if stage == "bloch"
-                                                            else COUPLED_CONSTRAINTS)
-                obs = objectives if stage == "hand" else COUPLED_OBJECTIVES
-                progress(stage, done, total, _best_text([r for r in results if r], obs, cons),
-                         rate * (total - done))
+            if progress is not None and start + len(part) < len(todo):
+                _report(stage, done0 + start + len(part), total, results, t0, start + len(part))
         seconds[stage] += time.perf_counter() - t0
+        for i, k in enumerate(keys):
+            if not results[i]:
+                results[i] = hand_out[k] if stage == "hand" and k in hand_out else results[first[k]]
+        if progress is not None:
+            _report(stage, done0 + len(batch), total, results, t0, max(1, len(todo)))
         if stage == "hand":
             for k, d, r in zip(keys, batch, results):
                 hand_out.setdefault(k, r)
@@ -396,8 +403,8 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
     # 2. NSGA-II on the hand outputs (ask and tell), started from the best of the screen
     if settings.generations > 0 and settings.population > 0:
         screen_out = [hand_out[design_fingerprint("hand", d, context)] for d in screen]
-        order = sorted(range(n_screen), key=lambda i: (_violation_amount(screen_out[i], constraints),
-                                                       _rank(screen_out, objectives).index(i)))
+        place = {i: n for n, i in enumerate(_rank(screen_out, objectives))}
+        order = sorted(range(n_screen), key=lambda i: (_violation_amount(screen_out[i], constraints), place[i]))
         start = U[order[:settings.population]]
         if len(start) < settings.population:
             extra = qmc.Sobol(d=space.dimension, scramble=True, seed=settings.seed + 1).random(

@@ -1,4 +1,4 @@
-"""Bad input to a study gives a named error and writes nothing (common practice: fail before any side effect)."""
+"""Bad input to a study gives a named error (test_study_project.py checks that a study project then writes nothing)."""
 
 from __future__ import annotations
 

@@ -92,3 +92,21 @@ def test_spectrum_view_drops_high_passed_bins_and_floors_the_axis():
     keep, (bottom, top) = style.spectrum_view(f, level, span_db=60.0)
     assert not keep[:3].any() and keep[3:].all()
     assert bottom >= 90.0 - 60.0 - 2.0 and top == 95.0
+
+
+@style.styled
+def _cell_3d(z):
+    fig = style.new_figure(3.0, 3.0)
+    ax = fig.add_subplot(projection="3d")
+    ax.plot([0.0, 1.0], [0.0, 1.0], [0.0, z])
+    for setter in (ax.set_xlim, ax.set_ylim, ax.set_zlim):  # fixed limits: only the data differs
+        setter(0.0, 2.0)
+    return fig
+
+
+def test_3d_figures_with_different_data_have_different_keys():
+    # a 3D line keeps its data aside until drawn: the key must still see it
+    one = display.figure_fingerprint(_cell_3d(1.0), id="fig.cell", dpi=130)
+    two = display.figure_fingerprint(_cell_3d(2.0), id="fig.cell", dpi=130)
+    assert one != two
+    assert display.figure_fingerprint(_cell_3d(1.0), id="fig.cell", dpi=130) == one

@@ -93,7 +93,7 @@ def _artist_state(artist) -> list:
     for getter in ("get_xydata", "get_offsets", "get_array", "get_segments", "get_xy", "get_text", "get_position",
                    "get_color", "get_facecolor", "get_edgecolor", "get_linestyle", "get_linewidth", "get_marker",
                    "get_markersize", "get_fontsize", "get_rotation", "get_hatch", "get_extent", "get_sizes",
-                   "get_clim", "get_width", "get_height", "get_ha", "get_va"):
+                   "get_clim", "get_width", "get_height", "get_ha", "get_va", "get_data_3d"):
         method = getattr(artist, getter, None)
         if method is None:
             continue
@@ -104,6 +104,12 @@ def _artist_state(artist) -> list:
         out.append(np.asarray(value) if isinstance(value, (list, tuple)) and getter != "get_segments"
                    and value and not isinstance(value[0], np.ndarray) and not isinstance(value[0], str)
                    else value)
+    # 3D artists keep their data in these until drawn (their 2D data is empty before the first draw)
+    for name in ("_verts3d", "_offsets3d", "_segments3d", "_vec"):
+        value = getattr(artist, name, None)
+        if value is not None:
+            out.append(np.asarray(value, dtype=float) if name != "_segments3d" else
+                       [np.asarray(v, dtype=float) for v in value])
     if hasattr(artist, "get_paths") and not hasattr(artist, "get_segments"):
         out.extend(p.vertices for p in artist.get_paths())
     cmap = getattr(artist, "get_cmap", None)

@@ -9,7 +9,7 @@ from importlib import resources
 
 from latticecalc.project.export.collect import SheetDocument
 from latticecalc.sheet.render import band_note_html, band_notes, check_measure_text, check_relation_text, record_html
-from latticecalc.units import format_value
+from latticecalc.units import format_value, plain_numbers
 
 CAUTIONS = (
     "This calculation package is a design aid. It does not replace the judgement of a licensed "
@@ -50,6 +50,8 @@ class PackageExtras:
     revision_history_html: str = ""
     signature_block_html: str = ""
     embedded_json: str = ""
+    #: Beside the status: failing checks and an approval's qualification (signoff.standing).
+    standing: str = ""
 
 
 def css_string(text: str) -> str:
@@ -102,6 +104,7 @@ def _title_block(meta: dict, extras: PackageExtras, prepared_date: str) -> str:
     <th>Status</th><td class="lc-status lc-status-{status}">{status}</td></tr>
 <tr><th>Approved</th><td>{sign_cell(rows.get('approved'))}</td><th>Open comments</th><td>{extras.open_comments}</td>
     <th>Kit</th><td>latticecalc {escape(meta.get('kit_version', ''))}</td></tr>
+<tr><th>Standing</th><td colspan="5" id="status-standing">{escape(extras.standing) or '—'}</td></tr>
 <tr><th>Fingerprint</th><td colspan="5" class="lc-fingerprint">{escape(extras.fingerprint) or '—'}</td></tr>
 </table></div>"""
 
@@ -293,7 +296,7 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
     refs = "".join(f"<li>{escape(r['cite'])}</li>" for r in references)
     body.append(f'<section id="references"><h2>References</h2><ol>{refs}</ol></section>')
     body.append('<section id="assumptions"><h2>Assumptions</h2>'
-                + ("<ol>" + "".join(f"<li>{escape(a['text'])}</li>" for a in assumptions) + "</ol>"
+                + ("<ol>" + "".join(f"<li>{escape(plain_numbers(a['text']))}</li>" for a in assumptions) + "</ol>"
                    if assumptions else "<p>None stated beyond those in the steps.</p>") + "</section>")
     if with_code:
         code = "".join(f'<h3>{escape(s.notebook)}</h3><div class="lc-code">'
@@ -301,7 +304,7 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
         body.append(f'<section id="code"><h2>Appendix: notebook code</h2>{code}</section>')
     body.append('<section id="cautions"><h2>Cautions</h2><ul>'
                 + "".join(f"<li>{escape(c)}</li>" for c in CAUTIONS)
-                + "".join(f"<li>{escape(c['text'])}</li>" for c in cautions) + "</ul></section>")
+                + "".join(f"<li>{escape(plain_numbers(c['text']))}</li>" for c in cautions) + "</ul></section>")
     body.append(extras.signature_block_html)
     body.append(f'<div class="lc-footer">{escape(running)} · generated {escape(generated)} by latticecalc '
                 f'{escape(meta.get("kit_version", ""))}</div>')

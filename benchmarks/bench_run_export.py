@@ -4,8 +4,10 @@ Both paths execute the same notebooks of the same demo project, one after the ot
 One untimed warm-up run fills the project's result cache first, so both timed paths meet the same
 warm cache (the cache is what a rerun in practice meets; the cold first run is printed too).
 Goal: our path under half the stock path's time. Prints figures and the ratio; asserts nothing.
+Last, a design-loop run of only some sections (``run_project(only=...)``, ``latticecalc run --only``)
+is timed against the full run on the same warm cache.
 
-    python benchmarks/bench_run_export.py [--repeat N]
+    python benchmarks/bench_run_export.py [--repeat N] [--only SECTION ...]
 """
 
 from __future__ import annotations
@@ -56,6 +58,8 @@ def time_stock(folder: Path) -> float:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=2)
+    parser.add_argument("--only", nargs="+", default=["20", "30"], metavar="SECTION",
+                        help="sections of the partial run timed last (default: 20 30)")
     args = parser.parse_args()
     if shutil.which("jupyter") is None and subprocess.run([sys.executable, "-m", "jupyter", "--version"],
                                                           capture_output=True).returncode != 0:
@@ -75,6 +79,11 @@ def main() -> None:
         print(f"latticecalc run + export (best of {args.repeat}): {best_ours:.2f} s")
         print(f"jupyter nbconvert --execute --to html (best of {args.repeat}): {best_stock:.2f} s")
         print(f"ratio ours / stock: {best_ours / best_stock:.2f} (goal: < 0.5)")
+        t0 = time.perf_counter()
+        partial = run_project(folder, progress=None, only=args.only)
+        t_partial = time.perf_counter() - t0
+        print(f"latticecalc run --only {' '.join(args.only)} ({len(partial.notebooks)} of {n} notebooks): "
+              f"{t_partial:.2f} s; ratio to the full run + export: {t_partial / best_ours:.2f}")
 
 
 if __name__ == "__main__":

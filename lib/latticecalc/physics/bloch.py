@@ -725,9 +725,9 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         when ``mode_cutoff`` is None, else the most that are kept.
     mode_cutoff:
         Keep the strut modes up to ``mode_cutoff`` × the top computed band (default
-        :data:`MODE_CUTOFF` = 3); the top band is first estimated at the path's corners with all
-        ``strut_modes`` modes, and the path is solved again with a higher cutoff when its top band lies
-        higher.  None keeps ``strut_modes`` modes of every strut.
+        :data:`MODE_CUTOFF` = 3); the top band is first estimated at the path's corners with the two
+        lowest modes per strut (an estimate from above), and the path is solved again with a higher
+        cutoff when its top band lies higher.  None keeps ``strut_modes`` modes of every strut.
     edge_check:
         Solve the full strut mesh at the wave vectors of the gap edges (of the top band's extremes when
         there is no gap) and report the largest relative difference on the sheet.
@@ -792,13 +792,14 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
     def mesh_of(n_el: int) -> int:
         return n_el + 1 if pm and n_el % 2 else n_el      # an added mass sits on the strut's middle node
 
-    def operator(n_el: int, cutoff: float | None = None) -> BlochOperator:
+    def operator(n_el: int, cutoff: float | None = None, modes: int | None = None) -> BlochOperator:
         n_el = mesh_of(n_el)
         if method == "full":
             return full_operator(pf, sections, n_elements=n_el, theory=theory, part=energy_group,
                                  supports=supports, point_masses=pm, end_zones=zones)
-        return reduced_operator(pf, sections, n_elements=n_el, strut_modes=sm, theory=theory, part=energy_group,
-                                supports=supports, point_masses=pm, end_zones=zones, cutoff=cutoff)
+        return reduced_operator(pf, sections, n_elements=n_el, strut_modes=sm if modes is None else modes,
+                                theory=theory, part=energy_group, supports=supports, point_masses=pm,
+                                end_zones=zones, cutoff=cutoff)
 
     def compute() -> dict[str, np.ndarray]:
         out: dict[str, np.ndarray] = {}
@@ -808,7 +809,9 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                                            point_masses=pm, end_zones=zones)
             corners = np.unique(np.r_[0, np.flatnonzero(np.diff(wp.segment)), np.flatnonzero(np.diff(wp.segment)) + 1,
                                       len(wp.k) - 1])
-            f_est = _bands_on(operator(n), wp.k[corners], nb, progress=None, desc="")[0]
+            # the model with the lowest two modes per strut: its bands lie at or above those of any model
+            # with more modes (Rayleigh-Ritz on nested bases), so the estimate errs towards keeping modes
+            f_est = _bands_on(operator(n, modes=min(sm, 2)), wp.k[corners], nb, progress=None, desc="")[0]
             cutoff = float(mode_cutoff) * float(np.nanmax(f_est[:, -1]))
         op = operator(n, cutoff)
         f, e = _bands_on(op, wp.k, nb, progress=progress, desc="dispersion")

@@ -90,6 +90,8 @@ class StudySettings:
     seed: int = 1
     objectives: tuple[Objective, ...] = HAND_OBJECTIVES
     constraints: tuple[Constraint, ...] = HAND_CONSTRAINTS
+    bloch_constraints: tuple[Constraint, ...] = BLOCH_CONSTRAINTS
+    coupled_constraints: tuple[Constraint, ...] = COUPLED_CONSTRAINTS
     stages: tuple[str, ...] = STAGES
 
     def __post_init__(self) -> None:
@@ -353,7 +355,8 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
 
     def _report(stage: str, done: int, total: int, results: list, t0: float, sent: int) -> None:
         rate = (time.perf_counter() - t0) / max(1, sent)
-        cons = constraints if stage == "hand" else (BLOCH_CONSTRAINTS if stage == "bloch" else COUPLED_CONSTRAINTS)
+        cons = constraints if stage == "hand" else (settings.bloch_constraints if stage == "bloch"
+                                                    else settings.coupled_constraints)
         obs = objectives if stage == "hand" else COUPLED_OBJECTIVES
         progress(stage, done, total, _best_text([r for r in results if r], obs, cons), rate * (total - done))
 
@@ -437,8 +440,8 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
     survivors = [k for k in keys if not lacks[k]["hand"]]
     final_stage = "hand"
     final_objectives = objectives
-    stage_plan = [("bloch", settings.bloch, BLOCH_CONSTRAINTS, objectives),
-                  ("coupled", settings.coupled, COUPLED_CONSTRAINTS, COUPLED_OBJECTIVES)]
+    stage_plan = [("bloch", settings.bloch, settings.bloch_constraints, objectives),
+                  ("coupled", settings.coupled, settings.coupled_constraints, COUPLED_OBJECTIVES)]
     previous = "hand"
     for stage, n_keep, cons, obs in stage_plan:
         if stage not in settings.stages or n_keep == 0 or not survivors:
@@ -462,7 +465,8 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
         mask = pareto_mask(F)
         pareto = [feasible[i] for i in np.flatnonzero(mask)]
         pareto.sort(key=lambda k: _objective_matrix([_merged(outputs[k])], final_objectives)[0, 0])
-    cons_final = {"hand": constraints, "bloch": BLOCH_CONSTRAINTS, "coupled": COUPLED_CONSTRAINTS}[final_stage]
+    cons_final = {"hand": constraints, "bloch": settings.bloch_constraints,
+                  "coupled": settings.coupled_constraints}[final_stage]
     nearest = _distinct(sorted(at_final, key=lambda k: (_violation_amount(outputs[k][final_stage], cons_final), k)),
                         designs, space, count=5)
     ids = {k: "D" + k[:8] for k in keys}

@@ -812,12 +812,18 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
             # the model with the lowest two modes per strut: its bands lie at or above those of any model
             # with more modes (Rayleigh-Ritz on nested bases), so the estimate errs towards keeping modes
             f_est = _bands_on(operator(n, modes=min(sm, 2)), wp.k[corners], nb, progress=None, desc="")[0]
-            cutoff = float(mode_cutoff) * float(np.nanmax(f_est[:, -1]))
+            if not np.isfinite(f_est[:, -1]).any():      # too few DOFs for the bands asked: all the modes
+                f_est = _bands_on(operator(n), wp.k[corners], nb, progress=None, desc="")[0]
+            top_est = f_est[:, -1][np.isfinite(f_est[:, -1])]
+            cutoff = float(mode_cutoff) * float(top_est.max()) if top_est.size else None
         op = operator(n, cutoff)
         f, e = _bands_on(op, wp.k, nb, progress=progress, desc="dispersion")
         fz = _bands_on(op, kz, nb, progress=progress, desc="zone")[0] if len(kz) else np.zeros((0, nb))
+        if cutoff_on and cutoff is None:
+            cutoff = float(modes.max())                   # no band estimate: every mode kept
         if cutoff_on:
-            top = float(mode_cutoff) * float(np.nanmax(np.vstack([f, fz])[:, -1]))
+            tops = np.vstack([f, fz])[:, -1]
+            top = float(mode_cutoff) * float(tops[np.isfinite(tops)].max(initial=0.0))
             if np.any((modes > cutoff) & (modes <= top)):
                 # the path's top band lies above the corners' estimate: keep the modes up to its multiple
                 cutoff = top

@@ -50,6 +50,8 @@ class ProjectMeta:
     prepared_by: str
     client: str = ""
     description: str = ""
+    #: What this revision changes and why (``calc.revision_note``), shown in the revision history.
+    revision_note: str = ""
 
     @property
     def package_stem(self) -> str:
@@ -60,7 +62,7 @@ class ProjectMeta:
         """JSON-ready metadata."""
         return {"name": self.name, "number": self.number, "calc_id": self.calc_id, "title": self.title,
                 "revision": self.revision, "prepared_by": self.prepared_by, "client": self.client,
-                "description": self.description}
+                "description": self.description, "revision_note": self.revision_note}
 
 
 def load_meta(path: Path) -> ProjectMeta:
@@ -98,7 +100,8 @@ def load_meta(path: Path) -> ProjectMeta:
         if not isinstance(val, (str, int)) or (isinstance(val, str) and not val.strip()):
             raise InputError("missing or empty", input_name=key, file=path.name,
                              expected="a non-empty text value in quotes", got=repr(val))
-    fields |= {"project.client": proj.get("client", ""), "calc.description": calc.get("description", "")}
+    fields |= {"project.client": proj.get("client", ""), "calc.description": calc.get("description", ""),
+               "calc.revision_note": calc.get("revision_note", "")}
     for key, val in fields.items():
         bad = _control_character(val) if isinstance(val, str) else None
         if bad is not None:
@@ -114,4 +117,5 @@ def load_meta(path: Path) -> ProjectMeta:
     return ProjectMeta(name=str(proj["name"]), number=str(proj["number"]), calc_id=str(calc["id"]),
                        title=str(calc["title"]), revision=str(calc["revision"]),
                        prepared_by=str(calc["prepared_by"]), client=str(proj.get("client", "")),
-                       description=str(calc.get("description", "")))
+                       description=str(calc.get("description", "")),
+                       revision_note=str(calc.get("revision_note", "")))

@@ -70,3 +70,25 @@ def test_compare_lists_verdict_and_utilisation_changes_and_hides_unchanged_ones(
     assert verdicts == ["c: OK -> NOT OK (utilisation 0.98 -> 1.02)"]
     assert moved == ["a: utilisation 1.09 -> 1.12 (still NOT OK)"]
     assert shown_result_changes(old, new) == ["r2: 12 mm -> 12.5 mm"]    # r1 moved below its shown digits
+
+
+def test_an_approval_over_failing_checks_states_its_qualification_on_the_cover(project, tmp_path):
+    from latticecalc.project.signoff.verify import block_texts
+
+    sign_project(project, role="prepared", name=open_project(project).meta.prepared_by)
+    sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
+    with pytest.raises(InputError, match="must state its qualification") as err:
+        sign_project(project, role="approved", name="Alex Approver", comment=RESOLVED)
+    assert err.value.input_name == "--qualification"
+    sign_project(project, role="approved", name="Alex Approver", comment=RESOLVED,
+                 qualification="for prototype fabrication only")
+    export_project(project)
+    html = _package(project).read_text(encoding="utf-8")
+    standing = block_texts(html)["status-standing"]
+    assert "checks NOT OK" in standing and not standing.startswith("0 of")
+    assert "approved by Alex Approver with the qualification: for prototype fabrication only" in standing
+    assert verify_package(_package(project)).ok
+    tampered = tmp_path / "tampered.html"
+    tampered.write_text(html.replace(standing.split(";")[0], "0 of 9 checks NOT OK", 1), encoding="utf-8")
+    report = verify_package(tampered)
+    assert any(p.startswith("title block: the standing reads '0 of 9") for p in report.problems), report.text()

@@ -38,6 +38,7 @@ PREPARER = "Pat Preparer"
 CHECKER = "Chris Checker"
 APPROVER = "Alex Approver"
 RESOLVED = "NOT OK checks reviewed: accepted for this test"
+QUALIFIED = "for prototype fabrication only"   # an approval over NOT OK checks states its limit
 INPUT = "lattice.strut_diameter"
 
 
@@ -97,7 +98,7 @@ def test_status_follows_preliminary_checked_approved(project):
     pkg = package_of(project)
     assert read_embedded(pkg.read_text(encoding="utf-8"))["status"] == "preliminary"
     with pytest.raises(ProjectError, match="before a current 'checked'"):
-        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED)
     sign_project(project, role="prepared", name=PREPARER)
     with pytest.raises(ProjectError, match="must not be the preparer"):
         sign_project(project, role="checked", name=PREPARER, comment=RESOLVED)
@@ -106,7 +107,7 @@ def test_status_follows_preliminary_checked_approved(project):
         with pytest.raises(InputError, match="NOT OK"):
             sign_project(project, role="checked", name=CHECKER)
     sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
-    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED)
     export_project(project)
     html = pkg.read_text(encoding="utf-8")
     assert read_embedded(html)["status"] == "approved"
@@ -120,7 +121,7 @@ def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(p
     export_project(project)
     set_input(project, INPUT, "3.2 mm")
     with pytest.raises(ProjectError, match="inputs.toml"):  # stale: refuses to sign
-        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED)
     with pytest.raises(ProjectError, match="changed since the last run"):
         export_project(project)
     run_project(project, progress=None)
@@ -136,9 +137,13 @@ def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(p
     # a further change issued as revision B: both revisions kept, compared, and in the history
     # (revision A's record was refreshed by the export above: it is not approved)
     set_meta(project, "calc", "revision", "B")
+    set_meta(project, "calc", "revision_note", "Struts thickened to 3.5 mm after the check")
     set_input(project, INPUT, "3.5 mm")
     run_project(project, progress=None)
     export_project(project)
+    # revision A's sign-offs are summarised as A's, not listed as void rows of B (common practice)
+    signoffs = package_of(project).read_text(encoding="utf-8").split('id="signoffs"', 1)[1].split("</section>")[0]
+    assert "<li>Revision A: checked by" in signoffs and "VOID" not in signoffs
     revs = sorted(p.name for p in (project / "out" / "revisions").glob("*.json"))
     assert revs == ["A.json", "B.json"]
     comp = compare_revisions(project, a="A", b="B")
@@ -151,7 +156,7 @@ def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(p
     assert out.index("Revision A to revision B:") < out.index("Inputs:")
     history = package_of(project).read_text(encoding="utf-8").split('id="revisions"', 1)[1].split("</section>")[0]
     assert re.search(r"<td>A</td>.*<td>preliminary</td>.*<td>B</td>", history, re.DOTALL)
-    assert INPUT in history
+    assert INPUT in history and "Struts thickened to 3.5 mm after the check" in history
     with pytest.raises(LatticeCalcError, match="no exported record"):
         compare_revisions(project, a="A", b="Z")
 
@@ -239,7 +244,7 @@ def test_an_approved_revision_record_is_frozen(project):
 def test_a_removed_signoff_record_breaks_the_chain(project):
     sign_project(project, role="prepared", name=PREPARER)
     sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
-    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED)
     path = project / "signoff" / "signatures.jsonl"
     lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
     path.write_text(lines[0] + lines[2], encoding="utf-8")  # someone deletes the 'checked' record

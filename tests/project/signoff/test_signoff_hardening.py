@@ -38,6 +38,7 @@ PREPARER = "Dr. Pat Preparer"
 CHECKER = "Chris Checker"
 APPROVER = "Alex Approver"
 RESOLVED = "NOT OK checks reviewed: accepted for this test"
+QUALIFIED = "for prototype fabrication only"   # an approval over NOT OK checks states its limit
 _DATA = re.compile(r'(<script type="application/json" id="lc-package-data">)(.*?)(</script>)', re.DOTALL)
 
 
@@ -61,7 +62,8 @@ def three_keys(tmp_path: Path):
 def sign_all_three(project: Path, keys: dict) -> None:
     sign_project(project, role="prepared", name=PREPARER, key=keys["prepared"].private)
     sign_project(project, role="checked", name=CHECKER, comment=RESOLVED, key=keys["checked"].private)
-    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, key=keys["approved"].private)
+    sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED,
+                 key=keys["approved"].private)
 
 
 # --- 3. what the reader sees is what was signed -------------------------------------------------
@@ -237,7 +239,8 @@ def test_one_key_cannot_sign_two_roles_of_a_revision(project, tmp_path):
     other = generate_keypair(tmp_path / "k", name="two")
     sign_project(project, role="checked", name=CHECKER, comment=RESOLVED, key=other.private)
     with pytest.raises(ProjectError, match="signed 'checked' of revision A already"):
-        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, key=other.private)
+        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED,
+                     key=other.private)
 
 
 def _forge(project: Path, signers: list[tuple[str, str, Path]]) -> None:
@@ -374,4 +377,4 @@ def test_a_review_file_shorter_than_a_signoff_saw_is_detected(project):
     data.pop("review.jsonl")
     heads.write_text(json.dumps(data), encoding="utf-8")
     with pytest.raises(ProjectError, match="sign-off 1 saw 2 review event"):
-        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED)
+        sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED)

@@ -12,7 +12,8 @@ import argparse
 def _sign(args: argparse.Namespace) -> int:
     from latticecalc.project.signoff.records import sign_project
 
-    rec = sign_project(args.dir, role=args.role, name=args.name, comment=args.comment or "", key=args.key)
+    rec = sign_project(args.dir, role=args.role, name=args.name, comment=args.comment or "", key=args.key,
+                       qualification=args.qualification or "")
     keyed = f", signed with key {rec['signature']['key_id']}" if rec.get("signature") else ""
     print(f"Signed {rec['role']} by {rec['name']} at {rec['time']} (sign-off {rec['seq']}{keyed}); "
           f"fingerprint {rec['fingerprint']}. Export again to show it in the package.")
@@ -99,6 +100,8 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--name", required=True, help="who signs")
     p.add_argument("--comment", default="", help="remark kept with the sign-off")
     p.add_argument("--key", default=None, help="Ed25519 private key file (from 'latticecalc keygen')")
+    p.add_argument("--qualification", default="",
+                   help="the limit of an approval, shown beside the status (required to approve over a failing check)")
     p.set_defaults(func=_sign)
 
     p = sub.add_parser("keygen", help="make an Ed25519 key pair for keyed sign-offs")

@@ -14,6 +14,7 @@ from latticecalc.project.signoff.keys import chain_problems
 from latticecalc.project.signoff.records import ROLES, SignoffState, judge, load_records, signatures_path, status_of
 from latticecalc.project.signoff.review import ReviewComment, load_comments, review_problems
 from latticecalc.project.signoff.revisions import history_html, load_revisions, revision_record, revision_text
+from latticecalc.project.signoff.standing import standing_text
 from latticecalc.project.signoff.trust import project_trust
 from latticecalc.project.signoff.verify import EMBED_FORMAT, SEAL_PLACEHOLDER
 
@@ -23,6 +24,16 @@ TITLE_REASON_CHARS = 160
 
 def _when(time: str) -> str:
     return time.replace("T", " ")[:16] + " UTC" if time else ""
+
+
+def _this_revision(states: list[SignoffState], revision: str) -> list[SignoffState]:
+    return [s for s in states if str(s.record.get("revision", revision)) == revision]
+
+
+def current_approval(states: list[SignoffState]) -> dict | None:
+    """The latest valid ``approved`` sign-off record (None when there is none)."""
+    found = [s.record for s in states if s.valid and s.record.get("role") == "approved"]
+    return found[-1] if found else None
 
 
 def _sign_rows(states: list[SignoffState]) -> list[SignRow]:
@@ -45,12 +56,35 @@ def _sign_rows(states: list[SignoffState]) -> list[SignRow]:
     return rows
 
 
-def _signature_block(states: list[SignoffState], extra: list[str]) -> str:
-    broken = chain_problems([s.record for s in states]) + extra
+def _earlier_revisions(states: list[SignoffState], revision: str) -> str:
+    """One line per earlier revision: who signed what (their sign-offs are that revision's, not void rows)."""
+    by_rev: dict[str, list[dict]] = {}
+    for s in states:
+        rev = str(s.record.get("revision", revision))
+        if rev != revision:
+            by_rev.setdefault(rev, []).append(s.record)
+    if not by_rev:
+        return ""
+    items = []
+    for rev, recs in by_rev.items():
+        latest: dict[str, dict] = {}
+        for r in recs:
+            latest[str(r.get("role", ""))] = r
+        signed = ", ".join(f"{role} by {latest[role].get('name', '')} ({_when(str(latest[role].get('time', '')))[:10]})"
+                           for role in ROLES if role in latest)
+        items.append(f"<li>Revision {escape(rev)}: {escape(signed)}; it signed revision {escape(rev)}'s "
+                     "content (see the revision history)</li>")
+    return "<p>Earlier revisions:</p><ul class=\"lc-earlier-signoffs\">" + "".join(items) + "</ul>"
+
+
+def _signature_block(all_states: list[SignoffState], extra: list[str], revision: str) -> str:
+    broken = chain_problems([s.record for s in all_states]) + extra
     warning = "".join(f'<p class="lc-verdict-notok"><strong>{escape(p)}</strong></p>' for p in broken)
+    states = _this_revision(all_states, revision)
+    earlier = _earlier_revisions(all_states, revision)
     if not states:
         return ('<section id="signoffs"><h2>Sign-off record</h2>' + warning + "<p>Not signed off: this package "
-                "is preliminary.</p></section>")
+                "is preliminary.</p>" + earlier + "</section>")
     rows = []
     for s in states:
         r = s.record
@@ -69,7 +103,7 @@ def _signature_block(states: list[SignoffState], extra: list[str]) -> str:
             "<th>Fingerprint</th><th>Key</th><th>State</th><th>Comment</th></tr></thead><tbody>"
             + "".join(rows) + "</tbody></table>"
             "<p>A sign-off is current while the package's fingerprint equals the one it signed; "
-            "check with <code>latticecalc verify</code>.</p></section>")
+            "check with <code>latticecalc verify</code>.</p>" + earlier + "</section>")
 
 
 def _comments_html(comments: list[ReviewComment], problems: list[str]) -> str:
@@ -117,11 +151,14 @@ def package_extras(project: Project, data: dict, doc) -> PackageExtras:
                 "signoffs": [{k: v for k, v in s.record.items() if k != "content"} | {"state": s.reason or "current"}
                              for s in states],
                 "seal": SEAL_PLACEHOLDER}
-    return PackageExtras(status=status, fingerprint=fp, signatures=_sign_rows(states), comments_by_step=by_step,
+    revision = project.meta.revision
+    return PackageExtras(status=status, fingerprint=fp, signatures=_sign_rows(_this_revision(states, revision)),
+                         standing=standing_text(content.get("checks"), current_approval(states)),
+                         comments_by_step=by_step,
                          comments_html=_comments_html(comments, review_broken),
                          open_comments=embedded["open_comments"],
                          revision_history_html=history_html(stored, current, frozen=frozen),
-                         signature_block_html=_signature_block(states, [head] if head else []),
+                         signature_block_html=_signature_block(states, [head] if head else [], revision),
                          embedded_json=embed_json(embedded))
 
 

@@ -30,9 +30,10 @@ PUBLIC_SUFFIX = ".pub"
 ALGORITHM = "ed25519"
 #: The fields of a sign-off record a signature covers: the fingerprint binds it to the content,
 #: ``document`` to what the reader sees (checks summary, summary box, steps, inputs), ``status``
-#: to the status the package takes with it, ``review`` to the review events the signer saw.
+#: to the status the package takes with it, ``review`` to the review events the signer saw,
+#: ``qualification`` to the limit an approver set (when there is one).
 SIGNED_FIELDS = ("seq", "role", "name", "time", "fingerprint", "comment", "calc_id", "revision", "previous",
-                 "document", "status", "review")
+                 "document", "status", "review", "qualification")
 #: Signed as ``null`` when missing (the fields every record has had).
 _ALWAYS_SIGNED = SIGNED_FIELDS[:9]
 

@@ -202,7 +202,7 @@ def _file_of(row: dict):
 
 
 def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
-                 key: str | Path | None = None) -> dict:
+                 key: str | Path | None = None, qualification: str = "") -> dict:
     """Add a sign-off record for the project's current run; returns the record.
 
     Parameters
@@ -217,6 +217,9 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
         Free text (required when signing checked/approved with a NOT OK check).
     key:
         Optional Ed25519 private key file (``latticecalc keygen``); the record is then signed.
+    qualification:
+        The limit of an approval (``for prototype fabrication only``): required to approve over a
+        failing check, signed with the record and shown beside the status on the cover.
 
     Raises
     ------
@@ -294,11 +297,22 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     if role in ("checked", "approved") and failing and not comment:
         raise InputError("checks are NOT OK (" + ", ".join(failing) + "): say in a comment how this was resolved",
                          input_name="--comment")
+    qualification = " ".join((qualification or "").split())
+    if role == "approved" and failing and not qualification:
+        raise InputError(f"{len(failing)} check(s) are NOT OK (" + ", ".join(failing[:4])
+                         + (" …" if len(failing) > 4 else "") + "): an approval over a failing check must state "
+                         "its qualification, which the package shows beside its status on the cover",
+                         input_name="--qualification", expected="e.g. 'for prototype fabrication only'")
+    if len(qualification) > MAX_NAME:
+        raise InputError("too long", input_name="--qualification", expected=f"at most {MAX_NAME} characters",
+                         got=f"{len(qualification)} characters")
     status = status_from_roles({s.record.get("role") for s in current} | {role})
     record = {"role": role, "name": name, "time": datetime.now(UTC).isoformat(timespec="seconds"),
               "fingerprint": fingerprint, "comment": comment, "calc_id": project.meta.calc_id,
               "revision": project.meta.revision, "document": display_digest(content), "status": status,
               "review": head_of(read_lines(review_path(project))), "content": content}
+    if qualification:
+        record["qualification"] = qualification
 
     def complete(existing: list[dict], rec: dict) -> dict:
         rec = rec | {"seq": len(existing) + 1, "previous": record_link(existing[-1]) if existing else ""}

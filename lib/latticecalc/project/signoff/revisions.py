@@ -163,18 +163,19 @@ def history_html(stored: list[dict], current: dict, *, frozen: bool) -> str:
         else:
             ch = diff_content(prev["content"], r["content"])
             what = "no change to inputs or results" if ch.empty else ch.describe(max_items=6)
+        note = str((r.get("package", {}).get("project") or {}).get("revision_note", "")) or "—"
         html.append(f"<tr><td>{escape(r['revision'])}</td><td>{escape(r.get('first_exported', '')[:10])}</td>"
                     f"<td>{escape(r.get('exported', '')[:19])}</td><td>{escape(r.get('status', ''))}</td>"
                     f'<td class="lc-fingerprint">{escape(r.get("fingerprint", "")[:16])}</td>'
-                    f"<td>{escape(what)}</td></tr>")
+                    f"<td>{escape(note)}</td><td>{escape(what)}</td></tr>")
         prev = r
     note = ""
     if frozen:
         note = (f"<p><strong>Revision {escape(current['revision'])} was approved with different content; "
                 "its record is kept as approved. Raise the revision in project.toml for a new issue.</strong></p>")
     return (note + '<table class="lc-revisions"><thead><tr><th>Revision</th><th>First exported</th>'
-            "<th>Last exported (UTC)</th><th>Status</th><th>Fingerprint</th><th>Changes from the previous"
-            "</th></tr></thead><tbody>" + "".join(html) + "</tbody></table>")
+            "<th>Last exported (UTC)</th><th>Status</th><th>Fingerprint</th><th>Revision note</th>"
+            "<th>Changes from the previous</th></tr></thead><tbody>" + "".join(html) + "</tbody></table>")
 
 
 __all__ = ["Comparison", "compare_revisions", "history_html", "load_revisions", "record_export",

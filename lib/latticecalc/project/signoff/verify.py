@@ -44,6 +44,7 @@ from latticecalc.project.signoff.display import check_problems, display_problems
 from latticecalc.project.signoff.fingerprint import display_digest, fingerprint_of
 from latticecalc.project.signoff.identity import separation_problems
 from latticecalc.project.signoff.keys import chain_problems, check_signature, signed_message
+from latticecalc.project.signoff.standing import standing_text
 from latticecalc.project.signoff.trust import load_trust
 
 EMBED_FORMAT = "latticecalc-signoff/1"
@@ -335,6 +336,11 @@ def _check_signoffs(report: VerifyReport, data: dict, content: dict, stated: str
     for role, rec in latest_valid.items():
         if " ".join(str(rec.get("name", "")).split()) not in title:
             bad.append(f"title block: the current {role} sign-off is by {rec.get('name')}, which it does not show")
+    standing = blocks.get("status-standing")
+    if standing is not None and "checks" in content:
+        expected = " ".join(standing_text(content.get("checks"), latest_valid.get("approved")).split())
+        if standing != expected:
+            bad.append(f"title block: the standing reads '{standing}' but the checks and sign-offs give '{expected}'")
     status = _status(valid_roles)
     if data.get("status") != status or not _has(title, status):
         bad.append(f"status: the package states '{data.get('status')}' but its valid sign-offs give '{status}'")

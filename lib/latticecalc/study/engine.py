@@ -369,7 +369,10 @@ def run_study(space: DesignSpace, context: StudyContext, *, settings: StudySetti
             if not (stage == "hand" and k in hand_out):
                 first.setdefault(k, i)
         todo = sorted(first.values())
-        chunk = max(1, 4 * getattr(executor, "workers", 1))
+        # a batch waits for its slowest design: on Dask, large batches keep the workers busy (progress is
+        # shown after each); in this process, small ones keep the progress line moving
+        workers = getattr(executor, "workers", 1)
+        chunk = 25 * workers if getattr(executor, "name", "") == "dask" else 4
         t0 = time.perf_counter()
         for start in range(0, len(todo), chunk):
             part = todo[start:start + chunk]

@@ -42,7 +42,7 @@ def _run(args: argparse.Namespace) -> int:
 def _export(args: argparse.Namespace) -> int:
     from latticecalc.project.export import export_project
 
-    report = export_project(args.dir, run=args.run, with_code=args.with_code, pdf=args.pdf)
+    report = export_project(args.dir, run=args.run, with_code=args.with_code, pdf=args.pdf, paper=args.paper)
     print(report.html)
     print(report.json)
     if report.pdf:
@@ -91,6 +91,8 @@ def _build_parser(extra: Sequence[Builder] = ()) -> argparse.ArgumentParser:
     p.add_argument("--run", action="store_true", help="run the notebooks first")
     p.add_argument("--with-code", action="store_true", help="add the notebook code as an appendix")
     p.add_argument("--pdf", action="store_true", help="also print a PDF with headless Chromium")
+    p.add_argument("--paper", choices=["a4", "letter"], default=None,
+                   help="paper of the PDF (default: calc.paper in the project file, A4 when unset)")
     p.set_defaults(func=_export)
 
     p = sub.add_parser("demo", help="build, run and export the worked demo project")

@@ -52,6 +52,8 @@ class ProjectMeta:
     description: str = ""
     #: What this revision changes and why (``calc.revision_note``), shown in the revision history.
     revision_note: str = ""
+    #: Paper of the printed package (``calc.paper``: ``a4`` or ``letter``; A4 when unset).
+    paper: str = "a4"
 
     @property
     def package_stem(self) -> str:
@@ -109,6 +111,10 @@ def load_meta(path: Path) -> ProjectMeta:
                                         input_name=key, file=str(path), expected="one line of plain text",
                                         got=f"{val!r}, which holds {bad}",
                                         hint=f"Edit {key} in {path.name} to a single line")
+    paper = str(calc.get("paper", "a4")).strip().lower()
+    if paper not in ("a4", "letter"):
+        raise InputError("unknown paper size", input_name="calc.paper", file=path.name, expected="'a4' or 'letter'",
+                         got=repr(calc.get("paper")))
     for key in ("calc.id", "calc.revision"):
         if not _SAFE_ID.match(str(fields[key])):
             raise InputError("used in file names, so letters, digits, '.', '_' and '-' only",
@@ -118,4 +124,4 @@ def load_meta(path: Path) -> ProjectMeta:
                        title=str(calc["title"]), revision=str(calc["revision"]),
                        prepared_by=str(calc["prepared_by"]), client=str(proj.get("client", "")),
                        description=str(calc.get("description", "")),
-                       revision_note=str(calc.get("revision_note", "")))
+                       revision_note=str(calc.get("revision_note", "")), paper=paper)

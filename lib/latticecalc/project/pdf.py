@@ -14,7 +14,7 @@ import subprocess
 import tempfile
 from pathlib import Path
 
-from latticecalc.errors import ProjectError
+from latticecalc.errors import InputError, ProjectError
 from latticecalc.project.atomic import write_bytes_atomic
 
 #: Where Debian installs Chromium; ``LATTICECALC_CHROMIUM`` overrides it.
@@ -22,6 +22,24 @@ CHROMIUM = "/usr/bin/chromium"
 CHROMIUM_FLAGS = ("--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
                   "--disable-background-networking", "--disable-component-update", "--disable-sync")
 PRINT_FLAGS = ("--no-pdf-header-footer", "--run-all-compositor-stages-before-draw")
+#: Paper sizes for the PDF (CSS page size keywords, CSS Paged Media Module Level 3, W3C, 2013 §7.1).
+PAPERS = {"a4": "A4", "letter": "letter"}
+DEFAULT_PAPER = "a4"
+
+
+def check_paper(paper: str, *, input_name: str = "--paper") -> str:
+    """``paper`` lower-cased, or an :class:`InputError` naming the sizes there are."""
+    key = str(paper).strip().lower()
+    if key not in PAPERS:
+        raise InputError("unknown paper size", input_name=input_name, expected=" or ".join(PAPERS), got=repr(paper))
+    return key
+
+
+def with_paper(html: str, paper: str) -> str:
+    """The package HTML with its page size fixed to ``paper`` (the package itself prints on any paper)."""
+    rule = f"<style>@page {{ size: {PAPERS[check_paper(paper)]}; }}</style>"
+    head_end = html.find("</head>")
+    return html[:head_end] + rule + html[head_end:] if head_end >= 0 else rule + html
 
 
 def find_chromium() -> str:
@@ -36,10 +54,12 @@ def find_chromium() -> str:
                             "and print the HTML from a browser")
 
 
-def print_pdf(html_path: str | Path, *, pdf_path: str | Path | None = None, timeout: float = 180) -> Path:
-    """Print ``html_path`` to ``pdf_path`` (default: beside it, ``.pdf``); returns the PDF's path.
+def print_pdf(html_path: str | Path, *, pdf_path: str | Path | None = None, timeout: float = 180,
+              paper: str = DEFAULT_PAPER) -> Path:
+    """Print ``html_path`` to ``pdf_path`` (default: beside it, ``.pdf``) on ``paper``; returns the PDF's path.
 
-    The PDF is written atomically: an earlier PDF stays as it was if printing fails.
+    ``paper`` is ``a4`` or ``letter``. The PDF is written atomically: an earlier PDF stays as it was if
+    printing fails.
 
     Raises
     ------
@@ -50,11 +70,14 @@ def print_pdf(html_path: str | Path, *, pdf_path: str | Path | None = None, time
     if not html_path.is_file():
         raise ProjectError("package not found", input_name="html_path", got=str(html_path))
     target = Path(pdf_path) if pdf_path is not None else html_path.with_suffix(".pdf")
+    paper = check_paper(paper)
     exe = find_chromium()
     with tempfile.TemporaryDirectory(prefix="latticecalc-pdf-") as work:
         out = Path(work) / "package.pdf"
+        page = Path(work) / "package.html"       # the package with its paper fixed; the package is unchanged
+        page.write_text(with_paper(html_path.read_text(encoding="utf-8"), paper), encoding="utf-8")
         cmd = [exe, *CHROMIUM_FLAGS, f"--user-data-dir={Path(work) / 'profile'}", *PRINT_FLAGS,
-               f"--print-to-pdf={out}", html_path.as_uri()]
+               f"--print-to-pdf={out}", page.as_uri()]
         try:
             proc = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout, check=False)
         except subprocess.TimeoutExpired:
@@ -69,4 +92,4 @@ def print_pdf(html_path: str | Path, *, pdf_path: str | Path | None = None, time
     return target
 
 
-__all__ = ["CHROMIUM_FLAGS", "find_chromium", "print_pdf"]
+__all__ = ["CHROMIUM_FLAGS", "DEFAULT_PAPER", "PAPERS", "check_paper", "find_chromium", "print_pdf", "with_paper"]

@@ -192,7 +192,7 @@ def export_lock(project: Project):
 
 
 def export_project(folder: str | Path, *, run: bool = False, with_code: bool = False,
-                   pdf: bool = False, progress=None) -> ExportReport:
+                   pdf: bool = False, progress=None, paper: str | None = None) -> ExportReport:
     """Write ``out/<calc-id>-rev<rev>.html`` and ``.json`` for the project in ``folder``.
 
     Parameters
@@ -205,6 +205,8 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
         Add the notebooks' code as an appendix.
     pdf:
         Also print the package to PDF with headless Chromium.
+    paper:
+        ``a4`` or ``letter`` for the PDF (default: ``calc.paper`` of the project file, A4 when unset).
     progress:
         Progress callback passed to the run (default: lines on stderr).
 
@@ -233,7 +235,7 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
     if pdf:
         from latticecalc.project.pdf import print_pdf
 
-        pdf_path = print_pdf(html_path)
+        pdf_path = print_pdf(html_path, paper=paper or project.meta.paper)
     return ExportReport(html=html_path, json=json_path, pdf=pdf_path)
 
 

@@ -93,7 +93,7 @@ def bench_bloch(cell, *, quick: bool) -> None:
         err = np.abs(e - e_full) / e_full
         print(f"band-edge error vs full mesh ({name}; bands 4-{n_bands}, same {len(ks)} wave vectors): "
               f"max {100 * err.max():.3f} %, mean {100 * err.mean():.4f} %   goal < {100 * GOAL_EDGE:g} %")
-    checked = bloch.dispersion(cell, **common)
+    checked = bloch.dispersion(cell, **common, edge_check=True)
     s = checked.step("bloch.reduction-error")
     print(f"the sheet's own check ({s.method.split(';')[0]}): {float(s.result.magnitude):.3f} %")
     if r["gaps"]:

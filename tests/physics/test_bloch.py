@@ -192,14 +192,16 @@ def test_mode_cutoff_keeps_band_edges_of_the_full_mesh(framed_octet):
     # Krattiger & Hussein (2014): Bloch mode synthesis converges to the full model as interior modes are added;
     # keeping those up to a multiple of the highest frequency of interest is common practice
     kw = dict(materials=MATS, n_elements=4, n_bands=16, points=12, zone_points=0, convergence_check=False)
-    cut = bloch.dispersion(framed_octet, **kw)
+    cut = bloch.dispersion(framed_octet, edge_check=True, **kw)
     full = bloch.dispersion(framed_octet, method="full", **kw)
     fc, ff = cut["frequencies"].magnitude[:, 3:], full["frequencies"].magnitude[:, 3:]
     np.testing.assert_allclose(np.nanmin(fc, axis=0), np.nanmin(ff, axis=0), rtol=RTOL_CUTOFF, atol=0)
     np.testing.assert_allclose(np.nanmax(fc, axis=0), np.nanmax(ff, axis=0), rtol=RTOL_CUTOFF, atol=0)
     # fewer strut modes than the fixed count, and the sheet says which and how far off the edges are
-    fixed = bloch.dispersion(framed_octet, mode_cutoff=None, edge_check=False, **kw)
+    fixed = bloch.dispersion(framed_octet, mode_cutoff=None, **kw)
     assert cut.n_dofs_reduced < fixed.n_dofs_reduced
+    with pytest.raises(InputError, match="no such step"):
+        fixed.step("bloch.reduction-error")          # no mesh check asked: no edge check either
     assert "3 × the top computed band" in cut.step("bloch.dofs").method
     err = cut.step("bloch.reduction-error")
     assert 0 < float(err.result.to("percent").magnitude) < 100 * RTOL_CUTOFF

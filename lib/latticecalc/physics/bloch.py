@@ -701,7 +701,7 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
                theory: str = "timoshenko", energy_group: str = "lattice", convergence_check: bool = True,
                supports: Mapping[int, Sequence[str]] | None = None, cache: Any = None, progress: Any = None,
                id_prefix: str = "bloch", node_zones: str = "none", mode_cutoff: float | None = MODE_CUTOFF,
-               edge_check: bool = True) -> Dispersion:
+               edge_check: bool | None = None) -> Dispersion:
     """Bloch-wave dispersion of an infinite lattice of ``cell``, its complete gaps and mode types.
 
     Parameters
@@ -733,8 +733,10 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
         lowest modes per strut (an estimate from above), and the path is solved again with a higher
         cutoff when its top band lies higher.  None keeps ``strut_modes`` modes of every strut.
     edge_check:
-        Solve the full strut mesh at the wave vectors of the gap edges (of the top band's extremes when
-        there is no gap) and report the largest relative difference on the sheet.
+        Solve the full strut mesh at the wave vectors of the gap edges (of the top band's maximum when
+        there is no gap) and report the largest relative difference of the bands on the sheet; None
+        (default): when ``convergence_check`` is on (a design loop that skips the mesh check skips this
+        one too).
     method:
         ``"reduced"`` (strut-level Bloch mode synthesis, fast) or ``"full"`` (the unreduced mesh,
         sparse shift-invert eigensolver at each wave vector).
@@ -789,6 +791,7 @@ def dispersion(cell: Any, *, materials: Mapping[str, Any], n_elements: int = 8, 
     zones = node_zones_of(pf, sections, node_zones)
 
     cutoff_on = mode_cutoff is not None and method == "reduced" and sm > 0
+    edge_check = bool(convergence_check) if edge_check is None else bool(edge_check)
     if mode_cutoff is not None and not (isinstance(mode_cutoff, (int, float)) and mode_cutoff >= 1):
         raise InputError("the strut-mode cutoff is a multiple of the top band, at least 1", input_name="mode_cutoff",
                          expected="a number >= 1 (e.g. 3) or None", got=repr(mode_cutoff))

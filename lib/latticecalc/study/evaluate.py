@@ -29,7 +29,7 @@ from latticecalc.study.requirement import StudyContext
 #: Stages in the order a design meets them.
 STAGES = ("hand", "bloch", "coupled")
 #: Bumped when a stage's outputs change meaning, so stale cached evaluations are not reused.
-MODEL_VERSION = "study-2"
+MODEL_VERSION = "study-3"
 
 
 def full_design(design: Mapping[str, Any], context: StudyContext) -> dict[str, Any]:
@@ -212,7 +212,7 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
 
 def bloch_stage(design: Mapping[str, Any], context: StudyContext, *,
                 hand: Mapping[str, float] | None = None) -> dict[str, float]:
-    """Reduced Bloch model: the complete gap nearest the peaks and the coverage margin of the gap held.
+    """Reduced Bloch model: the complete gap that best covers the peaks and the coverage margin of the gap held.
 
     The computed gap is held under the same scatter as the hand band (each edge scaled by the hand
     estimate's held-over-nominal ratio). Outputs: ``has_gap`` (1 or −1), ``gap_low``/``gap_high`` [Hz],
@@ -232,13 +232,13 @@ def bloch_stage(design: Mapping[str, Any], context: StudyContext, *,
     disp = dispersion(cell, materials=mats, n_elements=n["bloch_elements"], n_bands=n["bloch_bands"],
                       points=n["bloch_points"], zone_points=n["bloch_zone_points"], strut_modes=n["bloch_strut_modes"],
                       node_zones=context.node_zones, convergence_check=False)
-    centre = float(np.mean(context.requirement.peaks))
     gaps = [(float(g.low.to("Hz").m), float(g.high.to("Hz").m)) for g in disp["gaps"]]
     if not gaps:
         return {"has_gap": -1.0, "coverage_margin_bloch": -1.0}
-    lo, hi = min(gaps, key=lambda g: abs(0.5 * (g[0] + g[1]) - centre))
-    held_lo = lo * hand["held_low"] / hand["band_low"]
-    held_hi = hi * hand["held_high"] / hand["band_high"]
+    low_ratio, high_ratio = hand["held_low"] / hand["band_low"], hand["held_high"] / hand["band_high"]
+    # the gap that covers the peaks best once held (a sliver of a gap beside the peak must not stand for it)
+    lo, hi = max(gaps, key=lambda g: _coverage_margin(g[0] * low_ratio, g[1] * high_ratio, context))
+    held_lo, held_hi = lo * low_ratio, hi * high_ratio
     return {"has_gap": 1.0, "gap_low": lo, "gap_high": hi, "gap_held_low": held_lo, "gap_held_high": held_hi,
             "coverage_margin_bloch": _coverage_margin(held_lo, held_hi, context)}
 

@@ -66,7 +66,7 @@ class Continuous:
         """The value at ``u`` in [0, 1], rounded to the resolution a design is made and written to."""
         x = self.low + (self.high - self.low) * min(max(u, 0.0), 1.0)
         step = RESOLUTION.get(self.unit, 0.0)
-        return float(min(max(round(x / step) * step, self.low), self.high)) if step else float(x)
+        return float(min(max(round(round(x / step) * step, 9), self.low), self.high)) if step else float(x)
 
     def encode(self, value: Any) -> float:
         """The point in [0, 1] of ``value``."""

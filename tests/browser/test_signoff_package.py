@@ -58,7 +58,7 @@ def hostile_package(tmp_path_factory, executed_projects) -> Path:
     data = json.loads((folder / "out" / f"{stem}.json").read_text(encoding="utf-8"))
     first = data["results"][0]["id"]
     add_comment(folder, step=first, author=f"author {HOSTILE}", text=f"comment {HOSTILE}")
-    reply_comment(folder, "R1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
+    reply_comment(folder, "CQ-1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
     sign_project(folder, role="prepared", name=f"signer {HOSTILE}", comment=f"remark {HOSTILE}")
     report = export_project(folder, pdf=shutil.which("chromium") is not None)
     return report.html

@@ -71,8 +71,8 @@ def test_review_comments_block_checked_until_closed_and_show_beside_their_step(p
     with pytest.raises(InputError, match="no such step"):
         add_comment(project, step="no.such-step", author=CHECKER, text="?")
     c = add_comment(project, step=step, author=CHECKER, text="Where does the end fixity come from?")
-    assert c.id == "R1" and c.status == "open"
-    with pytest.raises(ProjectError, match="review comments are open: R1"):
+    assert c.id == "CQ-1" and c.status == "open"
+    with pytest.raises(ProjectError, match="checker queries are open: CQ-1"):
         sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
     export_project(project)
     html = package_of(project).read_text(encoding="utf-8")
@@ -80,10 +80,10 @@ def test_review_comments_block_checked_until_closed_and_show_beside_their_step(p
     assert "<th>Open comments</th><td>1</td>" in title
     after_step = html.split(f'id="step-{step}"', 1)[1]
     assert after_step.index("lc-comment-open") < after_step.index('class="lc-step"')  # beside its own step
-    reply_comment(project, "R1", author=PREPARER, text="Node detail N3, see drawing")
-    close_comment(project, "R1", author=CHECKER, text="Agreed")
+    reply_comment(project, "CQ-1", author=PREPARER, text="Node detail N3, see drawing")
+    close_comment(project, "CQ-1", author=CHECKER, text="Agreed")
     with pytest.raises(InputError, match="closed already"):
-        close_comment(project, "R1", author=CHECKER)
+        close_comment(project, "CQ-1", author=CHECKER)
     [c] = list_comments(project)
     assert c.status == "closed" and [r["author"] for r in c.replies] == [PREPARER, CHECKER]
     assert list_comments(project, include_closed=False) == []
@@ -149,7 +149,7 @@ def test_changing_an_input_after_signing_voids_the_signoff_and_names_the_input(p
     comp = compare_revisions(project, a="A", b="B")
     assert any(s.startswith(INPUT) for s in comp.changes.inputs)
     assert comp.changes.results and "revision (A -> B)" in comp.changes.project
-    assert main(["compare", str(project), "--from", "A", "--to", "B"]) == 0
+    assert main(["changes", str(project), "--from", "A", "--to", "B"]) == 0
     out = capsys.readouterr().out
     assert f"Inputs:\n  {INPUT} (3.2 mm -> 3.5 mm)" in out
     assert "Results (as shown):" in out
@@ -216,7 +216,7 @@ def test_hostile_user_strings_are_escaped_in_the_package(project):
     export_project(project)
     step = a_step(project)
     add_comment(project, step=step, author=f"author {HOSTILE}", text=f"comment {HOSTILE}")
-    reply_comment(project, "R1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
+    reply_comment(project, "CQ-1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
     sign_project(project, role="prepared", name=f"signer {HOSTILE}", comment=f"remark {HOSTILE}")
     export_project(project)
     html = package_of(project).read_text(encoding="utf-8")

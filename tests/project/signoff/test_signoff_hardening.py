@@ -289,7 +289,7 @@ def test_trusted_keys_file_binds_each_key_to_a_person_and_roles(project, tmp_pat
     folder, keys = three_keys(tmp_path)
     trust_key(project, public=keys["prepared"].public, person=PREPARER, roles=["prepared"])
     trust_key(project, public=keys["checked"].public, person=CHECKER, roles=["checked"])
-    assert main(["trust", str(project), "--key", str(keys["approved"].public), "--person", APPROVER,
+    assert main(["key", "trust", str(project), "--public", str(keys["approved"].public), "--person", APPROVER,
                  "--role", "approved"]) == 0
     assert (project / "signoff" / TRUST_FILE).is_file()
     stranger = generate_keypair(tmp_path / "other", name="stranger")
@@ -338,7 +338,7 @@ def test_an_emptied_review_file_with_an_open_comment_is_detected(project):
 def test_a_truncated_review_file_is_detected(project):
     step = _step(project)
     add_comment(project, step=step, author=CHECKER, text="First question")
-    close_comment(project, "R1", author=CHECKER)
+    close_comment(project, "CQ-1", author=CHECKER)
     add_comment(project, step=step, author=CHECKER, text="Second question, still open")
     path = project / "signoff" / "review.jsonl"
     lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
@@ -356,7 +356,7 @@ def test_a_truncated_review_file_is_detected(project):
 def test_an_edited_review_event_breaks_the_chain(project):
     step = _step(project)
     add_comment(project, step=step, author=CHECKER, text="Is the bracket stiffness measured?")
-    close_comment(project, "R1", author=CHECKER, text="Yes")
+    close_comment(project, "CQ-1", author=CHECKER, text="Yes")
     path = project / "signoff" / "review.jsonl"
     lines = path.read_text(encoding="utf-8").splitlines(keepends=True)
     lines[0] = lines[0].replace("Is the bracket stiffness measured?", "Fine.")
@@ -369,7 +369,7 @@ def test_a_review_file_shorter_than_a_signoff_saw_is_detected(project):
     """The sign-off record holds the review head it saw: removing the head file does not hide a truncation."""
     step = _step(project)
     add_comment(project, step=step, author=CHECKER, text="One")
-    close_comment(project, "R1", author=CHECKER)
+    close_comment(project, "CQ-1", author=CHECKER)
     sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
     (project / "signoff" / "review.jsonl").unlink()
     heads = project / "signoff" / "heads.json"

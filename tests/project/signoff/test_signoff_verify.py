@@ -135,14 +135,15 @@ def test_unsigned_signoff_is_noted_against_trusted_keys_and_fails_when_keys_are_
     assert verify_package(package_of(project)).ok
 
 
-def test_keygen_never_overwrites_and_keeps_the_private_key_private(tmp_path):
+def test_a_new_key_never_overwrites_and_keeps_the_private_key_private(tmp_path):
     files = generate_keypair(tmp_path / "keys")
     assert files.private.stat().st_mode & 0o777 == 0o600
     before = files.private.read_bytes()
     with pytest.raises(InputError, match="never replaced"):
         generate_keypair(tmp_path / "keys")
     assert files.private.read_bytes() == before
-    assert main(["keygen", "--out", str(tmp_path / "keys")]) == 2
+    assert files.private.name == "signing.signing.pem" and files.public.name == "signing.public.pem"
+    assert main(["key", "new", "--holder", "signing", "--folder", str(tmp_path / "keys")]) == 2
 
 
 def test_verify_of_a_page_without_data_says_so(tmp_path):

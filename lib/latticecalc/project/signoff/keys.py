@@ -1,11 +1,14 @@
 """Ed25519 key pairs for keyed sign-offs (the ``cryptography`` library).
 
-``generate_keypair`` writes ``<name>.key`` (PKCS#8 PEM, file mode 0600) and ``<name>.pub``
-(SubjectPublicKeyInfo PEM) and never replaces an existing file. A signature is made over the
-canonical JSON of the sign-off record's signed fields; the record carries the raw public key
-(base64) and its key id (the first 16 hex digits of the SHA-256 of the raw public key, whose
-64 digits are the key's fingerprint), so a package can be checked on its own, and against a
-project's list of trusted keys (:mod:`~latticecalc.project.signoff.trust`).
+``generate_keypair`` writes ``<holder>.signing.pem`` (PKCS#8 PEM, file mode 0600) and
+``<holder>.public.pem`` (SubjectPublicKeyInfo PEM), ``<holder>`` being the holder's name made safe for
+a file name, and never replaces an existing file. A signature is made over the canonical JSON of the
+sign-off record's signed fields; the record carries the raw public key (base64) and its *key mark*
+(``LK-`` and four groups of four characters: the first 80 bits of the SHA-256 of the raw public key in
+the Crockford base-32 alphabet, which has no I, L, O or U to misread; the 64 hex digits of that SHA-256
+are the key's fingerprint), so a package can be checked on its own, and against a project's list of
+trusted keys (:mod:`~latticecalc.project.signoff.trust`). Records signed before key marks carry a
+16-hex-digit key id instead; both are accepted.
 """
 
 from __future__ import annotations
@@ -25,8 +28,10 @@ from latticecalc.errors import InputError
 from latticecalc.project.signoff.fingerprint import canonical_json
 from latticecalc.project.signoff.journal import UNLINKED_FIELDS, chain_breaks, record_link
 
-PRIVATE_SUFFIX = ".key"
-PUBLIC_SUFFIX = ".pub"
+PRIVATE_SUFFIX = ".signing.pem"
+PUBLIC_SUFFIX = ".public.pem"
+#: Crockford's base-32 alphabet (digits and letters without I, L, O, U).
+_BASE32 = "0123456789ABCDEFGHJKMNPQRSTVWXYZ"
 ALGORITHM = "ed25519"
 #: The fields of a sign-off record a signature covers: the fingerprint binds it to the content,
 #: ``document`` to what the reader sees (checks summary, summary box, steps, inputs), ``status``
@@ -49,8 +54,24 @@ class KeyPairFiles:
 
 
 def key_id(public_raw: bytes) -> str:
-    """Short id of a public key: first 16 hex digits of SHA-256 of its 32 raw bytes."""
+    """The key mark of a public key: ``LK-7Q2M-4XKD-9PAH-3RTB`` (see the module doc)."""
+    bits = int.from_bytes(hashlib.sha256(public_raw).digest()[:10], "big")
+    chars = "".join(_BASE32[(bits >> (5 * k)) & 31] for k in range(15, -1, -1))
+    return "LK-" + "-".join(chars[i:i + 4] for i in range(0, 16, 4))
+
+
+def legacy_key_id(public_raw: bytes) -> str:
+    """The key id records signed before key marks carry: first 16 hex digits of the SHA-256."""
     return hashlib.sha256(public_raw).hexdigest()[:16]
+
+
+def holder_file_stem(holder: str) -> str:
+    """``S. Checker`` -> ``s-checker``: the holder's name as a file name (letters, digits, hyphens)."""
+    import unicodedata
+
+    text = unicodedata.normalize("NFKD", holder).encode("ascii", "ignore").decode("ascii").lower()
+    stem = "-".join(w for w in "".join(c if c.isalnum() else " " for c in text).split())
+    return stem[:60]
 
 
 def _raw(public: Ed25519PublicKey) -> bytes:
@@ -70,29 +91,35 @@ def _write_new(path: Path, data: bytes, mode: int) -> None:
             os.link(tmp, path)
         except FileExistsError:
             raise InputError("a key file of that name exists already and is never replaced",
-                             input_name="--out", got=str(path),
-                             hint="Choose another --name or folder") from None
+                             input_name="--folder", got=str(path),
+                             hint="Choose another --holder or --folder") from None
     finally:
         Path(tmp).unlink(missing_ok=True)
 
 
 def generate_keypair(out: str | Path, *, name: str = "signing") -> KeyPairFiles:
-    """Make an Ed25519 key pair in folder ``out`` as ``<name>.key`` (mode 0600) and ``<name>.pub``.
+    """Make an Ed25519 key pair in folder ``out`` for holder ``name``.
+
+    The files are ``<stem>.signing.pem`` (mode 0600) and ``<stem>.public.pem``, ``<stem>`` being
+    :func:`holder_file_stem` of ``name``.
 
     Raises
     ------
     InputError
-        If either file exists already (keys are never overwritten) or ``name`` is unsafe.
+        If either file exists already (keys are never overwritten) or ``name`` gives no file name.
     """
-    if not name or any(c in name for c in "/\\") or name.startswith("."):
-        raise InputError("key name must be a plain file name", input_name="--name", got=repr(name))
+    stem = holder_file_stem(name or "")
+    if not stem:
+        raise InputError("the key holder's name gives no file name", input_name="--holder", got=repr(name),
+                         expected="a name with letters or digits")
+    name = stem
     folder = Path(out)
     folder.mkdir(parents=True, exist_ok=True)
     priv_path, pub_path = folder / f"{name}{PRIVATE_SUFFIX}", folder / f"{name}{PUBLIC_SUFFIX}"
     for p in (priv_path, pub_path):
         if p.exists():
             raise InputError("a key file of that name exists already and is never replaced",
-                             input_name="--out", got=str(p), hint="Choose another --name or folder")
+                             input_name="--folder", got=str(p), hint="Choose another --holder or --folder")
     private = Ed25519PrivateKey.generate()
     priv_pem = private.private_bytes(serialization.Encoding.PEM, serialization.PrivateFormat.PKCS8,
                                      serialization.NoEncryption())
@@ -114,7 +141,7 @@ def load_private_key(path: str | Path) -> Ed25519PrivateKey:
         raise InputError("key file not found", input_name="--key", got=str(path)) from None
     except (ValueError, TypeError) as exc:
         raise InputError(f"not a readable private key ({exc})", input_name="--key", got=str(path),
-                         expected="an Ed25519 PEM private key made by 'latticecalc keygen'") from None
+                         expected="an Ed25519 PEM private key made by 'latticecalc key new'") from None
     if not isinstance(key, Ed25519PrivateKey):
         raise InputError("wrong key type", input_name="--key", got=type(key).__name__, expected="Ed25519")
     return key
@@ -149,7 +176,7 @@ def check_signature(signature: dict, message: bytes) -> str:
         if signature.get("algorithm") != ALGORITHM:
             return f"unknown signature algorithm {signature.get('algorithm')!r}"
         raw = base64.b64decode(signature["public_key"], validate=True)
-        if key_id(raw) != signature.get("key_id"):
+        if signature.get("key_id") not in (key_id(raw), legacy_key_id(raw)):
             return "key id does not match the public key carried with the signature"
         Ed25519PublicKey.from_public_bytes(raw).verify(base64.b64decode(signature["value"], validate=True), message)
     except InvalidSignature:
@@ -160,4 +187,5 @@ def check_signature(signature: dict, message: bytes) -> str:
 
 
 __all__ = ["SIGNED_FIELDS", "UNLINKED_FIELDS", "KeyPairFiles", "chain_problems", "check_signature",
-           "generate_keypair", "key_id", "load_private_key", "record_link", "sign_bytes", "signed_message"]
+           "generate_keypair", "holder_file_stem", "key_id", "legacy_key_id", "load_private_key", "record_link",
+           "sign_bytes", "signed_message"]

@@ -15,7 +15,7 @@ Rules ``sign_project`` enforces:
   outputs (not stale, not failed, not never run), and every verdict must follow from its
   demand and limit;
 * the sign-off and review files must be whole (chains unbroken, nothing cut from the end);
-* ``checked`` is refused while review comments are open, and when the checker is the preparer
+* ``checked`` is refused while checker queries are open, and when the checker is the preparer
   (names compared as :mod:`~latticecalc.project.signoff.identity` folds them);
 * one key signs one role of a revision;
 * with ``signoff/trusted-keys.toml``: a listed key, in the name of its person, for a role the
@@ -216,7 +216,7 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     comment:
         Free text (required when signing checked/approved with a NOT OK check).
     key:
-        Optional Ed25519 private key file (``latticecalc keygen``); the record is then signed.
+        Optional Ed25519 private key file (``latticecalc key new``); the record is then signed.
     qualification:
         The limit of an approval (``for prototype fabrication only``): required to approve over a
         failing check, signed with the record and shown beside the status on the cover.
@@ -258,8 +258,9 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     if role == "checked":
         open_ids = [c.id for c in load_comments(project) if c.status == "open"]
         if open_ids:
-            raise ProjectError("cannot be marked checked while review comments are open: " + ", ".join(open_ids),
-                               input_name=str(project.folder), hint="Reply to and close them first")
+            raise ProjectError("cannot be marked checked while checker queries are open: " + ", ".join(open_ids),
+                               input_name=str(project.folder),
+                               hint="Answer them; their authors settle them (latticecalc query answer / settle)")
     probe = {"seq": len(records) + 1, "role": role, "name": name, "calc_id": project.meta.calc_id,
              "revision": project.meta.revision, "signature": sign_bytes(private, b"") if private else None}
     if trust is not None and private is None:

@@ -1,6 +1,6 @@
 """Review comments against step ids: add, reply, close (``signoff/review.jsonl``, append-only).
 
-Each line is one event: ``add`` (id ``R<n>``, step, author, text, time), ``reply`` or ``close``
+Each line is one event: ``add`` (id ``CQ-<n>``, step, author, text, time), ``reply`` or ``close``
 (comment id, author, text, time). The state of a comment is the replay of its events; nothing is
 ever edited or removed. A comment is made against a step id that exists in the project's last
 exported package JSON (a result or check id, or an input name).
@@ -32,6 +32,8 @@ from latticecalc.project.signoff.journal import (
 )
 
 REVIEW_FILE = "review.jsonl"
+#: Comments are the checker's queries, numbered CQ-1, CQ-2, … (files made before keep their R1, R2, …).
+QUERY_PREFIX = "CQ-"
 MAX_TEXT = 4000
 
 
@@ -160,16 +162,16 @@ def add_comment(folder: str | Path, *, step: str, author: str, text: str) -> Rev
     project = open_project(folder)
     ids = known_step_ids(project)
     if step not in ids:
-        raise InputError("no such step in the last exported package", input_name="--step", got=repr(step),
+        raise InputError("no such step in the last exported package", input_name="--at", got=repr(step),
                          expected="a step, check or input id shown in the package, e.g. "
                          + ", ".join(sorted(ids)[:3]))
-    record = {"event": "add", "step": step, "author": _text(author, "--author"), "text": _text(text, "--text"),
+    record = {"event": "add", "step": step, "author": _text(author, "--by"), "text": _text(text, "--text"),
               "time": _now()}
 
     def number(existing: list[dict], rec: dict) -> dict:
         _refuse_if_broken(project, existing)
         n = sum(1 for e in existing if e.get("event") == "add") + 1
-        return _chain(existing, rec | {"id": f"R{n}"})
+        return _chain(existing, rec | {"id": f"{QUERY_PREFIX}{n}"})
 
     rec = append_line(review_path(project), record, prepare=number)
     return replay([rec])[0]
@@ -208,21 +210,21 @@ def close_refusal(project: Project, comment: ReviewComment, closer: str) -> str:
 
 def _follow_up(folder: str | Path, kind: str, comment_id: str, author: str, text: str) -> ReviewComment:
     project = open_project(folder)
-    record = {"event": kind, "id": comment_id, "author": _text(author, "--author"),
+    record = {"event": kind, "id": comment_id, "author": _text(author, "--by"),
               "text": _text(text, "--text") if (kind == "reply" or text) else "", "time": _now()}
 
     def check(existing: list[dict], rec: dict) -> dict:
         _refuse_if_broken(project, existing)
         state = {c.id: c for c in replay(existing)}
         if comment_id not in state:
-            raise InputError("no such review comment", input_name="comment", got=repr(comment_id),
+            raise InputError("no such checker query", input_name="query", got=repr(comment_id),
                              expected="one of " + (", ".join(state) or "(none yet)"))
         if kind == "close" and state[comment_id].status == "closed":
             raise InputError("is closed already", input_name=comment_id)
         if kind == "close":
             why = close_refusal(project, state[comment_id], record["author"])
             if why:
-                raise InputError(why, input_name="--author", got=repr(record["author"]),
+                raise InputError(why, input_name="--by", got=repr(record["author"]),
                                  hint="The preparer answers with a reply; the comment's author or a checker closes it")
         return _chain(existing, rec)
 

@@ -7,10 +7,10 @@
     person = "Sam Checks"
     roles = ["checked"]
 
-``latticecalc trust DIR --key sam.pub --person "Sam Checks" --role checked`` adds an entry. When
+``latticecalc key trust DIR --public sam-checks.public.pem --person "Sam Checks" --role checked`` adds an entry. When
 the file exists, ``sign`` needs a listed key, signed in the name of its person, for a role the
 entry allows; ``verify --keys`` given the file (or a folder holding it, or the project folder)
-checks every current sign-off of a package the same way. A folder of ``*.pub`` files without
+checks every current sign-off of a package the same way. A folder of ``*.public.pem`` files without
 the file still works for ``verify --keys``, but binds keys to no person or role.
 """
 
@@ -32,7 +32,9 @@ from latticecalc.project.signoff.journal import SIGNOFF_DIR
 
 TRUST_FILE = "trusted-keys.toml"
 ROLES = ("prepared", "checked", "approved")
-PUBLIC_SUFFIX = ".pub"
+PUBLIC_SUFFIX = ".public.pem"
+#: Public key files named before key marks (``NAME.pub``), still read from a folder of keys.
+LEGACY_PUBLIC_SUFFIX = ".pub"
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -82,7 +84,7 @@ def public_fingerprint(raw: bytes) -> str:
 
 
 def read_public_key(path: str | Path, *, input_name: str = "--key") -> bytes:
-    """Raw bytes of an Ed25519 public key file (PEM, from ``latticecalc keygen``)."""
+    """Raw bytes of an Ed25519 public key file (PEM, from ``latticecalc key new``)."""
     path = Path(path)
     try:
         pub = serialization.load_pem_public_key(path.read_bytes())
@@ -125,7 +127,7 @@ def read_trust_file(path: str | Path, *, where: str | None = None) -> TrustList:
 
 def _pub_folder(folder: Path) -> TrustList:
     keys = {}
-    for p in sorted(folder.glob(f"*{PUBLIC_SUFFIX}")):
+    for p in sorted([*folder.glob(f"*{PUBLIC_SUFFIX}"), *folder.glob(f"*{LEGACY_PUBLIC_SUFFIX}")]):
         try:
             fp = public_fingerprint(read_public_key(p, input_name="--keys"))
         except InputError as exc:
@@ -140,7 +142,7 @@ def load_trust(path: str | Path) -> TrustList:
     """The trust list ``verify --keys PATH`` means.
 
     ``PATH`` is a ``trusted-keys.toml``; or a folder holding one (directly or in ``signoff/``, as
-    a project folder does); or else a folder of ``*.pub`` public keys (keys without persons).
+    a project folder does); or else a folder of ``*.public.pem`` public keys (keys without persons).
     """
     path = Path(path)
     if path.is_file():

@@ -19,7 +19,7 @@ What is checked, from the HTML file alone:
    up to it give (``status``); that the roles are kept apart (the checker is not the preparer
    by name, one key and one person sign one role of a revision:
    :mod:`~latticecalc.project.signoff.identity`); and with ``keys`` (a ``trusted-keys.toml``,
-   a folder or project holding one, or a folder of ``*.pub`` keys) that every current sign-off
+   a folder or project holding one, or a folder of ``*.public.pem`` keys) that every current sign-off
    is signed by a listed key, in the name of its person, for a role it may sign;
 6. the status shown, and each sign-off's state in the sign-off table (current or VOID), follow
    from the valid sign-offs, and the title block names the current signer of each role.

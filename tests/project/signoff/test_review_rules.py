@@ -35,11 +35,11 @@ def test_only_the_author_or_a_checker_closes_a_comment(project):
     preparer = open_project(project).meta.prepared_by
     c = add_comment(project, step="strut.f1-cc", author=CHECKER, text="Justify the clamped ends")
     reply_comment(project, c.id, author=preparer, text="Pinned bound added")
-    with pytest.raises(InputError, match="the preparer cannot close"):
+    with pytest.raises(InputError, match="the preparer cannot settle"):
         close_comment(project, c.id, author=preparer)
-    with pytest.raises(InputError, match=r"only the comment's author \(Chris Checker\) or a checker"):
+    with pytest.raises(InputError, match=r"only the query's author \(Chris Checker\) or a checker"):
         close_comment(project, c.id, author="Somebody Else")
-    with pytest.raises(InputError, match="the preparer cannot close"):   # a look-alike of the preparer's name
+    with pytest.raises(InputError, match="the preparer cannot settle"):   # a look-alike of the preparer's name
         close_comment(project, c.id, author=preparer.upper() + ".")
     assert close_comment(project, c.id, author="chris  checker").status == "closed"
 

@@ -201,11 +201,11 @@ def close_refusal(project: Project, comment: ReviewComment, closer: str) -> str:
     if same_person(closer, comment.author):
         return ""
     if same_person(closer, project.meta.prepared_by):
-        return (f"the preparer cannot close comment {comment.id} by {comment.author}: only its author or a checker "
-                "closes a comment")
+        return (f"the preparer cannot settle query {comment.id} raised by {comment.author}: only its author or a "
+                "checker settles a query")
     if any(same_person(closer, name) for name in checkers_of(project)):
         return ""
-    return f"only the comment's author ({comment.author}) or a checker of this project may close comment {comment.id}"
+    return f"only the query's author ({comment.author}) or a checker of this project may settle query {comment.id}"
 
 
 def _follow_up(folder: str | Path, kind: str, comment_id: str, author: str, text: str) -> ReviewComment:
@@ -225,7 +225,8 @@ def _follow_up(folder: str | Path, kind: str, comment_id: str, author: str, text
             why = close_refusal(project, state[comment_id], record["author"])
             if why:
                 raise InputError(why, input_name="--by", got=repr(record["author"]),
-                                 hint="The preparer answers with a reply; the comment's author or a checker closes it")
+                                 hint="The preparer answers it (latticecalc query answer); its author or a checker "
+                                      "settles it")
         return _chain(existing, rec)
 
     append_line(review_path(project), record, prepare=check)

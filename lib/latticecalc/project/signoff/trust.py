@@ -196,7 +196,7 @@ def trust_key(folder: str | Path, *, public: str | Path, person: str, roles: lis
         doc = tomlkit.document()
         doc.add(tomlkit.comment("Keys allowed to sign this project: fingerprint (SHA-256 of the public key), "
                                 "person, roles."))
-        doc.add(tomlkit.comment("Add entries with 'latticecalc trust'. Commit this file with the project."))
+        doc.add(tomlkit.comment("Add entries with 'latticecalc key trust'. Commit this file with the project."))
     table = tomlkit.table()
     table["fingerprint"] = fp
     table["person"] = person.strip()

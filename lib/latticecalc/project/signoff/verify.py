@@ -348,7 +348,7 @@ def _check_signoffs(report: VerifyReport, data: dict, content: dict, stated: str
         report.notes.append("signatures checked against the keys they carry; give --keys to check who signed")
     elif trust is not None and not trust.bound:
         report.notes.append(f"the keys in {keys} name no person or role: list them in a trusted-keys.toml "
-                            "('latticecalc trust') to check who may sign what")
+                            "('latticecalc key trust') to check who may sign what")
 
 
 __all__ = ["SEAL_PLACEHOLDER", "VerifyReport", "block_texts", "document_hash", "seal_package", "verify_export_json",

@@ -58,3 +58,25 @@ def package_paths(folder):
     project = open_project(folder)
     html = project.out / f"{project.meta.package_stem}.html"
     return html, html.with_suffix(".json")
+
+
+def sealed_export(data: dict) -> dict:
+    """``data`` (a hand-made package JSON: ``results``, optional ``inputs``) sealed as 'latticecalc export' seals it.
+
+    Its results and inputs become the fingerprinted content, with no sign-offs (preliminary), so a project
+    importing it verifies it (:func:`latticecalc.project.lineage.check_export`) as it would a real export.
+    """
+    from latticecalc.project.lineage import seal_export
+    from latticecalc.project.signoff.fingerprint import fingerprint_of, round_sig
+
+    data = {"project": {"calc_id": "HAND-1", "revision": "A", "title": "hand-made export"}} | data
+    for row in data.get("inputs", []):
+        row.setdefault("text", str(row.get("value", "")))
+        row.setdefault("unit", "")
+    content = round_sig({
+        "results": [{"id": r["id"], "value": r["value"], "unit": r.get("unit", ""), "text": r.get("text", "")}
+                    for r in data["results"]],
+        "inputs_shown": {i["id"]: f"{i['text']} {i['unit']}".strip() for i in data.get("inputs", [])},
+    })
+    return seal_export(data, fingerprint=fingerprint_of(content), content=content, status="preliminary",
+                       signoffs=[], embed_format="latticecalc-signoff/1")

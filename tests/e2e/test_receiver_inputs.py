@@ -10,7 +10,7 @@ import json
 from pathlib import Path
 
 import pytest
-from tests.helpers import make_quick
+from tests.helpers import make_quick, sealed_export
 
 from latticecalc.cli import main as cli
 from latticecalc.project.inputs import set_values
@@ -30,10 +30,10 @@ def _project(tmp_path: Path, values: dict) -> Path:
 
 def _survey(tmp_path: Path, *, targets, direction) -> str:
     p = tmp_path / "survey.json"
-    p.write_text(json.dumps({"results": [{"id": "peaks.target-frequencies", "value": targets, "unit": "Hz"},
-                                         {"id": "peaks.target-losses", "value": [10.0] * len(targets),
-                                          "unit": "dB"}],
-                             "inputs": [{"id": "record.direction", "value": direction}]}), encoding="utf-8")
+    p.write_text(json.dumps(sealed_export({
+        "results": [{"id": "peaks.target-frequencies", "value": targets, "unit": "Hz"},
+                    {"id": "peaks.target-losses", "value": [10.0] * len(targets), "unit": "dB"}],
+        "inputs": [{"id": "record.direction", "value": direction}]})), encoding="utf-8")
     return "../survey.json"
 
 

@@ -4,7 +4,7 @@ import json
 import shutil
 
 import pytest
-from tests.helpers import assert_quantity_close
+from tests.helpers import assert_quantity_close, sealed_export
 
 from latticecalc import Q_
 from latticecalc.errors import InputError, LatticeCalcError
@@ -21,17 +21,6 @@ def project(tmp_path):
     dest = tmp_path / "panel"
     shutil.copytree(templates_root() / "column-panel", dest)
     return dest
-
-
-def sealed(data: dict) -> dict:
-    """``data`` as 'latticecalc export' seals it: fingerprinted results, no sign-offs, preliminary."""
-    from latticecalc.project.lineage import seal_export
-    from latticecalc.project.signoff.fingerprint import fingerprint_of, round_sig
-
-    content = round_sig({"results": [{"id": r["id"], "value": r["value"], "unit": r["unit"], "text": r.get("text", "")}
-                                     for r in data["results"]]})
-    return seal_export(data, fingerprint=fingerprint_of(content), content=content, status="preliminary",
-                       signoffs=[], embed_format="latticecalc-signoff/1")
 
 
 def _set(folder, changes):
@@ -60,7 +49,7 @@ def test_custom_cell_without_its_table_names_the_input(project):
 def test_calibrated_modulus_replaces_the_lattice_dynamic_modulus(project):
     # an export as written by 'latticecalc export' for a prototype-test project (only the rows read)
     export = project / "coupon.json"
-    export.write_text(json.dumps(sealed({
+    export.write_text(json.dumps(sealed_export({
         "generated": "2026-11-30T10:00:00+00:00",
         "project": {"calc_id": "PT-9", "revision": "A", "title": "coupon test", "prepared_by": "T. Tester"},
         "results": [{"id": "calibration.modulus", "value": 31.5, "unit": "MPa", "step": "calibration.modulus"},

@@ -221,6 +221,15 @@ def check_export(path: str | Path, *, input_name: str, file: str | None = None) 
             raise _error(f"the result {rid} is not the fingerprinted one ({shown}): the export was edited",
                          input_name=input_name, file=where, got=str(row.get("text") or row.get("value"))[:80],
                          hint=again)
+    shown = content.get("inputs_shown") if isinstance(content.get("inputs_shown"), dict) else {}
+    for row in data.get("inputs", []) if isinstance(data.get("inputs"), list) else []:
+        if not isinstance(row, dict):
+            continue
+        text = f"{row.get('text', '')} {row.get('unit', '')}".strip()
+        if shown.get(row.get("id")) != text:
+            was = shown.get(row.get("id"), "(not in it)")
+            raise _error(f"the input {row.get('id')} is not the fingerprinted one ({was}): the export was edited",
+                         input_name=input_name, file=where, got=text[:80], hint=again)
     records = [r for r in block.get("signoffs", []) if isinstance(r, dict)]
     meta_fp = content.get("project") if isinstance(content.get("project"), dict) else {}
     status, signed, problems = _status_from(records, stated, str(meta_fp.get("prepared_by", "")))

@@ -178,3 +178,14 @@ def test_a_changed_upstream_export_makes_the_importing_project_stale(ran_prototy
     changed = [k for k in after if after[k] != before[k]]
     assert changed == [f"../coupon/out/{_json_of(coupon_dir).name} (lattice.calibration)"]
     assert stale_files(open_project(panel)) == ["(never run)"]   # and a never-run project says so
+
+
+def test_an_edited_input_in_the_export_is_refused_even_resealed(survey, tmp_path):
+    data = json.loads(_json_of(survey).read_text(encoding="utf-8"))
+    row = next(r for r in data["inputs"] if r["id"] == "criterion.id")   # what the survey was judged against
+    row["text"] = "VC-A" if row["text"] != "VC-A" else "VC-E"
+    data["seal"]["sha256"] = seal_digest(data)
+    edited = tmp_path / "edited.json"
+    edited.write_text(json.dumps(data), encoding="utf-8")
+    with pytest.raises(RecordError, match="the input criterion.id is not the fingerprinted one"):
+        check_export(edited, input_name="coverage.survey_results")

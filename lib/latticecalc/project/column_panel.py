@@ -26,9 +26,9 @@ from latticecalc.signals.frf import calibration_from_export
 from latticecalc.units import Q_
 
 #: Peak memory of the frame model's largest solve per degree of freedom of :func:`fe_memory_estimate`'s
-#: mesh bound (bytes): measured 1.95 to 2.46 kB for framed octet panels of 4 x 12 and 16 x 48 cells, self-weight
-#: (2 elements per strut) and transmissibility (8), on this kit's solvers; rounded up.
-FE_BYTES_PER_DOF = 2.5e3
+#: mesh bound (bytes): measured 1.95 to 2.51 kB for framed octet panels of 4 x 12, 6 x 18 and 16 x 48 cells,
+#: self-weight (2 elements per strut) and transmissibility (8), on this kit's solvers; rounded up.
+FE_BYTES_PER_DOF = 3.0e3
 #: Memory of the kernel with the kit loaded, before any frame model (bytes), measured 0.16 GB; rounded up.
 FE_BASE_BYTES = 0.25e9
 
@@ -56,6 +56,7 @@ def fe_memory_estimate(design: PanelDesign, *, n_elements: int, limit_gb: float)
     joints and frame members are counted in each cell, so the bound is above the mesh, by 1.4 x for a
     framed octet), each strut ``n_elements - 1`` inner nodes, six degrees of freedom a node. The memory
     is :data:`FE_BASE_BYTES` plus :data:`FE_BYTES_PER_DOF` a degree of freedom (measured, see there).
+    The base depends on what else the kernel has loaded; the per-degree-of-freedom part is what grows.
     """
     cells = design.cells_wide * design.cells_high
     joints, struts = len(design.cell.nodes), len(design.cell.struts)

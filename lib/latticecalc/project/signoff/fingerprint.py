@@ -48,6 +48,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
@@ -201,11 +202,8 @@ def diff_content(old: dict, new: dict) -> ContentChanges:
                 inputs.append(f"{k} (removed)")
             else:
                 inputs.append(f"{k} ({shown(oi, os_, k)} -> {shown(ni, ns, k)})")
-    orr = {r["id"]: r for r in old.get("results", [])}
-    nr = {r["id"]: r for r in new.get("results", [])}
     results = []
-    for k in list(orr) + [k for k in nr if k not in orr]:
-        a, b = orr.get(k), nr.get(k)
+    for k, a, b in paired(old.get("results", []), new.get("results", []), key=lambda r: r["id"]):
         if a == b:
             continue
         if a is None:
@@ -227,15 +225,21 @@ def diff_content(old: dict, new: dict) -> ContentChanges:
                           files=_file_changes(old.get("files", []), new.get("files", [])), kit_version=kit)
 
 
+def paired(old: Any, new: Any, *, key: Callable[[dict], Any]):
+    """``(key, old row, new row)`` for every key of two lists of dict rows: old order, then rows only new.
+
+    A row missing on one side is None there; entries that are not dicts are skipped.
+    """
+    a = {key(r): r for r in old if isinstance(r, dict)} if isinstance(old, list) else {}
+    b = {key(r): r for r in new if isinstance(r, dict)} if isinstance(new, list) else {}
+    for k in list(a) + [k for k in b if k not in a]:
+        yield k, a.get(k), b.get(k)
+
+
 def _file_changes(old: list, new: list) -> list[str]:
     """``records/site.csv (record.file): contents changed (SHA-256 1a2b… -> 3c4d…)`` for each file that differs."""
-    def by_key(rows: list) -> dict:
-        return {(r.get("input"), r.get("path")): r for r in rows if isinstance(r, dict)}
-
-    a, b = by_key(old), by_key(new)
     out = []
-    for key in list(a) + [k for k in b if k not in a]:
-        ra, rb = a.get(key), b.get(key)
+    for key, ra, rb in paired(old, new, key=lambda r: (r.get("input"), r.get("path"))):
         if ra == rb:
             continue
         name = f"{key[1]} ({key[0]})"
@@ -253,4 +257,4 @@ def _file_changes(old: list, new: list) -> list[str]:
 
 
 __all__ = ["RESULT_SIG_FIGS", "ContentChanges", "canonical_json", "diff_content", "display_digest",
-           "fingerprint_content", "fingerprint_of", "round_sig"]
+           "fingerprint_content", "fingerprint_of", "paired", "round_sig"]

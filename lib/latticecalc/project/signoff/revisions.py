@@ -16,7 +16,7 @@ from pathlib import Path
 from latticecalc.errors import InputError, ProjectError
 from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.project import Project, open_project
-from latticecalc.project.signoff.fingerprint import ContentChanges, diff_content
+from latticecalc.project.signoff.fingerprint import ContentChanges, diff_content, paired
 
 REVISIONS_DIR = "revisions"
 
@@ -69,11 +69,8 @@ def record_export(project: Project, record: dict) -> bool:
 
 def check_changes(old: dict, new: dict) -> tuple[list[str], list[str]]:
     """(verdicts that changed, utilisations that moved in their shown digits) between two contents."""
-    a = {c.get("id"): c for c in old.get("checks", []) if isinstance(c, dict)}
-    b = {c.get("id"): c for c in new.get("checks", []) if isinstance(c, dict)}
     verdicts, moved = [], []
-    for cid in list(a) + [k for k in b if k not in a]:
-        ca, cb = a.get(cid), b.get(cid)
+    for cid, ca, cb in paired(old.get("checks", []), new.get("checks", []), key=lambda c: c.get("id")):
         if ca is None:
             verdicts.append(f"{cid}: new check, {cb.get('verdict')} (utilisation {cb.get('utilisation_text')})")
         elif cb is None:
@@ -89,11 +86,8 @@ def check_changes(old: dict, new: dict) -> tuple[list[str], list[str]]:
 
 def shown_result_changes(old: dict, new: dict) -> list[str]:
     """Key results whose shown text changed (a change below the shown digits is not listed)."""
-    a = {r.get("id"): r for r in old.get("results", []) if isinstance(r, dict)}
-    b = {r.get("id"): r for r in new.get("results", []) if isinstance(r, dict)}
     out = []
-    for rid in list(a) + [k for k in b if k not in a]:
-        ra, rb = a.get(rid), b.get(rid)
+    for rid, ra, rb in paired(old.get("results", []), new.get("results", []), key=lambda r: r.get("id")):
         if ra is None:
             out.append(f"{rid}: new, {rb.get('text', '')}")
         elif rb is None:

@@ -276,14 +276,22 @@ def state_of(project: Project) -> dict[str, str]:
     return {f.state_key: f.sha256 for f in data_files(project, verify_exports=False)}
 
 
-def upstream_problems(files: list[DataFile], role: str) -> list[str]:
-    """Why ``role`` cannot be signed over these imports (empty when it can)."""
+def upstream_problems(files: list[dict], role: str) -> list[str]:
+    """Why ``role`` cannot be signed over these imports (empty when it can).
+
+    ``files`` are :meth:`DataFile.to_dict` rows, as the fingerprint content keeps them.
+    """
     needed = NEEDED_FOR_ROLE.get(role)
     if needed is None:
         return []
-    return [f"{f.text} ({f.input_name}) is calc package {f.package.label}, which is {f.package.status}: "
-            f"this calculation cannot be marked {role} before it is {needed}"
-            for f in files if f.package is not None and STATUS_RANK.get(f.package.status, 0) < STATUS_RANK[needed]]
+    out = []
+    for f in files:
+        pkg = f.get("package") if isinstance(f, dict) else None
+        if isinstance(pkg, dict) and STATUS_RANK.get(pkg.get("status"), 0) < STATUS_RANK[needed]:
+            out.append(f"{f.get('path')} ({f.get('input')}) is calc package {pkg.get('calc_id')} rev "
+                       f"{pkg.get('revision')}, which is {pkg.get('status')}: this calculation cannot be marked "
+                       f"{role} before it is {needed}")
+    return out
 
 
 def imports_shown(project: Project) -> list:

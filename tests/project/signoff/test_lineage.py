@@ -132,8 +132,8 @@ def test_signed_upstream_gives_its_status_and_preliminary_upstream_blocks_checki
 
     row = DataFile(input_name="coverage.survey_results", text="s.json", path=Path("s.json"), sha256="0" * 64,
                    size=1, package=found)
-    assert upstream_problems([row], "checked") == []
-    assert "cannot be marked approved before it is approved" in upstream_problems([row], "approved")[0]
+    assert upstream_problems([row.to_dict()], "checked") == []
+    assert "cannot be marked approved before it is approved" in upstream_problems([row.to_dict()], "approved")[0]
 
 
 @pytest.fixture(scope="module")

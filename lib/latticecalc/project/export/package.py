@@ -141,21 +141,24 @@ def _seal(html: str) -> str:
     return seal_package(html)
 
 
-def _revision_file(project: Project, data: dict, doc: SheetDocument) -> dict[Path, str]:
-    """The revision record of this export, to be written in the same batch as the package ({} if frozen)."""
-    try:
-        from latticecalc.project.signoff.extras import revision_file
-    except ImportError:
+def _revision_file(project: Project, data: dict, embedded: dict) -> dict[Path, str]:
+    """The revision record of this export, to be written in the same batch as the package ({} if frozen).
+
+    ``embedded`` is the sign-off data the package embeds: its fingerprint, content and status.
+    """
+    if not embedded:
         return {}
-    found = revision_file(project, data, doc)
+    from latticecalc.project.signoff.extras import revision_file
+
+    found = revision_file(project, data, fingerprint=embedded["fingerprint"],
+                          content=embedded["fingerprint_content"], status=embedded["status"])
     return {} if found is None else {found[0]: found[1]}
 
 
-def _sealed_json(data: dict, extras: PackageExtras) -> dict:
+def _sealed_json(data: dict, embedded: dict) -> dict:
     """The package JSON with its fingerprint, fingerprinted content, status, sign-offs and seal."""
     from latticecalc.project.lineage import seal_export
 
-    embedded = json.loads(extras.embedded_json) if extras.embedded_json else {}
     if not embedded:
         return data
     return seal_export(data, fingerprint=embedded["fingerprint"], content=embedded["fingerprint_content"],
@@ -253,10 +256,11 @@ def _write_package(project: Project, *, with_code: bool) -> tuple[Path, Path]:
     stem = project.meta.package_stem
     html_path = project.out / f"{stem}.html"
     json_path = project.out / f"{stem}.json"
-    text = json.dumps(_sealed_json(data, extras), indent=2, ensure_ascii=False)
+    embedded = json.loads(extras.embedded_json) if extras.embedded_json else {}
+    text = json.dumps(_sealed_json(data, embedded), indent=2, ensure_ascii=False)
     # Render everything first, then stage all files and rename them: a failure while staging leaves the
     # old package and its revision record as they were.
-    write_many_atomic({html_path: html, json_path: text, **_revision_file(project, data, doc)})
+    write_many_atomic({html_path: html, json_path: text, **_revision_file(project, data, embedded)})
     return html_path, json_path
 
 

@@ -7,7 +7,7 @@ calculation machinery it does not need.
 from importlib import import_module
 
 _WHERE = {
-    "package_extras": "extras", "after_export": "extras",
+    "package_extras": "extras",
     "fingerprint_content": "fingerprint", "fingerprint_of": "fingerprint",
     "generate_keypair": "keys",
     "sign_project": "records",

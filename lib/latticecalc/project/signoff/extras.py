@@ -5,7 +5,6 @@ from __future__ import annotations
 from html import escape
 from pathlib import Path
 
-from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.export.html import PackageExtras, SignRow
 from latticecalc.project.project import Project
 from latticecalc.project.signoff.fingerprint import fingerprint_content, fingerprint_of
@@ -162,17 +161,13 @@ def package_extras(project: Project, data: dict, doc) -> PackageExtras:
                          embedded_json=embed_json(embedded))
 
 
-def revision_file(project: Project, data: dict, doc) -> tuple[Path, str] | None:
-    """Where the revision record of this export goes and its text (None when the revision is frozen: approved)."""
-    fp, content, _states, status = signoff_view(project, data, doc)
+def revision_file(project: Project, data: dict, *, fingerprint: str, content: dict,
+                  status: str) -> tuple[Path, str] | None:
+    """Where the revision record of this export goes and its text (None when the revision is frozen: approved).
+
+    ``fingerprint``, ``content`` and ``status`` are the ones the package was rendered with.
+    """
     stored = load_revisions(project)
     previous = next((r for r in stored if r.get("revision") == project.meta.revision), None)
-    return revision_text(project, revision_record(data=data, fingerprint=fp, content=content, status=status,
-                                                  previous=previous))
-
-
-def after_export(project: Project, data: dict, doc) -> None:
-    """Write this export's revision record on its own (the export writes it in its batch instead)."""
-    found = revision_file(project, data, doc)
-    if found is not None:
-        write_text_atomic(found[0], found[1])
+    return revision_text(project, revision_record(data=data, fingerprint=fingerprint, content=content,
+                                                  status=status, previous=previous))

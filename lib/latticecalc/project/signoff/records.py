@@ -187,20 +187,6 @@ def preliminary_results(content: dict) -> list[str]:
     return out
 
 
-def _file_of(row: dict):
-    """A :class:`~latticecalc.project.lineage.DataFile` from its fingerprint-content row."""
-    from latticecalc.project.lineage import DataFile, UpstreamPackage
-
-    pkg = row.get("package")
-    package = None
-    if isinstance(pkg, dict):
-        package = UpstreamPackage(**{k: pkg.get(k, "") for k in ("calc_id", "revision", "title", "template",
-                                                                  "fingerprint", "status")})
-    text = str(row.get("path", ""))
-    return DataFile(input_name=str(row.get("input", "")), text=text, path=Path(text),
-                    sha256=str(row.get("sha256", "")), size=row.get("bytes"), package=package)
-
-
 def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
                  key: str | Path | None = None, qualification: str = "") -> dict:
     """Add a sign-off record for the project's current run; returns the record.
@@ -285,7 +271,7 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
                                     "'Values to confirm before approval'), update the source, rerun and export")
     from latticecalc.project.lineage import upstream_problems
 
-    imported = upstream_problems([_file_of(f) for f in content.get("files", [])], role)
+    imported = upstream_problems(content.get("files", []), role)
     if imported:
         raise ProjectError(imported[0], input_name=str(project.folder),
                            hint="Have the upstream package signed, export it again, then rerun and export this one")

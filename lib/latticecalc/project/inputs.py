@@ -327,11 +327,14 @@ def _validate(text: str, doc: tomlkit.TOMLDocument, template: TemplateSpec, *, f
 
 
 # --- writing -------------------------------------------------------------------------------------
-def set_values(path: Path, template: TemplateSpec, changes: Mapping[str, Any]) -> Inputs:
+def set_values(path: Path, template: TemplateSpec, changes: Mapping[str, Any], *,
+               source: str | None = None) -> Inputs:
     """Change some inputs in ``inputs.toml``, keeping comments and order; validated before writing.
 
     ``changes`` maps dotted names to new raw values (text such as ``"42 mm"``, numbers, booleans).
-    The file is replaced atomically only if the whole result validates.
+    With ``source``, each changed input becomes ``{ value = …, source = "<source>" }`` (its earlier
+    source replaced); without it, an input written with a source keeps it. The file is replaced
+    atomically only if the whole result validates.
     """
     path = Path(path)
     _, doc = _read(path)
@@ -345,7 +348,11 @@ def set_values(path: Path, template: TemplateSpec, changes: Mapping[str, Any]) -
                 node[p] = tomlkit.table()
             node = node[p]
         old = node.get(parts[-1])
-        if isinstance(old, Mapping) and _is_value_table(old):
+        if source is not None:
+            item = tomlkit.inline_table()
+            item.update({"value": new, "source": source})
+            node[parts[-1]] = item
+        elif isinstance(old, Mapping) and _is_value_table(old):
             old["value"] = new
         else:
             node[parts[-1]] = new

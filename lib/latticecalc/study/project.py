@@ -107,31 +107,11 @@ def apply_design(project: str | Path, changes: Mapping[str, Any], *, source: str
     Each value becomes ``{ value = …, source = "<source>" }`` in place. The whole file is validated
     against the template before it is written (atomically); on any error nothing is written.
     """
-    import tomlkit
-
-    from latticecalc.project import inputs as inputs_mod
-    from latticecalc.project.atomic import write_text_atomic
+    from latticecalc.project.inputs import set_values
     from latticecalc.project.project import open_project
 
     proj = open_project(project)
     if proj.template.name != "column-panel":
         raise InputError("a design is written into a column-panel project", input_name="project",
                          expected="a folder made from the column-panel template", got=repr(proj.template.name))
-    path = proj.folder / "inputs.toml"
-    doc = inputs_mod.read_document(path)
-    for name, new in changes.items():
-        spec = proj.template.spec(name)
-        inputs_mod.validate_value(spec, new, file=path.name, line=None)
-        parts = name.split(".")
-        node = doc
-        for p in parts[:-1]:
-            if p not in node:
-                node[p] = tomlkit.table()
-            node = node[p]
-        item = tomlkit.inline_table()
-        item.update({"value": new, "source": source})
-        node[parts[-1]] = item
-    text = tomlkit.dumps(doc)
-    checked = inputs_mod._validate(text, inputs_mod._parse(text, file=path.name), proj.template, file=path.name)
-    write_text_atomic(path, text, input_name="inputs.toml")
-    return checked
+    return set_values(proj.folder / "inputs.toml", proj.template, changes, source=source)

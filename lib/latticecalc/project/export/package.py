@@ -106,9 +106,16 @@ def summary_record(project: Project, doc: SheetDocument) -> dict | None:
     return {"kind": "summary", "title": "Summary", "rows": rows} if rows else None
 
 
-def build_package_data(project: Project, doc: SheetDocument, generated: str) -> dict:
-    """The JSON content of the package (what the checker's tools and sign-off read)."""
+def build_package_data(project: Project, doc: SheetDocument, generated: str, *,
+                       inputs: list[dict] | None = None) -> dict:
+    """The JSON content of the package (what the checker's tools and sign-off read).
+
+    ``inputs`` are the project's :func:`inputs_rows` when the caller has them already (each reads and
+    hashes the files the inputs name).
+    """
     meta = project.meta.to_dict() | {"template": project.template.name, "kit_version": __version__}
+    if inputs is None:
+        inputs = inputs_rows(project)
     return {
         "format": PACKAGE_FORMAT,
         "format_version": PACKAGE_FORMAT_VERSION,
@@ -116,7 +123,7 @@ def build_package_data(project: Project, doc: SheetDocument, generated: str) -> 
         "project": meta,
         "inputs": [{"id": r["id"], "value": r["value"], "unit": r["value_unit"], "step": r["step"],
                     "description": r["description"], "source": r["source"], "text": r["text"],
-                    "si_value": r["si_value"], "si_unit": r["si_unit"]} for r in inputs_rows(project)],
+                    "si_value": r["si_value"], "si_unit": r["si_unit"]} for r in inputs],
         "results": results_rows(doc),
         "sections": [{"number": s.number, "title": s.title, "notebook": s.notebook} for s in doc.sections],
         "references": [r["cite"] for r in references(doc)],
@@ -247,9 +254,10 @@ def _write_package(project: Project, *, with_code: bool) -> tuple[Path, Path]:
     executed = [project.out / EXECUTED_DIR / nb.name for nb in project.notebooks]
     doc = collect(executed)
     generated = datetime.now(UTC).isoformat(timespec="seconds")
-    data = build_package_data(project, doc, generated)
+    inputs = inputs_rows(project)
+    data = build_package_data(project, doc, generated, inputs=inputs)
     extras = _extras(project, data, doc)
-    html = render_package(meta=data["project"], doc=doc, inputs=inputs_rows(project),
+    html = render_package(meta=data["project"], doc=doc, inputs=inputs,
                           references=references(doc), extras=extras, generated=generated,
                           with_code=with_code, summary=summary_record(project, doc))
     html = _seal(html)

@@ -149,41 +149,36 @@ def test_non_finite_or_overflowing_numbers_are_refused(value):
 
 # --- through inputs.toml --------------------------------------------------------------------------
 _TEMPLATE = """\
-[template]
+[about]
 name = "bounds"
 title = "Bounds"
-description = "inputs for parse-bound tests"
+purpose = "inputs for parse-bound tests"
 notebooks = ["a.ipynb"]
 
-[[input]]
-name = "cell.width"
-description = "Cell width"
-kind = "quantity"
+[given."cell.width"]
+meaning = "Cell width"
+form = "quantity"
 dimension = "length"
 
-[[input]]
-name = "signal.rate"
-description = "Sample rate"
-kind = "quantity"
+[given."signal.rate"]
+meaning = "Sample rate"
+form = "quantity"
 dimension = "frequency"
 
-[[input]]
-name = "signal.highpass"
-description = "High-pass, 0 Hz for none"
-kind = "quantity"
+[given."signal.highpass"]
+meaning = "High-pass, 0 Hz for none"
+form = "quantity"
 dimension = "frequency"
-min = "0 Hz"
+at_least = "0 Hz"
 
-[[input]]
-name = "signal.peaks"
-description = "Measured peaks"
-kind = "quantity-list"
+[given."signal.peaks"]
+meaning = "Measured peaks"
+form = "quantities"
 dimension = "frequency"
 
-[[input]]
-name = "signal.factor"
-description = "Threshold factor"
-kind = "number"
+[given."signal.factor"]
+meaning = "Threshold factor"
+form = "number"
 """
 
 _INPUTS = """\

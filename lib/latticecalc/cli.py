@@ -23,7 +23,7 @@ def _new(args: argparse.Namespace) -> int:
     from latticecalc.project.templates import new_project
 
     folder = new_project(args.dir, template=args.template)
-    print(f"Created {folder} from template '{args.template}'. Edit inputs.toml and project.toml, "
+    print(f"Created {folder} from template '{args.template}'. Edit inputs.toml and cover.toml, "
           f"then: latticecalc run {folder}")
     return 0
 
@@ -47,6 +47,17 @@ def _export(args: argparse.Namespace) -> int:
     print(report.json)
     if report.pdf:
         print(report.pdf)
+    return 0
+
+
+def _refile(args: argparse.Namespace) -> int:
+    from latticecalc.project.refile import refile
+
+    report = refile(args.dir)
+    for line in report.done:
+        print(f"{report.folder}: {line}")
+    if not report.done:
+        print(f"{report.folder}: nothing to refile; its files have the current names and layout")
     return 0
 
 
@@ -92,8 +103,13 @@ def _build_parser(extra: Sequence[Builder] = ()) -> argparse.ArgumentParser:
     p.add_argument("--with-code", action="store_true", help="add the notebook code as an appendix")
     p.add_argument("--pdf", action="store_true", help="also print a PDF with headless Chromium")
     p.add_argument("--paper", choices=["a4", "letter"], default=None,
-                   help="paper of the PDF (default: calc.paper in the project file, A4 when unset)")
+                   help="paper of the PDF (default: calc.paper in cover.toml, A4 when unset)")
     p.set_defaults(func=_export)
+
+    p = sub.add_parser("refile", help="rename and convert a project's files from an older kit's names and layout "
+                                      "(project.toml -> cover.toml; template.toml's [template]/[[input]] tables)")
+    p.add_argument("dir", metavar="PROJECT", help="project folder")
+    p.set_defaults(func=_refile)
 
     p = sub.add_parser("demo", help="build, run and export the worked demo project")
     p.add_argument("dir", nargs="?", default=None, help="folder to build it in (default: a new dated folder)")

@@ -1,6 +1,6 @@
 """Reading the files a project names, safely: one place that opens them and names what is wrong.
 
-Every file the kit reads from a project (``inputs.toml``, ``project.toml``, a JSON export of another
+Every file the kit reads from a project (``inputs.toml``, ``cover.toml``, a JSON export of another
 project, a measured record) goes through this module.  A file is refused with a named
 :class:`~latticecalc.errors.FileError` that names the input that gave the path, the file and, where
 known, the line:

@@ -78,7 +78,7 @@ def _set_title(folder: Path, title: str) -> None:
     def edit(doc):
         doc["calc"]["title"] = title
 
-    _edit_toml(folder / "project.toml", edit)
+    _edit_toml(folder / "cover.toml", edit)
 
 
 @pytest.fixture(scope="module")
@@ -92,7 +92,7 @@ def hostile_pages(tmp_path_factory) -> dict[str, Path]:
     _set_title(folder, CSS_BREAKOUT)
     with pytest.raises(ControlCharacterError, match="calc.title") as info:
         export_project(folder, run=True, progress=None)
-    assert "project.toml" in str(info.value)
+    assert "cover.toml" in str(info.value)
 
     _set_title(folder, TITLE)
     report = export_project(folder, run=True, progress=None)

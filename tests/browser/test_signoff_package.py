@@ -50,7 +50,7 @@ def hostile_package(tmp_path_factory, executed_projects) -> Path:
     def inputs(doc):
         doc["lattice"]["strut_diameter"] = {"value": "3 mm", "source": f"source {HOSTILE}"}
 
-    _edit_toml(folder / "project.toml", meta)
+    _edit_toml(folder / "cover.toml", meta)
     _edit_toml(folder / "inputs.toml", inputs)
     run_project(folder, progress=None)
     export_project(folder)

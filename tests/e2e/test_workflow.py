@@ -74,7 +74,7 @@ def test_external_pattern_catches_what_it_should():
 
 def test_hostile_project_title_is_inert(quick_panel_copy):
     folder = quick_panel_copy                      # the rerun below finds the receiver's results cached
-    meta = folder / "project.toml"
+    meta = folder / "cover.toml"
     hostile = "<script>alert(1)</script>"
     meta.write_text(meta.read_text().replace('title = "Lattice absorber panel, column ..."',
                                              f'title = "{hostile}"').replace('name = "Project name"',

@@ -83,7 +83,7 @@ def _encoded(kind: str, encoding: str) -> bytes:
 
 
 # --- encodings, binary, BOM ----------------------------------------------------------------------
-@pytest.mark.parametrize("kind", ["inputs.toml", "project.toml"])
+@pytest.mark.parametrize("kind", ["inputs.toml", "cover.toml"])
 @pytest.mark.parametrize("encoding, words", [("utf-16", "UTF-16"), ("utf-16-le", "UTF-16"),
                                              ("latin-1", "not UTF-8")])
 def test_other_encodings_are_refused_by_name(project, kind, encoding, words):
@@ -100,7 +100,7 @@ def test_other_encodings_are_refused_by_name(project, kind, encoding, words):
         assert "0xE9" in msg and "Latin-1" in msg
 
 
-@pytest.mark.parametrize("kind", ["inputs.toml", "project.toml"])
+@pytest.mark.parametrize("kind", ["inputs.toml", "cover.toml"])
 def test_binary_content_is_refused_by_name(project, kind):
     png = b"\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR" + bytes(range(256)) * 4
     (project / kind).write_bytes(png)
@@ -111,7 +111,7 @@ def test_binary_content_is_refused_by_name(project, kind):
     assert "IHDR" not in str(err.value)
 
 
-@pytest.mark.parametrize("kind", ["inputs.toml", "project.toml"])
+@pytest.mark.parametrize("kind", ["inputs.toml", "cover.toml"])
 def test_utf8_byte_order_mark_is_accepted_and_stripped(project, kind):
     text = (TEMPLATE / kind).read_text(encoding="utf-8")
     (project / kind).write_bytes(b"\xef\xbb\xbf" + text.encode("utf-8"))
@@ -152,7 +152,7 @@ def test_duplicate_key_in_inputs_names_the_key_and_both_lines(project):
 
 
 def test_duplicate_table_in_project_file_is_named(project):
-    path = project / "project.toml"
+    path = project / "cover.toml"
     path.write_text(path.read_text() + '\n[calc]\nid = "X-1"\n')
     with pytest.raises(DuplicateKeyError) as err:
         load_meta(path)
@@ -195,7 +195,7 @@ def test_missing_files_are_named(tmp_path):
     with pytest.raises(MissingFileError, match="not found"):     # common practice
         R.read_record(tmp_path / "none.csv")
     with pytest.raises(MissingFileError, match="not found"):
-        load_meta(tmp_path / "project.toml")
+        load_meta(tmp_path / "cover.toml")
     (tmp_path / "dangling.csv").symlink_to(tmp_path / "nowhere.csv")
     with pytest.raises(MissingFileError, match="link to nothing"):
         R.read_csv(tmp_path / "dangling.csv")

@@ -1,6 +1,6 @@
 r"""Hostile text never reaches the package as CSS or markup.
 
-- A control character (newline, tab, C0/C1, bidi control) in a ``project.toml`` field is refused
+- A control character (newline, tab, C0/C1, bidi control) in a ``cover.toml`` field is refused
   at load with an error naming the field and the file.
 - The running header, the one place project text sits in CSS, is a CSS string in which only
   letters, digits and spaces are literal, whatever the title holds.
@@ -55,12 +55,12 @@ def _toml_string(text: str) -> str:
 
 
 def _project_file(tmp_path: Path, title: str) -> Path:
-    path = tmp_path / "project.toml"
+    path = tmp_path / "cover.toml"
     path.write_text(PROJECT_TOML.format(title=_toml_string(title)), encoding="utf-8")
     return path
 
 
-# --- project.toml fields ----------------------------------------------------------------------
+# --- cover.toml fields ----------------------------------------------------------------------
 
 def test_title_with_css_breakout_is_refused_naming_field_and_file(tmp_path):
     path = _project_file(tmp_path, CSS_ATTACK)
@@ -69,7 +69,7 @@ def test_title_with_css_breakout_is_refused_naming_field_and_file(tmp_path):
     err = info.value
     assert isinstance(err, LatticeCalcError) and isinstance(err, InputError)
     assert err.input_name == "calc.title"
-    assert "calc.title" in str(err) and "project.toml" in str(err)
+    assert "calc.title" in str(err) and "cover.toml" in str(err)
     assert "U+000A" in str(err)  # says which character
 
 

@@ -89,7 +89,7 @@ def test_fifo_inputs_and_exports_are_refused_promptly(project, tmp_path):
 
 @pytest.mark.skipif(not os.path.exists("/dev/zero") or not stat.S_ISCHR(os.stat("/dev/zero").st_mode),
                     reason="no /dev/zero character device")
-@pytest.mark.parametrize("via", ["direct", "link.csv", "link.npy", "project.toml"])
+@pytest.mark.parametrize("via", ["direct", "link.csv", "link.npy", "cover.toml"])
 def test_dev_zero_is_refused_by_its_type(tmp_path, via):
     path = Path("/dev/zero")
     if via != "direct":
@@ -98,7 +98,7 @@ def test_dev_zero_is_refused_by_its_type(tmp_path, via):
     tracemalloc.start()
     try:
         with _no_hang(), pytest.raises(SpecialFileError) as err:
-            if via == "project.toml":
+            if via == "cover.toml":
                 load_meta(path)
             else:
                 R.read_record(path, sample_rate=Q_(100, "Hz"), unit="m/s^2")

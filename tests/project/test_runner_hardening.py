@@ -63,9 +63,9 @@ def make_project(folder: Path, notebooks: dict[str, list[str]]) -> Path:
     folder.mkdir(parents=True)
     names = ", ".join(f'"{n}"' for n in notebooks)
     (folder / "template.toml").write_text(
-        f'[template]\nname = "hardening"\ntitle = "Runner"\ndescription = "throwaway"\nnotebooks = [{names}]\n')
+        f'[about]\nname = "hardening"\ntitle = "Runner"\npurpose = "throwaway"\nnotebooks = [{names}]\n')
     (folder / "inputs.toml").write_text("# no inputs\n")
-    (folder / "project.toml").write_text(_PROJECT)
+    (folder / "cover.toml").write_text(_PROJECT)
     for name, cells in notebooks.items():
         nb = nbformat.v4.new_notebook()
         nb.cells = [nbformat.v4.new_markdown_cell(f"# {name}")] + [nbformat.v4.new_code_cell(c) for c in cells]

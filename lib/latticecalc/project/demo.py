@@ -19,6 +19,7 @@ from latticecalc.errors import ProjectError
 from latticecalc.project.atomic import write_text_atomic
 from latticecalc.project.export import export_project
 from latticecalc.project.inputs import INPUTS_FILE
+from latticecalc.project.meta import COVER_FILE, OLD_COVER_FILE
 from latticecalc.project.runner import run_project
 from latticecalc.project.templates import demo_root, new_project
 
@@ -67,13 +68,15 @@ def _overlay(source: Path, dest: Path) -> None:
     """Put the demo's own files over the fresh template copy.
 
     ``inputs.toml`` is merged: the demo gives only the values that differ from the template's
-    defaults (the template's comments and any input added later stay). Other files are copied.
+    defaults (the template's comments and any input added later stay). Other files are copied; a
+    cover file under its older name (``project.toml``) is copied as ``cover.toml``, so the built
+    project has the current name.
     """
     for item in source.rglob("*"):
         rel = item.relative_to(source)
         if not item.is_file() or "__pycache__" in item.parts or "out" in rel.parts:
             continue
-        target = dest / rel
+        target = dest / (COVER_FILE if rel.as_posix() == OLD_COVER_FILE else rel)
         target.parent.mkdir(parents=True, exist_ok=True)
         if rel.as_posix() == INPUTS_FILE and target.is_file():
             doc = tomlkit.parse(target.read_text(encoding="utf-8"))

@@ -1,4 +1,8 @@
-"""A project's ``project.toml``: who, what, which revision."""
+"""A project's ``cover.toml``: who, what, which revision (what goes on the package's cover).
+
+Projects made by an older kit call the file ``project.toml``; :func:`cover_path` reads it as before,
+and ``latticecalc refile`` renames it.
+"""
 
 from __future__ import annotations
 
@@ -8,10 +12,12 @@ import unicodedata
 from dataclasses import dataclass
 from pathlib import Path
 
-from latticecalc.errors import InputError, MissingFileError
+from latticecalc.errors import InputError, MissingFileError, ProjectError
 from latticecalc.files import read_toml
 
-PROJECT_FILE = "project.toml"
+COVER_FILE = "cover.toml"
+#: The name an older kit gave the cover file; read as before until ``latticecalc refile`` renames it.
+OLD_COVER_FILE = "project.toml"
 _SAFE_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$")
 # Characters that change how text is laid out or read rather than what it says: the bidirectional
 # embeddings, overrides, isolates and marks (they can make a title read differently from its bytes).
@@ -19,7 +25,7 @@ _BIDI_CONTROLS = frozenset("\u061c\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u20
 
 
 class ControlCharacterError(InputError):
-    """A text field of ``project.toml`` holds a control character (newline, tab, C0/C1, bidi control).
+    """A text field of ``cover.toml`` holds a control character (newline, tab, C0/C1, bidi control).
 
     These fields are one line of plain text on the title block, the page header and in file
     names; a line break or a direction override there is never intended, and a line break could
@@ -67,8 +73,32 @@ class ProjectMeta:
                 "description": self.description, "revision_note": self.revision_note}
 
 
+def cover_path(folder: Path) -> tuple[Path, bool]:
+    """The folder's cover file and whether it has the older name (``project.toml``).
+
+    ``cover.toml`` when it exists (also a broken link, which the reader then names); else
+    ``project.toml`` when that exists; else ``cover.toml`` (the reader reports it missing).
+
+    Raises
+    ------
+    ProjectError
+        If both files exist: which one holds the identity would be a guess.
+    """
+    folder = Path(folder)
+    new, old = folder / COVER_FILE, folder / OLD_COVER_FILE
+    if os.path.lexists(new) and os.path.lexists(old):
+        raise ProjectError(f"holds both {COVER_FILE} and {OLD_COVER_FILE}", input_name=COVER_FILE,
+                           file=str(folder), expected=f"one cover file, {COVER_FILE}",
+                           got=f"{COVER_FILE} and {OLD_COVER_FILE} (the older name of the same file)",
+                           hint=f"Keep the one that is right, delete the other ({OLD_COVER_FILE} is "
+                                f"from an older kit)")
+    if not os.path.lexists(new) and os.path.lexists(old):
+        return old, True
+    return new, False
+
+
 def load_meta(path: Path) -> ProjectMeta:
-    """Read and check ``project.toml``.
+    """Read and check ``cover.toml`` (or an older kit's ``project.toml``: the same content).
 
     Calc id and revision must be safe in a file name; no text field may hold a control character.
 
@@ -87,8 +117,8 @@ def load_meta(path: Path) -> ProjectMeta:
     """
     path = Path(path)
     if not os.path.lexists(path):
-        raise MissingFileError("project file not found", input_name=PROJECT_FILE, file=str(path))
-    _, data = read_toml(path, what="the project file", file=path.name)
+        raise MissingFileError("cover file not found", input_name=COVER_FILE, file=str(path))
+    _, data = read_toml(path, what="the cover file", file=path.name)
     proj = data.get("project", {})
     calc = data.get("calc", {})
     for key, table in (("project", proj), ("calc", calc)):

@@ -8,7 +8,7 @@ from pathlib import Path
 
 from latticecalc.errors import ProjectError
 from latticecalc.project.inputs import INPUTS_FILE, Inputs, load_inputs
-from latticecalc.project.meta import PROJECT_FILE, ProjectMeta, load_meta
+from latticecalc.project.meta import COVER_FILE, OLD_COVER_FILE, ProjectMeta, cover_path, load_meta
 from latticecalc.project.schema import TemplateSpec, load_template_spec
 
 TEMPLATE_FILE = "template.toml"
@@ -41,20 +41,32 @@ class Project:
 
 
 def find_project_folder(start: Path | None = None) -> Path:
-    """The folder holding ``template.toml``: ``start`` (default: the current folder) or a parent."""
+    """The folder holding ``template.toml`` and ``cover.toml`` (or an older kit's ``project.toml``).
+
+    ``start`` (default: the current folder) or a parent.
+    """
     here = Path(start or os.getcwd()).resolve()
     for folder in (here, *here.parents):
-        if (folder / TEMPLATE_FILE).is_file() and (folder / PROJECT_FILE).is_file():
+        if (folder / TEMPLATE_FILE).is_file() and ((folder / COVER_FILE).is_file()
+                                                   or (folder / OLD_COVER_FILE).is_file()):
             return folder
     raise ProjectError("not inside a project folder", input_name="folder", got=str(here),
-                       expected=f"a folder with {TEMPLATE_FILE}, {PROJECT_FILE} and {INPUTS_FILE}",
+                       expected=f"a folder with {TEMPLATE_FILE}, {COVER_FILE} and {INPUTS_FILE}",
                        hint="Make one with 'latticecalc new DIR --template NAME'")
 
 
 def open_project(folder: str | Path | None = None) -> Project:
-    """Open a project folder (default: the one holding the current notebook) and validate its inputs."""
+    """Open a project folder (default: the one holding the current notebook) and validate its inputs.
+
+    Files an older kit named or laid out (``project.toml``, a ``[template]``/``[[input]]`` template)
+    are read as before, with one notice on stderr (:mod:`latticecalc.project.refile`).
+    """
+    from latticecalc.project.refile import old_names, tell_old_names
+
     root = find_project_folder(Path(folder) if folder is not None else None)
+    cover, _ = cover_path(root)           # both cover files present: an error naming both
+    tell_old_names(root, old_names(root))
     template = load_template_spec(root / TEMPLATE_FILE)
-    meta = load_meta(root / PROJECT_FILE)
+    meta = load_meta(cover)
     inputs = load_inputs(root / INPUTS_FILE, template)
     return Project(folder=root, meta=meta, template=template, inputs=inputs)

@@ -20,7 +20,7 @@ import nbformat
 from latticecalc import __version__
 from latticecalc.errors import ProjectError
 from latticecalc.project.inputs import INPUTS_FILE
-from latticecalc.project.meta import PROJECT_FILE
+from latticecalc.project.meta import cover_path
 from latticecalc.project.project import TEMPLATE_FILE, Project
 
 RUN_RECORD = "run-record.json"
@@ -40,13 +40,19 @@ def _sha(data: bytes) -> str:
 
 
 def current_state(project: Project) -> dict[str, str]:
-    """Hash of each file whose change makes a run stale: inputs, project, template, notebook code, data files.
+    """Hash of each file whose change makes a run stale: inputs, cover, template, notebook code, data files.
+
+    Files are hashed by their bytes under their name: the cover file under ``cover.toml``, or
+    ``project.toml`` in a project an older kit made. ``latticecalc refile`` therefore makes a run
+    stale (the files the run read are gone) and the project is run again before export or sign-off;
+    the fingerprint, which holds the cover's fields rather than the file, is unchanged by it.
 
     Data files are the files the ``path`` inputs name (records, imported calc package exports), keyed
     ``"<path> (<input>)"`` (:func:`latticecalc.project.lineage.state_of`).
     """
-    state = {name: _sha((project.folder / name).read_bytes())
-             for name in (INPUTS_FILE, PROJECT_FILE, TEMPLATE_FILE)}
+    cover = cover_path(project.folder)[0]
+    state = {path.name: _sha(path.read_bytes())
+             for path in (project.folder / INPUTS_FILE, cover, project.folder / TEMPLATE_FILE)}
     for nb in project.notebooks:
         if not nb.is_file():
             raise ProjectError("notebook listed in template.toml is missing", input_name=nb.name,

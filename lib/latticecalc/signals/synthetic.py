@@ -255,21 +255,23 @@ def as_quantity(record: Record, channel: str) -> pint.Quantity:
     return record.channel(channel)
 
 
-#: Files that mark a project folder (the same pair the project loader looks for).
-PROJECT_MARKERS = ("template.toml", "project.toml")
+#: Files that mark a project folder (the same the project loader looks for): the template and the
+#: cover file, ``cover.toml`` or its name in projects an older kit made, ``project.toml``.
+PROJECT_MARKERS = ("template.toml", ("cover.toml", "project.toml"))
 _NO_DATA_HINT = ("Nothing was written. Give a path inside the project folder where no file is, or give the real "
                  "record and delete the demo seed input")
 
 
 def _is_project(folder: Path) -> bool:
-    return all((folder / name).is_file() for name in PROJECT_MARKERS)
+    return all(any((folder / name).is_file() for name in ((names,) if isinstance(names, str) else names))
+               for names in PROJECT_MARKERS)
 
 
 def _project_folder(path: Path) -> Path | None:
     """The project folder demo data may go to (resolved), or ``None`` outside any project.
 
     A notebook runs in its project folder, so the current folder's project wins; otherwise the
-    nearest folder on ``path`` that holds ``template.toml`` and ``project.toml``.
+    nearest folder on ``path`` that holds ``template.toml`` and ``cover.toml``.
     """
     here = Path.cwd().resolve()
     for folder in (here, *here.parents):

@@ -55,7 +55,7 @@ def set_input(folder: Path, dotted: str, value: str) -> None:
 
 
 def set_meta(folder: Path, table: str, key: str, value: str) -> None:
-    path = folder / "project.toml"
+    path = folder / "cover.toml"
     doc = tomlkit.parse(path.read_text(encoding="utf-8"))
     doc[table][key] = value
     path.write_text(tomlkit.dumps(doc), encoding="utf-8")

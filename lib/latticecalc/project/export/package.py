@@ -216,7 +216,7 @@ def export_project(folder: str | Path, *, run: bool = False, with_code: bool = F
     pdf:
         Also print the package to PDF with headless Chromium.
     paper:
-        ``a4`` or ``letter`` for the PDF (default: ``calc.paper`` of the project file, A4 when unset).
+        ``a4`` or ``letter`` for the PDF (default: ``calc.paper`` of ``cover.toml``, A4 when unset).
     progress:
         Progress callback passed to the run (default: lines on stderr).
 

@@ -4,8 +4,10 @@ The fingerprint is the SHA-256 (hex) of the canonical JSON (keys sorted, no whit
 of the *fingerprint content*:
 
 ``project``
-    The identity in ``project.toml`` (name, number, client, calc id, title, revision, preparer,
-    description): a sign-off of revision A does not carry over to revision B.
+    The identity in ``cover.toml`` (name, number, client, calc id, title, revision, preparer,
+    description): a sign-off of revision A does not carry over to revision B. The fields, not the
+    file: the same fields read from an older kit's ``project.toml``, or from the file after
+    ``latticecalc refile`` renamed it, give the same fingerprint.
 ``inputs``
     ``Inputs.canonical()``: every input parsed and normalised to SI base units.
 ``inputs_shown``

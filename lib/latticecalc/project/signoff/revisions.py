@@ -1,7 +1,7 @@
 """Revisions: the exported JSON of each revision kept in ``out/revisions/<rev>.json``.
 
 Each export refreshes the record of the project's *current* revision (``calc.revision`` in
-``project.toml``), keeping its first export time, until that revision is approved: then the
+``cover.toml``), keeping its first export time, until that revision is approved: then the
 record is frozen, and a later export of the same revision with different content leaves it as it
 was (the package's history says so). Another revision's record is never touched.
 """
@@ -166,7 +166,7 @@ def history_html(stored: list[dict], current: dict, *, frozen: bool) -> str:
     note = ""
     if frozen:
         note = (f"<p><strong>Revision {escape(current['revision'])} was approved with different content; "
-                "its record is kept as approved. Raise the revision in project.toml for a new issue.</strong></p>")
+                "its record is kept as approved. Raise the revision in cover.toml for a new issue.</strong></p>")
     return (note + '<table class="lc-revisions"><thead><tr><th>Revision</th><th>First exported</th>'
             "<th>Last exported (UTC)</th><th>Status</th><th>Fingerprint</th><th>Revision note</th>"
             "<th>Changes from the previous</th></tr></thead><tbody>" + "".join(html) + "</tbody></table>")

@@ -27,6 +27,7 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PublicKey
 
 from latticecalc.errors import InputError, ProjectError
 from latticecalc.project.atomic import write_text_atomic
+from latticecalc.project.meta import COVER_FILE, OLD_COVER_FILE
 from latticecalc.project.signoff.identity import key_fingerprint, same_person
 from latticecalc.project.signoff.journal import SIGNOFF_DIR
 
@@ -178,8 +179,8 @@ def trust_key(folder: str | Path, *, public: str | Path, person: str, roles: lis
         Unreadable key, empty person, unknown role, or the key listed already.
     """
     folder = Path(folder)
-    if not create and not (folder / "project.toml").is_file():
-        raise ProjectError("is not a project folder (no project.toml)", input_name=str(folder))
+    if not create and not any((folder / name).is_file() for name in (COVER_FILE, OLD_COVER_FILE)):
+        raise ProjectError(f"is not a project folder (no {COVER_FILE})", input_name=str(folder))
     if not isinstance(person, str) or not person.strip():
         raise InputError("must be a name", input_name="--person", got=repr(person))
     roles = list(dict.fromkeys(roles))

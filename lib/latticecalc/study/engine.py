@@ -62,6 +62,17 @@ class Constraint:
     minimum: float = 0.0
     maximum: float = math.inf
 
+    @property
+    def limits_text(self) -> str:
+        """The limits as a reader writes them: ``≥ 0``, ``≤ 1`` or ``0 … 1`` (never ``inf``)."""
+        from latticecalc.units import format_number
+
+        if math.isinf(self.maximum):
+            return f"≥ {format_number(self.minimum)}"
+        if math.isinf(self.minimum):
+            return f"≤ {format_number(self.maximum)}"
+        return f"{format_number(self.minimum)} … {format_number(self.maximum)}"
+
     def shortfall(self, value: Any) -> float:
         """How far ``value`` lies outside the limits (0 inside; 1e6 for a missing or non-finite value)."""
         if not isinstance(value, float) or not math.isfinite(value):
@@ -271,15 +282,17 @@ class StudyResult:
 
     def pareto_rows(self) -> list[list[str]]:
         """(id, design values, mass, margin) rows of the Pareto set (or of the nearest designs)."""
+        from latticecalc.units import format_number, format_value
+
         rows = []
         for did in self.pareto or self.nearest:
             r = self.record(did)
-            out = r.outputs[self.final_stage]
+            # every stage's outputs: a design stopped at the Bloch stage keeps the hand objectives it was ranked by
+            out = _merged(r.outputs)
             hand = r.outputs["hand"]
-            rows.append([did] + [f"{v:.4g}" if isinstance(v, float) else str(v) for v in r.design.values()]
-                        + [f"{hand.get('panel_mass', float('nan')):.3g}"]
-                        + [f"{out.get(o.output, float('nan')):.3g}" for o in self.objectives
-                           if o.output != "panel_mass"]
+            rows.append([did] + [format_value(v) for v in r.design.values()]
+                        + [format_number(hand.get("panel_mass"), 3)]
+                        + [format_number(out.get(o.output), 3) for o in self.objectives if o.output != "panel_mass"]
                         + ["; ".join(r.lacks.get(self.final_stage, ())) or "meets every check"])
         return rows
 

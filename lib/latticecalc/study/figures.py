@@ -8,10 +8,11 @@ from typing import Any
 from latticecalc.study.engine import StudyResult
 
 
-def mass_margin_figure(result: StudyResult, *, margin: str = "il_margin") -> Any:
+def mass_margin_figure(result: StudyResult, *, margin: str = "il_margin", mass_limit: float | None = None) -> Any:
     """Panel mass against the hand insertion-loss margin of every design, coloured by hand feasibility.
 
-    Designs that reached the Bloch or coupled stage are ringed; the Pareto set is drawn as stars.
+    Designs that reached the Bloch or coupled stage are ringed; the Pareto set is drawn as stars; the
+    study's mass limit [kg], when given, is a dashed vertical line.
     """
     import matplotlib
 
@@ -33,6 +34,8 @@ def mass_margin_figure(result: StudyResult, *, margin: str = "il_margin") -> Any
         ax.scatter([r.outputs["hand"]["panel_mass"] for r in best], [r.outputs["hand"].get(margin) for r in best],
                    marker="*", s=160, c="tab:red", label="Pareto set")
     ax.axhline(0.0, color="k", lw=0.8)
+    if mass_limit is not None:
+        ax.axvline(mass_limit, color="tab:red", lw=0.9, ls="--", label=f"mass limit ({mass_limit:g} kg)")
     ax.set_xlabel("panel mass (kg)")
     ax.set_ylabel("insertion-loss margin, hand estimate (dB)")
     ax.legend(fontsize=8, loc="best")

@@ -99,7 +99,9 @@ class Discrete:
     @property
     def text(self) -> str:
         """The choices for tables."""
-        return ", ".join(str(c) for c in self.choices) + (f" {self.unit}" if self.unit else "")
+        from latticecalc.units import format_value
+
+        return ", ".join(format_value(c) for c in self.choices) + (f" {self.unit}" if self.unit else "")
 
 
 Variable = Continuous | Discrete

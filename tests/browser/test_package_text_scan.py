@@ -1,7 +1,8 @@
 """What a checker reads in a calc package: no Python reprs, no raw LaTeX, no e-notation in the maths, no
 check line whose words or signs the numbers or the verdict contradict.
 
-One quick project per template (column-panel, site-survey, prototype-test) is built, run and exported,
+One quick project per template (column-panel, site-survey, prototype-test) and the demo's design study
+(its search cut down, beside the demo survey it reads its requirement from) is built, run and exported,
 then opened in headless Chromium; the scan reads the text the page shows (``innerText``), so what
 it checks is what a reader sees.
 
@@ -25,6 +26,11 @@ from latticecalc.project.templates import new_project
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
 TEMPLATES = ("column-panel", "site-survey", "prototype-test")
+#: The demo's design study: its nearest-designs table shows every kind of value a study writes.
+PACKAGES = TEMPLATES + ("demo-design-study",)
+#: The demo study's search, cut down (its own counts are in calcs/quillon-yard-study/inputs.toml).
+QUICK_STUDY = {"search.screen": 24, "search.population": 8, "search.generations": 2, "search.bloch": 2,
+               "search.coupled": 1}
 
 #: Python reprs that must never reach a page a checker reads.
 REPR_ANYWHERE = ("[]", "{'", "[np.", "np.float64(", "array([")
@@ -54,7 +60,26 @@ def packages(tmp_path_factory):
         make_quick(folder)
         run_project(folder, progress=None)
         out[name] = export_project(folder).html
+    out["demo-design-study"] = _demo_study_package(tmp_path_factory.mktemp("demo"))
     return out
+
+
+def _demo_study_package(root):
+    """The demo's design study (quick search), beside the demo survey and column-panel projects it reads."""
+    from latticecalc.project.demo import _overlay, demo_projects
+    from latticecalc.project.inputs import set_values
+    from latticecalc.project.schema import load_template_spec
+    from latticecalc.project.templates import demo_root
+
+    templates = {p.folder: p.template for p in demo_projects()}
+    for name in ("quillon-yard-survey", "quillon-yard-c3", "quillon-yard-study"):
+        _overlay(demo_root() / name, new_project(root / name, template=templates[name]))
+    run_project(root / "quillon-yard-survey", progress=None)
+    export_project(root / "quillon-yard-survey")
+    study = root / "quillon-yard-study"
+    set_values(study / "inputs.toml", load_template_spec(study / "template.toml"), QUICK_STUDY)
+    run_project(study, progress=None)
+    return export_project(study).html
 
 
 def _quantity(text: str):
@@ -115,7 +140,7 @@ def _relation_problems(where: str, text: str, verdict: str) -> list[str]:
     return problems
 
 
-@pytest.mark.parametrize("template", TEMPLATES)
+@pytest.mark.parametrize("template", PACKAGES)
 def test_package_text_states_no_repr_latex_e_notation_or_false_relation(browser, packages, template):
     page = browser.new_page(viewport={"width": 1000, "height": 1400})
     page.goto(packages[template].as_uri())

@@ -118,8 +118,14 @@ def _scan(page) -> dict:
             }).map(mi => mi.parentElement.textContent.replace(/\\s+/g, '')),
             checks: all('.lc-check').map(c => ({id: c.dataset.step, line: txt(c.querySelector('.lc-check-line')),
                                                 verdict: txt(c.querySelector('.lc-verdict'))})),
-            rows: all('table.lc-checks tbody tr').map(r => Array.from(r.cells).map(txt)),
+            // the checks summary: one row per check (group rows carry no data-check): verdict, check, finding
+            rows: all('table.lc-checks tbody tr[data-check]').map(r => [r.dataset.check, txt(r.cells[0]),
+                                                                        txt(r.cells[2])]),
+            groups: all('table.lc-checks tbody tr:not([data-check])').length,
             wide: all('table.lc-inputs').map(t => t.scrollWidth - t.parentElement.clientWidth),
+            // the output column: the right edge of every step's result cell, down the whole page
+            outRight: all('.lc-row > .lc-out').map(o => Math.round(o.getBoundingClientRect().right)),
+            outLeft: all('.lc-row > .lc-out').map(o => Math.round(o.getBoundingClientRect().left)),
         };
     }""")
 
@@ -128,7 +134,7 @@ def _relation_problems(where: str, text: str, verdict: str) -> list[str]:
     problems = []
     if re.search(r"[≤≥<>]", text):
         problems.append(f"{where}: an inequality sign in a check line: {text!r}")
-    sentence = text.split(" · ")[0]
+    sentence = re.split(r" · |; |\n", text)[0].strip()
     m = _RELATION.match(sentence)
     if m is None:
         return problems + [f"{where}: the check line does not state a relation in words: {text!r}"]
@@ -164,9 +170,15 @@ def test_package_text_states_no_repr_latex_e_notation_or_false_relation(browser,
     for c in seen["checks"]:
         problems += _relation_problems(f"check {c['id']}", c["line"], c["verdict"])
     for row in seen["rows"]:
-        problems += _relation_problems(f"checks summary {row[0]}", row[2], row[4])
+        problems += _relation_problems(f"checks summary {row[0]}", row[2], row[1])
     assert not problems, "\n".join(problems)
     if template == "column-panel":
         assert seen["checks"], "the column-panel package shows no checks to scan"
+    # results stand in one output column down the page: one left and one right edge for all of them
+    if seen["outRight"]:
+        assert max(seen["outRight"]) - min(seen["outRight"]) <= 1, f"{template}: results not in one column"
+        assert max(seen["outLeft"]) - min(seen["outLeft"]) <= 1, f"{template}: results not in one column"
+    if template == "column-panel":
+        assert len(seen["outRight"]) >= len(seen["checks"]) > 0
     # the inputs table keeps to the page column
     assert all(w <= 1 for w in seen["wide"]), f"{template}: the inputs table is wider than its column: {seen['wide']}"

@@ -264,7 +264,7 @@ def test_mathml_holds_only_allow_listed_elements(latex):
 def test_step_records_render_maths_through_the_allow_list(latex):
     rec = {"kind": "step", "id": "x.y", "description": "d", "formula_latex": latex,
            "substitution_latex": latex, "result_text": "1"}
-    _assert_inert(step_html(rec), MATHML_ELEMENTS | {"div", "span", "code"}, frozenset({"id", "data-step"}))
+    _assert_inert(step_html(rec), MATHML_ELEMENTS | {"div", "span", "code", "wbr"}, frozenset({"id", "data-step"}))
 
 
 def test_links_keep_their_text_and_only_in_page_anchors_keep_an_href():

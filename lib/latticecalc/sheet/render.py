@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import re
+from dataclasses import dataclass, field
 from html import escape
 
 from latticecalc.sheet.mathml import to_mathml
@@ -23,32 +24,157 @@ def _text(text: str) -> str:
     return escape(plain_numbers(str(text)))
 
 
-def _source_html(source: dict | None) -> str:
+# --- the reading context of a whole sheet: numbered references, repeats, shared prefixes -----------------
+
+#: Shortest description prefix (before ``": "``) that a run of steps may share and show once.
+_GROUP_MIN = 12
+
+
+def work_key(source: dict) -> tuple[str, str, str]:
+    """A cited work, without the locator and tag: the unit the reference list numbers."""
+    return (str(source.get("author", "")), str(source.get("title", "")), str(source.get("year", "")))
+
+
+def _content_key(rec: dict) -> str:
+    """What a reader sees of a step apart from its id: two steps with the same key show the same thing."""
+    keep = ("kind", "description", "formula_latex", "substitution_latex", "result_text", "method", "note",
+            "demand_text", "limit_text", "verdict", "sense")
+    src = rec.get("source") or {}
+    return repr(tuple(rec.get(k) for k in keep) + (src.get("cite", ""),))
+
+
+def _prefix(description: str) -> str:
+    head, sep, _ = str(description).partition(": ")
+    return head if sep and len(head) >= _GROUP_MIN else ""
+
+
+@dataclass(frozen=True, kw_only=True)
+class ReadingContext:
+    """How the package shows each record, worked out once for the whole sheet (see :func:`reading_context`).
+
+    ``refs`` numbers the cited works in order of first use; ``same_as`` sends a step that repeats an earlier
+    one (same description, formula, values, result and source under another id) to it; ``prefix`` holds the
+    description prefix a step shares with its neighbours (shown once, as ``group_heads`` says where).
+    """
+
+    refs: dict[tuple[str, str, str], int] = field(default_factory=dict)
+    same_as: dict[str, tuple[str, int]] = field(default_factory=dict)
+    prefix: dict[str, str] = field(default_factory=dict)
+    group_heads: dict[str, str] = field(default_factory=dict)
+
+    def ref_number(self, source: dict | None) -> int | None:
+        """The reference-list number of the work ``source`` cites (None for no source)."""
+        return self.refs.get(work_key(source)) if source else None
+
+
+def reading_context(sections: list[tuple[int, list[dict]]]) -> ReadingContext:
+    """The :class:`ReadingContext` of a sheet given as ``[(section number, top-level records), ...]``.
+
+    Records are in page order; a ``result`` record's steps are read as one run.  The same function serves
+    the page and the fingerprint's shown text, so the two always agree.
+    """
+    refs: dict[tuple[str, str, str], int] = {}
+    first: dict[str, tuple[str, int]] = {}
+    same_as: dict[str, tuple[str, int]] = {}
+    prefix: dict[str, str] = {}
+    heads: dict[str, str] = {}
+    for number, records in sections:
+        for top in records:
+            run = top.get("steps", []) if top.get("kind") == "result" else [top]
+            for rec in run:
+                src = rec.get("source")
+                if src and work_key(src) not in refs:
+                    refs[work_key(src)] = len(refs) + 1
+                if rec.get("kind") not in ("step", "check") or "id" not in rec:
+                    continue
+                key = _content_key(rec)
+                if key in first and first[key][0] != rec["id"]:
+                    same_as[rec["id"]] = first[key]
+                else:
+                    first.setdefault(key, (rec["id"], number))
+            title = str(top.get("title", "")) if top.get("kind") == "result" else ""
+            steps = [r for r in run if r.get("kind") in ("step", "check") and "id" in r]
+            i = 0
+            while i < len(steps):
+                p = _prefix(steps[i].get("description", ""))
+                j = i + 1
+                while p and j < len(steps) and _prefix(steps[j].get("description", "")) == p:
+                    j += 1
+                if p and j - i >= 2:
+                    for r in steps[i:j]:
+                        prefix[r["id"]] = p
+                    if p not in title:
+                        heads[steps[i]["id"]] = p
+                i = j
+    return ReadingContext(refs=refs, same_as=same_as, prefix=prefix, group_heads=heads)
+
+
+def _description(rec: dict, ctx: ReadingContext | None) -> str:
+    text = str(rec.get("description", ""))
+    p = ctx.prefix.get(rec.get("id", "")) if ctx else None
+    if p and text.startswith(p + ": "):
+        rest = text[len(p) + 2:]
+        text = rest[:1].upper() + rest[1:]
+    return text
+
+
+def _source_html(source: dict | None, ctx: ReadingContext | None = None) -> str:
+    """Where a step's formula or value comes from: a numbered marker into the references, or a line."""
     if not source:
         return ""
-    return f'<div class="lc-source">Source: {escape(source.get("cite", ""))}</div>'
+    number = ctx.ref_number(source) if ctx else None
+    if number is None:
+        return f'<div class="lc-source">Source: {escape(source.get("cite", ""))}</div>'
+    loc = str(source.get("locator", ""))
+    return (f'<div class="lc-ref"><a href="#ref-{number}">[{number}]</a>'
+            + (f' <span class="lc-loc">{escape(loc)}</span>' if loc else "") + "</div>")
 
 
-def step_html(rec: dict, *, anchor: bool = True) -> str:
-    """One step: description, formula, substitution = result, source, note."""
+def _margin(sid: str, rec: dict, ctx: ReadingContext | None) -> str:
+    """The left margin of a step: its id, then (in a package) its reference marker."""
+    ref = _source_html(rec.get("source"), ctx) if ctx and sid not in ctx.same_as else ""
+    shown = sid.replace(".", ".<wbr>").replace("-", "-<wbr>")
+    return f'<div class="lc-margin"><span class="lc-step-id">{shown}</span>{ref}</div>'
+
+
+def _same_as_html(rec: dict, ctx: ReadingContext | None) -> str:
+    if not ctx or rec.get("id") not in ctx.same_as:
+        return ""
+    other, number = ctx.same_as[rec["id"]]
+    return (f'<div class="lc-same">as <a href="#step-{escape(other)}">{escape(other)}</a> '
+            f"in section {number}</div>")
+
+
+def step_html(rec: dict, *, anchor: bool = True, ctx: ReadingContext | None = None) -> str:
+    """One step in three columns: margin, working, output.
+
+    The margin holds the id and the source marker; the working the description, formula,
+    substitution and note; the output column the result, aligned down the page.
+
+    With a :class:`ReadingContext` (the package), the source is a numbered marker into the reference
+    list and a step that repeats an earlier one shows only its description, a link to the first
+    and the result; without one (a notebook), the source is written out under the working.
+    """
     sid = escape(rec["id"])
     attrs = f' id="step-{sid}"' if anchor else ""
-    parts = [f'<div class="lc-step"{attrs} data-step="{sid}">',
-             f'<div class="lc-step-head"><span class="lc-step-id">{sid}</span> '
-             f'{_text(rec["description"])}</div>']
-    if rec.get("formula_latex"):
-        parts.append(f'<div class="lc-formula">{to_mathml(rec["formula_latex"])}</div>')
-        parts.append(f'<div class="lc-subst">{to_mathml(rec["substitution_latex"])}</div>')
-    else:
-        parts.append(f'<div class="lc-value"><span class="lc-result">{_text(rec["result_text"])}</span>')
-        if rec.get("method"):
-            parts.append(f' <span class="lc-method">({_text(rec["method"])})</span>')
-        parts.append("</div>")
-    parts.append(_source_html(rec.get("source")))
-    if rec.get("note"):
-        parts.append(f'<div class="lc-note">{_text(rec["note"])}</div>')
-    parts.append("</div>")
-    return "".join(parts)
+    repeat = bool(ctx and rec["id"] in ctx.same_as)
+    work = [f'<div class="lc-step-head">{_text(_description(rec, ctx))}</div>']
+    if repeat:
+        work.append(_same_as_html(rec, ctx))
+    elif rec.get("formula_latex"):
+        work.append(f'<div class="lc-formula">{to_mathml(rec["formula_latex"])}</div>')
+        # in the package the result stands in the output column beside the substituted line
+        bare = rec.get("substituted_latex") if ctx else None
+        work.append(f'<div class="lc-subst">{to_mathml("= " + bare if bare else rec["substitution_latex"])}</div>')
+    elif rec.get("method"):
+        work.append(f'<div class="lc-method">{_text(rec["method"])}</div>')
+    if not ctx:
+        work.append(_source_html(rec.get("source")))
+    if rec.get("note") and not repeat:
+        work.append(f'<div class="lc-note">{_text(rec["note"])}</div>')
+    return (f'<div class="lc-step lc-row"{attrs} data-step="{sid}">' + _margin(sid, rec, ctx)
+            + '<div class="lc-work">' + "".join(work) + "</div>"
+            + f'<div class="lc-out"><span class="lc-result">{_text(rec["result_text"])}</span></div></div>')
 
 
 def _number(value) -> float:
@@ -139,20 +265,41 @@ def check_measure_text(rec: dict) -> str:
     return f"utilisation {u:.2f}"
 
 
-def check_html(rec: dict, *, anchor: bool = True) -> str:
-    """One check: description, the relation in words, how far from the limit, OK / NOT OK."""
+def check_html(rec: dict, *, anchor: bool = True, ctx: ReadingContext | None = None) -> str:
+    """One check in the step's three columns.
+
+    The working holds the relation in words and the distance to the limit; the output column the verdict.
+    """
     sid = escape(rec["id"])
     attrs = f' id="step-{sid}"' if anchor else ""
     cls = "ok" if rec["ok"] else "notok"
-    return (f'<div class="lc-check lc-{cls}"{attrs} data-step="{sid}">'
-            f'<div class="lc-step-head"><span class="lc-step-id">{sid}</span> '
-            f'{escape(rec["description"])}</div>'
-            f'<div class="lc-check-line">{escape(check_relation_text(rec))} · '
-            f'{escape(check_measure_text(rec))} · '
-            f'<strong class="lc-verdict">{escape(rec["verdict"])}</strong></div>'
-            + _source_html(rec.get("source"))
-            + (f'<div class="lc-note">{_text(rec["note"])}</div>' if rec.get("note") else "")
-            + "</div>")
+    work = [f'<div class="lc-step-head">{escape(_description(rec, ctx))}</div>',
+            f'<div class="lc-check-line">{escape(check_relation_text(rec))}; {escape(check_measure_text(rec))}</div>']
+    if not ctx:
+        work.append(_source_html(rec.get("source")))
+    if rec.get("note"):
+        work.append(f'<div class="lc-note">{_text(rec["note"])}</div>')
+    return (f'<div class="lc-check lc-row lc-{cls}"{attrs} data-step="{sid}">' + _margin(sid, rec, ctx)
+            + '<div class="lc-work">' + "".join(work) + "</div>"
+            + f'<div class="lc-out"><strong class="lc-verdict">{escape(rec["verdict"])}</strong></div></div>')
+
+
+#: The checks summary's layout mark (``data-layout`` of its table): failing checks first, in groups.
+CHECKS_LAYOUT = "grouped"
+
+
+def checks_summary_groups(checks: list[dict]) -> list[tuple[str, list[dict]]]:
+    """The checks summary's groups: (heading, checks), the failing checks first, each in calculation order.
+
+    The one ordering the package draws and ``verify`` rebuilds from the fingerprinted checks.
+    """
+    groups = []
+    for ok in (False, True):
+        members = [c for c in checks if (c.get("ok") is True) is ok]
+        if members:
+            n = len(members)
+            groups.append((f"{members[0].get('verdict', '')}: {n} check{'s' if n != 1 else ''}", members))
+    return groups
 
 
 def band_notes(records: list[dict]) -> dict[str, str]:
@@ -198,13 +345,19 @@ def figure_html(rec: dict, *, number: int | None = None) -> str:
             f'<figcaption>{escape(label)}{escape(rec["caption"])}</figcaption></figure>')
 
 
-def note_html(rec: dict) -> str:
-    """An assumption, caution or remark."""
+def note_html(rec: dict, *, ctx: ReadingContext | None = None) -> str:
+    """An assumption, caution or remark; its source a marker into the references in a package."""
     category = rec["category"] if rec["category"] in _NOTE_CATEGORIES else "note"
+    src = rec.get("source")
+    number = ctx.ref_number(src) if ctx and src else None
+    if number is not None:
+        cite = f' <a class="lc-ref-inline" href="#ref-{number}">[{number}]</a>'
+    elif src:
+        cite = f' <span class="lc-source">({escape(src["cite"])})</span>'
+    else:
+        cite = ""
     return (f'<div class="lc-remark lc-{category}"><strong>'
-            f'{escape(rec["category"].capitalize())}:</strong> {_text(rec["text"])}'
-            + (f' <span class="lc-source">({escape(rec["source"]["cite"])})</span>'
-               if rec.get("source") else "") + "</div>")
+            f'{escape(rec["category"].capitalize())}:</strong> {_text(rec["text"])}' + cite + "</div>")
 
 
 def table_html(rec: dict) -> str:
@@ -228,27 +381,45 @@ def summary_html(rec: dict) -> str:
             f"<table>{rows}</table></div>")
 
 
-def record_html(rec: dict) -> str:
+def result_html(rec: dict, *, ctx: ReadingContext | None = None, after=None) -> str:
+    """A result block: its title, then each step.
+
+    A shared description prefix is shown once, a band note under a pair of band checks, and whatever
+    ``after(step)`` adds (review comments in the package) after each step.
+    """
+    title = f'<div class="lc-result-title">{escape(rec["title"])}</div>' if rec.get("title") else ""
+    notes = band_notes(rec["steps"])
+    parts = ['<div class="lc-calc">', title]
+    for s in rec["steps"]:
+        head = ctx.group_heads.get(s.get("id", "")) if ctx else None
+        if head:
+            parts.append(f'<div class="lc-group-head">{_text(head)}</div>')
+        parts.append(record_html(s, ctx=ctx))
+        if s.get("id") in notes:
+            parts.append(band_note_html(notes[s["id"]]))
+        if after is not None:
+            parts.append(after(s))
+    parts.append("</div>")
+    return "".join(parts)
+
+
+def record_html(rec: dict, *, ctx: ReadingContext | None = None) -> str:
     """Dispatch on the record's kind."""
     kind = rec["kind"]
     if kind == "step":
-        return step_html(rec)
+        return step_html(rec, ctx=ctx)
     if kind == "check":
-        return check_html(rec)
+        return check_html(rec, ctx=ctx)
     if kind == "figure":
         return figure_html(rec)
     if kind == "note":
-        return note_html(rec)
+        return note_html(rec, ctx=ctx)
     if kind == "table":
         return table_html(rec)
     if kind == "summary":
         return summary_html(rec)
     if kind == "result":
-        title = f'<div class="lc-result-title">{escape(rec["title"])}</div>' if rec.get("title") else ""
-        notes = band_notes(rec["steps"])
-        return ('<div class="lc-calc">' + title
-                + "".join(record_html(s) + (band_note_html(notes[s["id"]]) if s.get("id") in notes else "")
-                          for s in rec["steps"]) + "</div>")
+        return result_html(rec, ctx=ctx)
     return ""
 
 
@@ -256,13 +427,13 @@ def record_html(rec: dict) -> str:
 NOTEBOOK_CSS = """
 .lc-calc{border-left:3px solid #5b7a99;padding:2px 0 2px 10px;margin:6px 0}
 .lc-result-title{font-weight:600;margin-bottom:4px}
-.lc-step,.lc-check{margin:6px 0 10px 0}
-.lc-step-id{font-family:monospace;font-size:85%;color:#555;background:#eef2f6;padding:0 4px;border-radius:3px}
-.lc-formula,.lc-subst{margin:2px 0 2px 12px;font-size:110%}
+.lc-row{display:grid;grid-template-columns:11em minmax(0,1fr) 9em;column-gap:.9em;margin:6px 0 10px 0}
+.lc-step-id{font-family:monospace;font-size:85%;color:#555;overflow-wrap:anywhere}
+.lc-out{text-align:right;align-self:end;font-weight:600}
+.lc-formula,.lc-subst{margin:2px 0;font-size:110%}
 .lc-formula math,.lc-subst math,.lc-formula mfrac>*,.lc-subst mfrac>*{math-style:normal}
-.lc-source{font-size:85%;color:#555;margin-left:12px}
-.lc-note{font-size:90%;color:#8a4b00;margin-left:12px}
-.lc-ok .lc-verdict{color:#1d6b2a}.lc-notok .lc-verdict{color:#b00020}
-.lc-check-line{margin-left:12px}
-.lc-band-note{margin:0 0 10px 12px;color:#b00020}
+.lc-source,.lc-method{font-size:85%;color:#555}
+.lc-note{font-size:90%;color:#8a4b00}
+.lc-ok .lc-verdict{color:#1f5f4a}.lc-notok .lc-verdict{color:#9c1c1c}
+.lc-band-note{margin:0 0 10px 12px;color:#9c1c1c}
 """

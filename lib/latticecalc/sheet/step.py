@@ -131,6 +131,15 @@ class Step:
         return (self.formula.substituted_latex(self.values, sig=self.sig) + " = "
                 + value_latex(self.result, sig=self.sig))
 
+    def substituted_latex(self) -> str:
+        """The expression with the values put in, without ``= result``, or ``""``.
+
+        The package shows the result in its output column, beside this line.
+        """
+        if self.formula is None:
+            return ""
+        return self.formula.substituted_latex(self.values, sig=self.sig)
+
     def result_text(self) -> str:
         """The result as text, e.g. ``'259.4 Hz'``."""
         return format_quantity(self.result, sig=self.sig)
@@ -143,6 +152,7 @@ class Step:
             "description": self.description,
             "formula_latex": self.formula_latex(),
             "substitution_latex": self.substitution_latex(),
+            "substituted_latex": self.substituted_latex(),
             "symbol_latex": self.symbol_latex,
             "result": _plain(self.result),
             "result_text": self.result_text(),

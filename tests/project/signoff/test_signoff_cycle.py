@@ -79,7 +79,7 @@ def test_review_comments_block_checked_until_closed_and_show_beside_their_step(p
     title = html.split('id="title-block"', 1)[1].split("</table>", 1)[0]
     assert "<th>Open comments</th><td>1</td>" in title
     after_step = html.split(f'id="step-{step}"', 1)[1]
-    assert after_step.index("lc-comment-open") < after_step.index('class="lc-step"')  # beside its own step
+    assert after_step.index("lc-comment-open") < after_step.index('class="lc-step ')  # beside its own step
     reply_comment(project, "CQ-1", author=PREPARER, text="Node detail N3, see drawing")
     close_comment(project, "CQ-1", author=CHECKER, text="Agreed")
     with pytest.raises(InputError, match="closed already"):

@@ -31,13 +31,13 @@ def package_of(folder: Path) -> Path:
 
 
 def first_result_number(html: str) -> tuple[str, str]:
-    """The step id and the first result number shown in a substitution (``= <mn>x</mn>``)."""
+    """The step id and the first result shown in a step's output column (``lc-result">x unit``)."""
     for chunk in html.split('id="step-')[1:]:
-        body = chunk.split("</div></div>", 1)[0]  # stop before the next step
-        m = re.search(r"<mo>&#x0003D;</mo><mn>([0-9.]+)</mn>", body)
+        body = chunk.split('id="step-', 1)[0]  # stop before the next step
+        m = re.search(r'<span class="lc-result">([0-9]+\.[0-9]+)[ <]', body)
         if m:
             return chunk.split('"', 1)[0], m.group(1)
-    raise AssertionError("no substituted result found in the package")
+    raise AssertionError("no result found in a step's output column")
 
 
 def test_fresh_export_verifies_and_shows_its_fingerprint(project):
@@ -69,7 +69,8 @@ def test_editing_one_digit_of_a_shown_result_fails_verify_and_names_it(project, 
     last = str((int(number[-1]) + 1) % 10)
     edited = number[:-1] + last
     tampered = tmp_path / "tampered.html"
-    tampered.write_text(html.replace(f"<mn>{number}</mn>", f"<mn>{edited}</mn>", 1), encoding="utf-8")
+    tampered.write_text(html.replace(f'<span class="lc-result">{number}', f'<span class="lc-result">{edited}', 1),
+                        encoding="utf-8")
     report = verify_package(tampered)
     assert not report.ok
     named = [p for p in report.problems if f"step {step}:" in p]

@@ -9,6 +9,7 @@ import nbformat
 
 from latticecalc.project.export.narrative import first_heading, markdown_html, without_first_heading
 from latticecalc.sheet.display import RECORD_MIME
+from latticecalc.sheet.render import ReadingContext, reading_context
 
 
 @dataclass(kw_only=True)
@@ -43,6 +44,11 @@ class SheetDocument:
                 recs = payload["steps"] if payload["kind"] == "result" else [payload]
                 out.extend(r for r in recs if kind is None or r["kind"] == kind)
         return out
+
+    def reading_context(self) -> ReadingContext:
+        """How the package shows each record: reference numbers, repeated steps, shared prefixes."""
+        return reading_context([(sec.number, [p for what, p in sec.blocks if what == "record"])
+                                for sec in self.sections])
 
 
 def collect(executed: list[Path]) -> SheetDocument:

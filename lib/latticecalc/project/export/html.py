@@ -8,7 +8,16 @@ from html import escape
 from importlib import resources
 
 from latticecalc.project.export.collect import SheetDocument
-from latticecalc.sheet.render import band_note_html, band_notes, check_measure_text, check_relation_text, record_html
+from latticecalc.sheet.render import (
+    CHECKS_LAYOUT,
+    ReadingContext,
+    check_measure_text,
+    check_relation_text,
+    checks_summary_groups,
+    record_html,
+    result_html,
+    work_key,
+)
 from latticecalc.units import format_value, plain_numbers
 
 CAUTIONS = (
@@ -181,17 +190,26 @@ def _inputs_table(inputs: list[dict]) -> str:
 
 
 def _checks_table(checks: list[dict]) -> str:
+    """Every check, the failing ones first: verdict, the check and its step, then what the numbers say.
+
+    Within each group the checks keep the calculation's order (``checks_summary_groups``); the finding
+    is the relation in words (never an inequality sign) with the distance to the limit under it.
+    """
     if not checks:
         return "<p>No checks in this calculation.</p>"
-    rows = []
-    for c in checks:
-        cls = "lc-verdict-ok" if c["ok"] else "lc-verdict-notok"
-        rows.append(f'<tr><td><a href="#step-{escape(c["id"])}">{escape(c["id"])}</a></td>'
-                    f"<td>{escape(c['description'])}</td><td>{escape(check_relation_text(c))}</td>"
-                    f"<td>{escape(check_measure_text(c))}</td>"
-                    f'<td class="{cls}"><strong>{escape(c["verdict"])}</strong></td></tr>')
-    return ('<table class="lc-checks"><thead><tr><th>Step</th><th>Check</th><th>Demand against limit</th>'
-            "<th>How far from the limit</th><th>Result</th></tr></thead><tbody>" + "".join(rows)
+    body = []
+    for heading, members in checks_summary_groups(checks):
+        body.append(f'<tr class="lc-checks-group"><th colspan="3">{escape(heading)}</th></tr>')
+        for c in members:
+            cid = escape(c["id"])
+            cls = "lc-verdict-ok" if c["ok"] else "lc-verdict-notok"
+            body.append(f'<tr data-check="{cid}"><td class="{cls}"><strong>{escape(c["verdict"])}</strong></td>'
+                        f'<td>{escape(c["description"])}<div class="lc-checks-step"><a href="#step-{cid}">{cid}</a>'
+                        f'</div></td><td class="lc-finding">{escape(check_relation_text(c))}'
+                        f'<div class="lc-checks-margin">{escape(check_measure_text(c))}</div></td></tr>')
+    return (f'<table class="lc-checks" data-layout="{CHECKS_LAYOUT}"><colgroup><col class="lc-col-verdict">'
+            '<col class="lc-col-check"><col class="lc-col-finding"></colgroup><thead><tr><th>Verdict</th>'
+            "<th>Check, step</th><th>What the numbers say</th></tr></thead><tbody>" + "".join(body)
             + "</tbody></table>")
 
 
@@ -227,6 +245,38 @@ def _to_confirm_html(checks: list[dict]) -> str:
             + "".join(items) + "</ul></div>")
 
 
+_TAG_WORDS = {"from memory": "recalled, to be confirmed against the document",
+              "common practice": "a rule of thumb with no published source"}
+
+
+def _references_html(references: list[dict], ctx: ReadingContext) -> str:
+    """The numbered works the page's markers point to, each with the places cited and their standing.
+
+    A work is listed once; the locators cited from it follow, and a locator whose value is recalled
+    rather than read from the document says so here, once, instead of beside every step.
+    """
+    works: dict[tuple, list[dict]] = {}
+    for r in references:
+        works.setdefault(work_key(r), []).append(r)
+    items = []
+    for key, number in sorted(ctx.refs.items(), key=lambda kv: kv[1]):
+        cites = works.get(key, [])
+        author, title, year = key
+        head = f"{escape(author)}, <em>{escape(title)}</em>" + (f" ({escape(year)})" if year else "")
+        places = []
+        for c in cites:
+            loc, tag = str(c.get("locator", "")), str(c.get("tag", ""))
+            if not loc and not tag:
+                continue
+            text = escape(loc) if loc else "the work as a whole"
+            if tag:
+                text += f' <span class="lc-tag">({escape(_TAG_WORDS.get(tag, tag))})</span>'
+            places.append(text)
+        items.append(f'<li id="ref-{number}" value="{number}">{head}'
+                     + (f'<div class="lc-places">Cited: {"; ".join(places)}</div>' if places else "") + "</li>")
+    return '<ol class="lc-references">' + "".join(items) + "</ol>" if items else "<p>No sources cited.</p>"
+
+
 def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], references: list[dict],
                    extras: PackageExtras, generated: str, with_code: bool = False,
                    summary: dict | None = None) -> str:
@@ -236,6 +286,7 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
     assumptions = [n for n in notes if n["category"] == "assumption"]
     cautions = [n for n in notes if n["category"] == "caution"]
     summaries = ([summary] if summary else []) + doc.records("summary")
+    ctx = doc.reading_context()
     running = f"{meta['calc_id']} rev {meta['revision']} — {meta['title']}"
     running_css = css_string(running)
 
@@ -275,14 +326,10 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
                 parts.append(figure_html(rec, number=fig_no))
                 continue
             if rec["kind"] == "result":  # each step followed by its review comments
-                title = f'<div class="lc-result-title">{escape(rec["title"])}</div>' if rec.get("title") else ""
-                notes = band_notes(rec["steps"])
-                parts.append('<div class="lc-calc">' + title + "".join(
-                    record_html(st) + (band_note_html(notes[st["id"]]) if st.get("id") in notes else "")
-                    + (_comments_for(st["id"], extras) if "id" in st else "")
-                    for st in rec["steps"]) + "</div>")
+                parts.append(result_html(rec, ctx=ctx, after=lambda st: _comments_for(st["id"], extras)
+                                         if "id" in st else ""))
                 continue
-            parts.append(record_html(rec))
+            parts.append(record_html(rec, ctx=ctx))
             if "id" in rec:
                 parts.append(_comments_for(rec["id"], extras))
         parts.append("</section>")
@@ -293,8 +340,7 @@ def render_package(*, meta: dict, doc: SheetDocument, inputs: list[dict], refere
     body.append('<section id="revisions"><h2>Revision history</h2>'
                 + (extras.revision_history_html or
                    f"<p>Revision {escape(meta['revision'])}: first issue of this package.</p>") + "</section>")
-    refs = "".join(f"<li>{escape(r['cite'])}</li>" for r in references)
-    body.append(f'<section id="references"><h2>References</h2><ol>{refs}</ol></section>')
+    body.append('<section id="references"><h2>References</h2>' + _references_html(references, ctx) + "</section>")
     body.append('<section id="assumptions"><h2>Assumptions</h2>'
                 + ("<ol>" + "".join(f"<li>{escape(plain_numbers(a['text']))}</li>" for a in assumptions) + "</ol>"
                    if assumptions else "<p>None stated beyond those in the steps.</p>") + "</section>")

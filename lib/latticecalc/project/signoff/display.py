@@ -23,7 +23,7 @@ import math
 from html.parser import HTMLParser
 from typing import Any
 
-from latticecalc.sheet.render import check_measure_text, check_relation_text
+from latticecalc.sheet.render import CHECKS_LAYOUT, check_measure_text, check_relation_text, checks_summary_groups
 
 #: A utilisation this close to 1 is not re-judged (the fingerprint keeps 10 significant figures).
 UTILISATION_RTOL = 1e-8
@@ -116,8 +116,26 @@ def check_problems(content: dict) -> list[str]:
     return out
 
 
-def expected_checks_rows(content: dict) -> list[tuple[str, list[str]]]:
-    """(check id, cells) of each row of the checks summary, rebuilt from the fingerprinted checks."""
+#: What each cell of a checks-summary row holds, by the table's layout.
+ROW_LABELS = {CHECKS_LAYOUT: ("verdict", "check and step", "finding"),
+              "": ("step", "check", "demand and limit", "utilisation", "verdict")}
+
+
+def expected_checks_rows(content: dict, layout: str = CHECKS_LAYOUT) -> list[tuple[str, list[str]]]:
+    """(check id, cells) of each row of the checks summary, rebuilt from the fingerprinted checks.
+
+    ``layout`` is the page's (``data-layout`` of its table): the current one groups the failing checks
+    first under a heading row (id ``""``); a package made before it has one row per check in
+    calculation order.
+    """
+    if layout == CHECKS_LAYOUT:
+        rows = []
+        for heading, members in checks_summary_groups(_dicts(content.get("checks"))):
+            rows.append(("", [_norm(heading)]))
+            for c in members:
+                rows.append((str(c.get("id")), [_norm(c.get("verdict")), _norm(f"{c.get('description')} {c.get('id')}"),
+                                                _norm(f"{check_relation_text(c)} {check_measure_text(c)}")]))
+        return rows
     rows = []
     for c in _dicts(content.get("checks")):
         rel = "≤" if c.get("sense") == "max" else "≥"
@@ -174,6 +192,7 @@ class _Tables(HTMLParser):
     def __init__(self) -> None:
         super().__init__(convert_charrefs=True)
         self.checks: list[list[str]] = []
+        self.checks_layout = ""
         self.boxes: list[list[list[str]]] = []
         self.signoffs: dict[str, list[str]] = {}
         self.row_id: str | None = None
@@ -190,6 +209,8 @@ class _Tables(HTMLParser):
         region = None
         if tag == "section" and a.get("id") == "checks":
             region = "checks"
+        if tag == "table" and "lc-checks" in (a.get("class") or "").split():
+            self.checks_layout = a.get("data-layout") or ""
         elif tag == "div" and "lc-summary" in (a.get("class") or "").split():
             region = "summary"
             self.boxes.append([])
@@ -245,6 +266,11 @@ def page_tables(html: str) -> tuple[list[list[str]], list[list[list[str]]]]:
     return p.checks, p.boxes
 
 
+def page_checks_layout(html: str) -> str:
+    """The layout of the page's checks summary (``data-layout`` of its table; ``""`` before it had one)."""
+    return _parse(html).checks_layout
+
+
 def signoff_states(html: str) -> dict[str, str]:
     """Sign-off seq -> the state the sign-off table shows for it (``current`` or ``VOID``)."""
     out = {}
@@ -281,17 +307,20 @@ def display_problems(content: dict, html: str) -> list[str]:
     ``html`` is the package without its embedded data.
     """
     out = []
-    page_checks, page_boxes = page_tables(html)
-    expected = expected_checks_rows(content)
-    labels = ("step", "check", "demand and limit", "utilisation", "verdict")
+    parsed = _parse(html)
+    page_checks, page_boxes = parsed.checks, parsed.boxes
+    layout = parsed.checks_layout if parsed.checks_layout in ROW_LABELS else CHECKS_LAYOUT
+    expected = expected_checks_rows(content, layout)
     for n, (cid, cells) in enumerate(expected):
+        name = cid or "group heading"
         if n >= len(page_checks):
-            out.append(f"checks summary: {cid}: missing from the page")
+            out.append(f"checks summary: {name}: missing from the page")
             continue
         shown = page_checks[n]
+        labels = ROW_LABELS[layout] if cid else ("heading",)
         for label, want, got in zip(labels, cells, shown + [""] * (len(cells) - len(shown))):
             if want != got:
-                out.append(f"checks summary: {cid}: {label}: {_diff(got, want)}")
+                out.append(f"checks summary: {name}: {label}: {_diff(got, want)}")
     for extra in page_checks[len(expected):]:
         out.append(f"checks summary: a row not in the fingerprinted content: '{' '.join(extra)[:80]}'")
     boxes = expected_summary(content)
@@ -323,4 +352,4 @@ def display_problems(content: dict, html: str) -> list[str]:
 
 
 __all__ = ["check_problems", "checks_content", "display_problems", "expected_checks_rows", "expected_summary",
-           "page_tables", "signoff_states", "summary_content", "utilisation_text", "word_diff"]
+           "page_checks_layout", "page_tables", "signoff_states", "summary_content", "utilisation_text", "word_diff"]

@@ -116,7 +116,8 @@ def shown_steps(doc) -> dict[str, str]:
     from latticecalc.project.signoff.verify import block_texts
     from latticecalc.sheet.render import record_html
 
-    html = "".join(record_html(r) for r in doc.records() if r["kind"] in ("step", "check"))
+    ctx = doc.reading_context()
+    html = "".join(record_html(r, ctx=ctx) for r in doc.records() if r["kind"] in ("step", "check"))
     return {k[len("step-"):]: v for k, v in block_texts(html).items() if k.startswith("step-")}
 
 

@@ -63,8 +63,11 @@ class _Blocks(HTMLParser):
         self.stack: list[tuple[str, str | None]] = []
         self.parts: dict[str, list[str]] = {}
         self.skip = 0
+        self.glue = False   # a <wbr> (a line-break hint inside a word) joins the text on either side
 
     def handle_starttag(self, tag, attrs):
+        if tag == "wbr":
+            self.glue = True
         if tag in _VOID:
             return
         ident = dict(attrs).get("id")
@@ -84,13 +87,21 @@ class _Blocks(HTMLParser):
     def handle_data(self, data):
         if self.skip:
             return
+        glue, self.glue = self.glue, False
+
+        def add(chunks: list[str]) -> None:
+            if glue and chunks:
+                chunks[-1] += data
+            else:
+                chunks.append(data)
+
         named = False
         for _, ident in self.stack:
             if ident is not None:
-                self.parts[ident].append(data)
+                add(self.parts[ident])
                 named = True
         if not named:
-            self.parts.setdefault(OUTSIDE_BLOCKS, []).append(data)
+            add(self.parts.setdefault(OUTSIDE_BLOCKS, []))
 
 
 def block_texts(html: str) -> dict[str, str]:

@@ -84,6 +84,30 @@ def file_sha256(path: Path) -> str:
     return h.hexdigest()
 
 
+def export_identity(path: Path) -> str | None:
+    """SHA-256 of what a calc package export says, not of its bytes; None when it is not one.
+
+    What an importing project reads from an export is its fingerprinted content (every value it
+    takes is checked against it, :func:`check_export`), and what the importing sheet shows of it is
+    its status and sign-offs.  So the identity is the canonical JSON of the export's fingerprint,
+    status and sign-off records: exporting an unchanged calculation again (which rewrites the file
+    with a new generation time) leaves it as it was, while a changed result, a new sign-off or a
+    voided one changes it.  Never raises: a file that cannot be read or parsed is hashed by its
+    bytes instead (:func:`file_sha256`).
+    """
+    from latticecalc.files import read_json
+
+    try:
+        data = read_json(path, what="the calc package export", file=str(path))
+    except Exception:   # noqa: BLE001 -- the stale check must never raise; the bytes hash stands in
+        return None
+    block = data.get("signoff") if isinstance(data, dict) else None
+    if not isinstance(block, dict) or not isinstance(block.get("fingerprint"), str):
+        return None
+    said = {"fingerprint": block["fingerprint"], "status": block.get("status"), "signoffs": block.get("signoffs")}
+    return hashlib.sha256(canonical(said).encode("utf-8")).hexdigest()
+
+
 @dataclass(frozen=True, kw_only=True)
 class UpstreamPackage:
     """A verified calc package export: whose it is and how final."""
@@ -117,6 +141,9 @@ class DataFile:
     sha256: str
     size: int | None
     package: UpstreamPackage | None = None
+    #: What ``sha256`` hashes: ``"file"`` (the bytes) or ``"export"`` (a calc package export's fingerprint,
+    #: status and sign-offs, :func:`export_identity`, so an unchanged re-export is the same file).
+    basis: str = "file"
 
     @property
     def exists(self) -> bool:
@@ -131,7 +158,7 @@ class DataFile:
     def to_dict(self) -> dict:
         """JSON-ready fields (what the fingerprint content and the export keep)."""
         return {"input": self.input_name, "path": self.text, "sha256": self.sha256, "bytes": self.size,
-                "package": self.package.to_dict() if self.package else None}
+                "basis": self.basis, "package": self.package.to_dict() if self.package else None}
 
     def summary(self) -> str:
         """One line for the inputs table: ``SHA-256 1a2b3c4d5e6f…, 12.3 kB; QY-SV-01 rev A, preliminary``."""
@@ -139,7 +166,8 @@ class DataFile:
 
         if not self.exists:
             return f"file {self.sha256}"
-        text = f"SHA-256 {self.sha256[:12]}…, {format_size(self.size)}"
+        what = "SHA-256" if self.basis == "file" else "content SHA-256"
+        text = f"{what} {self.sha256[:12]}…, {format_size(self.size)}"
         if self.package is not None:
             text += f"; calc package {self.package.label}, {self.package.status}"
         return text
@@ -263,11 +291,15 @@ def data_files(project: Project, *, verify_exports: bool = True) -> list[DataFil
         path = (project.folder / text)
         digest = file_sha256(path)
         size = path.stat().st_size if len(digest) == 64 else None
-        package = None
-        if verify_exports and size is not None and _looks_like_export(path):
-            package = check_export(path, input_name=entry.spec.name, file=text)
+        package, basis = None, "file"
+        if size is not None and _looks_like_export(path):
+            if verify_exports:
+                package = check_export(path, input_name=entry.spec.name, file=text)
+            identity = export_identity(path)
+            if identity is not None:
+                digest, basis = identity, "export"
         out.append(DataFile(input_name=entry.spec.name, text=text, path=path, sha256=digest, size=size,
-                            package=package))
+                            package=package, basis=basis))
     return out
 
 
@@ -309,7 +341,7 @@ def imports_shown(project: Project) -> list:
              f.package.fingerprint[:16] + "…", f.sha256[:12] + "…"] for f in imports]
     shown = [table(id="lineage.imports", caption="Calc packages this calculation imports (verified: seal, "
                    "fingerprint, results and sign-offs)", columns=["input", "file", "calc package", "title",
-                                                                    "status", "fingerprint", "SHA-256"],
+                                                                    "status", "fingerprint", "content SHA-256"],
                    rows=rows)]
     held = [f for f in imports if f.package.status != "approved"]
     if held:
@@ -320,5 +352,5 @@ def imports_shown(project: Project) -> list:
     return shown
 
 
-__all__ = ["DataFile", "UpstreamPackage", "check_export", "data_files", "file_sha256", "imports_shown", "seal_digest",
-           "seal_export", "state_of", "upstream_problems"]
+__all__ = ["DataFile", "UpstreamPackage", "check_export", "data_files", "export_identity", "file_sha256",
+           "imports_shown", "seal_digest", "seal_export", "state_of", "upstream_problems"]

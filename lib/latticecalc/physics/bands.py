@@ -604,6 +604,23 @@ def band_estimate_for_cell(*, cell, lattice_material, frame_material=None, effec
     return dataclasses.replace(est, steps=inputs.steps + zone_steps + est.steps)
 
 
+def zone_band_estimates(*, cell, zoning, lattice_material, frame_material=None, id_prefix: str = "band",
+                        **kwargs) -> tuple[BandEstimate, ...]:
+    """:func:`band_estimate_for_cell` for each zone of a graded panel (its cell and lattice material).
+
+    ``zoning`` a :class:`~latticecalc.physics.zoning.Zoning`; zone k's steps are under
+    ``<id_prefix>.zone<k>``; ``kwargs`` as for :func:`band_estimate_for_cell` (tolerances, node zones).
+    Like the uniform estimate, it does not count a mass added at mid-span of the struts.
+    """
+    out = []
+    for k, z in enumerate(zoning.zones):
+        out.append(band_estimate_for_cell(cell=zoning.zone_cell(cell, k),
+                                          lattice_material=z.material if z.material is not None else lattice_material,
+                                          frame_material=frame_material, id_prefix=f"{id_prefix}.zone{k + 1}",
+                                          **kwargs))
+    return tuple(out)
+
+
 RESONATOR_STIFFNESS = Formula("k_2", _m2 * (2 * sp.pi * _f0) ** 2)
 HOST_STIFFNESS = Formula("k_1", _Ee * _a, latex_names={"E_eff": "E^*"})
 

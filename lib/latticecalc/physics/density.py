@@ -380,6 +380,27 @@ PANEL_STRUTS = Source(author="derived", title="panel strut count: a strut on k c
                       "Π(n+1) times along those axes and Π n along the others", tag="derived")
 
 
+def _panel_ratios(total, *, a, nx: int, nz: int, faces: int, mcol, id_prefix: str):
+    """Mass per m² of face, per metre of column and over the column's mass: (per area, per length, ratio, steps)."""
+    area = (nx * a) * (nz * a)
+    height = nz * a
+    per_area = evaluate(MASS_PER_AREA, id=f"{id_prefix}.per-area",
+                        description="Mass per m² of covered column face",
+                        values={"m": total, "A": area.to("m^2")}, unit="kg/m^2")
+    per_length = evaluate(MASS_PER_LENGTH, id=f"{id_prefix}.per-length",
+                          description="Mass added to the column per metre of height "
+                                      f"({faces} panel(s) per level)",
+                          values={"m": total * faces, "H": height.to("m")}, unit="kg/m")
+    steps = [per_area, per_length]
+    ratio = None
+    if mcol is not None:
+        r = evaluate(MASS_RATIO, id=f"{id_prefix}.ratio", description="Added mass over the column's own mass "
+                     "per metre", values={"m_L": per_length.result, "m_col": mcol}, unit="percent")
+        steps.append(r)
+        ratio = r.result
+    return per_area.result, per_length.result, ratio, steps
+
+
 @dataclass(frozen=True, kw_only=True)
 class PanelMass(CalcResult):
     """Result of :func:`panel_mass`; ``value`` is the panel mass in kg."""
@@ -417,19 +438,25 @@ def _materials_for(cell: Cell, materials: Any) -> dict[str, Material]:
     return out
 
 
-def panel_strut_counts(cell: Cell, *, cells_wide: int, cells_high: int, cells_deep: int) -> np.ndarray:
+def panel_strut_counts(cell: Cell, *, cells_wide: int, cells_high: int, cells_deep: int,
+                       bottom_plane: bool = True) -> np.ndarray:
     """How many times each strut of the cell appears in an n_x × n_y × n_z panel (fractional per image).
 
     Axis x runs across the panel (``cells_wide``), y away from the column (``cells_deep``) and z up
     (``cells_high``).  A strut lying on the boundary planes of k axes appears in a panel
-    Π_{those axes}(n + 1) · Π_{others} n times over its 2^k images in the cell.
+    Π_{those axes}(n + 1) · Π_{others} n times over its 2^k images in the cell.  With
+    ``bottom_plane=False`` (a zone of a graded panel above the first: its bottom plane belongs to the
+    zone below) a strut in the horizontal planes counts n times up the panel instead of n + 1.
     """
     n = np.array([cells_wide, cells_deep, cells_high], dtype=float)
     x = cell.nodes.to("m").magnitude / cell.cell_width.to("m").magnitude
     a, b = x[cell.struts[:, 0]], x[cell.struts[:, 1]]
     tol = 1e-9
     on = ((np.abs(a) < tol) & (np.abs(b) < tol)) | ((np.abs(a - 1) < tol) & (np.abs(b - 1) < tol))
-    factors = np.where(on, (n + 1) / 2, n)
+    planes = n + 1
+    if not bottom_plane:
+        planes[2] = n[2]
+    factors = np.where(on, planes / 2, n)
     return factors.prod(axis=1)
 
 
@@ -443,7 +470,7 @@ class PanelVolume:
 
 
 def panel_volumes(cell: Cell, *, cells_wide: int, cells_high: int, cells_deep: int,
-                  density: RelativeDensity) -> dict[str, PanelVolume]:
+                  density: RelativeDensity, bottom_plane: bool = True) -> dict[str, PanelVolume]:
     """Solid volume of each strut group in a ``cells_wide × cells_high × cells_deep`` panel.
 
     Each strut counts as often as it occurs in the panel (:func:`panel_strut_counts`: struts on
@@ -459,8 +486,11 @@ def panel_volumes(cell: Cell, *, cells_wide: int, cells_high: int, cells_deep: i
         Cells across the column face, up the column, and away from it.
     density:
         :func:`relative_density` of ``cell`` (closed form: overlap factor 1).
+    bottom_plane:
+        As for :func:`panel_strut_counts`.
     """
-    counts = panel_strut_counts(cell, cells_wide=cells_wide, cells_high=cells_high, cells_deep=cells_deep)
+    counts = panel_strut_counts(cell, cells_wide=cells_wide, cells_high=cells_high, cells_deep=cells_deep,
+                                bottom_plane=bottom_plane)
     a3 = cell.cell_width.to("m").magnitude ** 3
     vol = strut_areas(cell) * cell.strut_lengths.magnitude
     out = {}
@@ -475,7 +505,8 @@ def panel_volumes(cell: Cell, *, cells_wide: int, cells_high: int, cells_deep: i
 
 def panel_mass(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, cells_deep: int,
                column_mass_per_length: Any = None, faces_covered: int = 1, method: str = "geometric",
-               density: RelativeDensity | None = None, id_prefix: str = "mass") -> PanelMass:
+               density: RelativeDensity | None = None, id_prefix: str = "mass",
+               bottom_plane: bool = True) -> PanelMass:
     """Mass per cell, per panel, per m² of covered column face, and added to the column per metre.
 
     Parameters
@@ -496,6 +527,9 @@ def panel_mass(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, 
         A precomputed :func:`relative_density` result for ``cell`` (saves recomputing it).
     id_prefix:
         Prefix of the step ids.
+    bottom_plane:
+        False for a zone of a graded panel above the first (its bottom plane of struts belongs to the
+        zone below; see :func:`graded_panel_mass`).
 
     Returns
     -------
@@ -521,7 +555,7 @@ def panel_mass(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, 
     rd = density if density is not None else relative_density(cell, method, id_prefix=f"{id_prefix}.density")
     steps: list[Any] = list(rd.steps) if density is None else []
     a = cell.cell_width
-    volumes = panel_volumes(cell, cells_wide=nx, cells_high=nz, cells_deep=ny, density=rd)
+    volumes = panel_volumes(cell, cells_wide=nx, cells_high=nz, cells_deep=ny, density=rd, bottom_plane=bottom_plane)
     cell_mass, panel_by_group = {}, {}
     for g in cell.group_names:
         step = evaluate(CELL_MASS, id=f"{id_prefix}.cell.{g}", description=f"Mass of the {g} struts per cell",
@@ -550,24 +584,92 @@ def panel_mass(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, 
     steps.append(quantity_step(id=f"{id_prefix}.panel", description="Panel mass, all strut groups"
                                + (" and added masses" if getattr(cell, "point_masses", {}) else ""),
                                value=total, unit="kg", method="sum over the groups"))
-    area = (nx * a) * (nz * a)
-    height = nz * a
-    per_area = evaluate(MASS_PER_AREA, id=f"{id_prefix}.per-area",
-                        description="Mass per m² of covered column face",
-                        values={"m": total, "A": area.to("m^2")}, unit="kg/m^2")
-    per_length = evaluate(MASS_PER_LENGTH, id=f"{id_prefix}.per-length",
-                          description="Mass added to the column per metre of height "
-                                      f"({faces} panel(s) per level)",
-                          values={"m": total * faces, "H": height.to("m")}, unit="kg/m")
-    steps += [per_area, per_length]
-    ratio = None
-    if mcol is not None:
-        r = evaluate(MASS_RATIO, id=f"{id_prefix}.ratio", description="Added mass over the column's own mass "
-                     "per metre", values={"m_L": per_length.result, "m_col": mcol}, unit="percent")
-        steps.append(r)
-        ratio = r.result
+    per_area, per_length, ratio, more = _panel_ratios(total, a=a, nx=nx, nz=nz, faces=faces, mcol=mcol,
+                                                      id_prefix=id_prefix)
+    steps += more
     return PanelMass(value=total, steps=tuple(steps), cell_mass=cell_mass,
                      panel_mass_by_group={g: s.result for g, s in panel_by_group.items()},
-                     mass_per_area=per_area.result, mass_per_length=per_length.result, mass_ratio=ratio,
+                     mass_per_area=per_area, mass_per_length=per_length, mass_ratio=ratio,
                      relative_density=rd, title="Mass of the panel")
+
+
+#: Weight of a mass in standard gravity, W = m g (common practice).
+WEIGHT = Formula("W", _m * sp.Symbol("g"))
+G_STANDARD = Q_(9.80665, "m/s^2")
+
+
+@dataclass(frozen=True, kw_only=True)
+class GradedPanelMass(CalcResult):
+    """Result of :func:`graded_panel_mass`; ``value`` the panel mass [kg], ``zones`` each zone's :class:`PanelMass`.
+
+    ``zone_weights`` each zone's weight [N] (bottom first).
+    """
+
+    zones: tuple[PanelMass, ...]
+    zone_weights: tuple[pint.Quantity, ...]
+    mass_per_area: pint.Quantity
+    mass_per_length: pint.Quantity
+    mass_ratio: pint.Quantity | None
+
+
+def graded_panel_mass(cell: Cell, *, zoning: Any, materials: Any, cells_wide: int, cells_high: int,
+                      cells_deep: int, column_mass_per_length: Any = None, faces_covered: int = 1,
+                      method: str = "geometric", gravity: Any = G_STANDARD, id_prefix: str = "mass") -> GradedPanelMass:
+    """Mass and weight of each zone of a graded panel, and of the whole panel.
+
+    Each zone is :func:`panel_mass` of the zone's cell (its lattice strut diameter and added mass,
+    :meth:`~latticecalc.physics.zoning.Zoning.zone_cell`) and material over the zone's rows; the struts
+    lying in a plane between two zones belong to the zone below (``bottom_plane=False`` above the first
+    zone), so each strut of the panel counts once.  The panel's mass is the sum of the zones'; mass per m²,
+    per metre of column and the mass ratio follow from it as for a uniform panel.
+
+    Parameters
+    ----------
+    cell, materials, cells_wide, cells_deep, column_mass_per_length, faces_covered, method:
+        As for :func:`panel_mass`.
+    zoning:
+        The :class:`~latticecalc.physics.zoning.Zoning` (its heights add up to ``cells_high``).
+    cells_high:
+        Cells up the panel.
+    gravity:
+        Acceleration due to gravity [acceleration] for the zones' weights.
+    id_prefix:
+        Prefix of the step ids (each zone's under ``<id_prefix>.zone<k>``).
+    """
+    from latticecalc.physics.zoning import check_zoning
+
+    cell = _check_cell(cell)
+    nx = _positive_int(cells_wide, name="cells_wide")
+    nz = _positive_int(cells_high, name="cells_high")
+    faces = _positive_int(faces_covered, name="faces_covered")
+    zoning = check_zoning(zoning, cells_high=nz)
+    if zoning is None:
+        raise InputError("a graded panel needs its zoning", input_name="zoning", expected="a Zoning", got="None")
+    g = check_positive(check_dimension(gravity, name="gravity", expected="acceleration"), name="gravity")
+    mcol = None
+    if column_mass_per_length is not None:
+        mcol = check_positive(check_dimension(column_mass_per_length, name="column_mass_per_length",
+                                              expected="mass_per_length"), name="column_mass_per_length")
+    zones, weights, steps = [], [], []
+    for k, z in enumerate(zoning.zones):
+        pm = panel_mass(zoning.zone_cell(cell, k), materials=zoning.zone_materials(
+            _materials_for(cell, materials), k), cells_wide=nx, cells_high=z.cells_high, cells_deep=cells_deep,
+            method=method, id_prefix=f"{id_prefix}.zone{k + 1}", bottom_plane=(k == 0))
+        w = evaluate(WEIGHT, id=f"{id_prefix}.zone{k + 1}.weight", description=f"Weight of zone {k + 1}",
+                     values={"m": pm.value, "g": g}, unit="N")
+        zones.append(pm)
+        weights.append(w.result)
+        steps += [*pm.steps, w]
+    total = sum((p.value for p in zones), Q_(0.0, "kg"))
+    steps.append(quantity_step(id=f"{id_prefix}.panel", description="Panel mass, all zones", value=total, unit="kg",
+                               method="sum over the zones (each strut in a plane between zones counted in the "
+                                      "zone below)", source=PANEL_STRUTS))
+    steps.append(evaluate(WEIGHT, id=f"{id_prefix}.weight", description="Weight of the panel",
+                          values={"m": total, "g": g}, unit="N"))
+    per_area, per_length, ratio, more = _panel_ratios(total, a=cell.cell_width, nx=nx, nz=nz, faces=faces, mcol=mcol,
+                                                      id_prefix=id_prefix)
+    steps += more
+    return GradedPanelMass(value=total, steps=tuple(steps), zones=tuple(zones), zone_weights=tuple(weights),
+                           mass_per_area=per_area, mass_per_length=per_length, mass_ratio=ratio,
+                           title="Mass of the graded panel, zone by zone")
 

@@ -599,11 +599,16 @@ def node_zone_lengths(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence
 
 
 def end_zones_for(node_zones: str, *, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
-                  sections: Mapping[str, Section], joint_master: np.ndarray | None = None) -> np.ndarray | None:
-    """The ``end_zones`` array of a node-zone model: None for ``"none"``, the node geometry for ``"rigid"``."""
+                  sections: Mapping[str, Section], joint_master: np.ndarray | None = None,
+                  zone_groups: Sequence[str] = ZONE_GROUPS) -> np.ndarray | None:
+    """The ``end_zones`` array of a node-zone model: None for ``"none"``, the node geometry for ``"rigid"``.
+
+    ``zone_groups``: the groups given zones (a graded panel's ``lattice.zone<k>`` groups).
+    """
     if check_node_zones(node_zones) == "none":
         return None
-    z = node_zone_lengths(nodes=nodes, struts=struts, groups=groups, sections=sections, joint_master=joint_master)
+    z = node_zone_lengths(nodes=nodes, struts=struts, groups=groups, sections=sections, joint_master=joint_master,
+                          zone_groups=zone_groups)
     return check_end_zones(z, nodes=nodes, struts=struts)
 
 
@@ -1204,7 +1209,8 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
                   end_zones: np.ndarray | None = None) -> StrutReduction:
     """Reduce every strut to its end nodes and ``n_modes`` fixed-interface modes.
 
-    Struts of equal length and group share one reduction in local axes, rotated to each strut.
+    Struts of equal length, section, added mass and node zones share one reduction in local axes,
+    rotated to each strut.
     ``n_modes`` is capped at the strut's interior DOFs (6 (n − 1)); with all of them kept the
     reduction is exact.  ``point_masses`` ({group: (mass kg, rotary inertia kg·m²)}) puts a lumped
     mass on the middle node of every strut of that group.  ``end_zones`` (n_struts, 2), m: rigid
@@ -1226,7 +1232,9 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
     scale = max(L.max(), 1e-300)
     for s in range(ns):
         zkey = () if zones is None else (round(zones[s, 0] / scale, 10), round(zones[s, 1] / scale, 10))
-        keys.setdefault((round(L[s] / scale, 10), groups[s], *zkey), []).append(s)
+        # struts of equal length, section and added mass share one reduction, whatever their group is
+        # called (a graded panel's identical zones are then reduced exactly as the uniform panel)
+        keys.setdefault((round(L[s] / scale, 10), sections[groups[s]], pm.get(groups[s]), *zkey), []).append(s)
     Kbb_l = np.zeros((ns, 12, 12))
     Mbb_l = np.zeros((ns, 12, 12))
     C_l = np.zeros((ns, m, 12))
@@ -1235,8 +1243,9 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
     phi_l = np.zeros((ns, ni, m))
     bnd = np.r_[0:6, 6 * n:6 * n + 6]
     inn = np.arange(6, 6 * n)
-    for (_, g, *_z), members in keys.items():
+    for members in keys.values():
         s0 = members[0]
+        g = groups[s0]
         z1, z2 = (0.0, 0.0) if zones is None else (zones[s0, 0], zones[s0, 1])
         Le = (L[s0] - z1 - z2) / n
         Ke, Me = local_element_matrices(np.full(n, Le), [sections[g]] * n, theory)

@@ -26,6 +26,7 @@ path.
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -38,8 +39,10 @@ import sympy as sp_sym
 from latticecalc.cache import cached_arrays, fingerprint
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics import frame_fe as fe
+from latticecalc.physics import zoning as zn
 from latticecalc.physics.bloch import _cell_key, periodic_frame, progress_iter
 from latticecalc.physics.threads import single_thread
+from latticecalc.physics.zoning import zoning_text
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
@@ -72,6 +75,29 @@ class PanelFrame:
     nx: int
     ny: int
     cell_width: float
+
+
+def zoned_frame(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: int, zoning: Any = None,
+                modulus: str = "dynamic", with_steps: bool = False,
+                id_prefix: str = "section") -> tuple[PanelFrame, zn.ZonedStruts]:
+    """The tiled panel with each strut's group, section and added mass (from its zone, when zoned).
+
+    Without a zoning the frame and the sections are exactly the uniform panel's; with one, the lattice
+    struts carry their zone's group (:func:`latticecalc.physics.zoning.zoned_struts`).
+    """
+    pan = panel_frame(cell, nx=nx, ny=ny)
+    zoning = zn.check_zoning(zoning, cells_high=pan.ny, input_name="ny")
+    zs = zn.zoned_struts(cell, materials=materials, zoning=zoning, nodes=pan.nodes, struts=pan.struts,
+                         groups=pan.groups, cells_high=pan.ny, modulus=modulus, with_steps=with_steps,
+                         id_prefix=id_prefix)
+    if zoning is not None:
+        pan = dataclasses.replace(pan, groups=zs.groups)
+    return pan, zs
+
+
+def _zoning_key(zoning: Any) -> tuple:
+    """The cache-key part of a zoning: nothing for a uniform panel (its keys stay as they were)."""
+    return () if zoning is None else (("zoning", zoning.key()),)
 
 
 def _check_cells(value: Any, name: str) -> int:
@@ -531,7 +557,7 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
                      threshold_db: float = 10.0, check_points: int = 3, gap: tuple | None = None,
                      theory: str = "timoshenko", cache: Any = None, progress: Any = None,
                      id_prefix: str = "panel", node_zones: str = "none",
-                     solver: str = "projected") -> Transmissibility:
+                     solver: str = "projected", zoning: Any = None) -> Transmissibility:
     """Transmissibility of an ``nx`` × ``ny`` panel of ``cell`` under imposed base displacement.
 
     Parameters
@@ -577,6 +603,10 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
         direct solve; the basis size, the exact solves and the measured error are on the sheet);
         ``"direct"``: one sparse solve per frequency.  Fewer than :data:`SWEEP_MIN_FREQUENCIES`
         frequencies are always solved directly.
+    zoning:
+        A :class:`~latticecalc.physics.zoning.Zoning` (zones of cell rows up the panel, each with its
+        own lattice strut diameter, added mass and material; their heights add up to ``ny``), or None
+        for a uniform panel.
 
     Returns
     -------
@@ -587,11 +617,13 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     n = fe.check_n_elements(n_elements)
     freqs = _frequencies(f_min, f_max, n_frequencies)
     fe._check_theory(theory)
-    sections, section_steps = fe.sections_for(cell, materials, with_steps=True, id_prefix=f"{id_prefix}.section")
-    pan = panel_frame(cell, nx=nx, ny=ny)
+    pan, zs = zoned_frame(cell, materials=materials, nx=nx, ny=ny, zoning=zoning, with_steps=True,
+                          id_prefix=f"{id_prefix}.section")
+    sections, section_steps = zs.sections, zs.section_steps
     n_check = int(check_points)
-    pm = fe.check_point_masses(fe.cell_point_masses(cell), n)
-    zones = fe.end_zones_for(node_zones, nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections)
+    pm = fe.check_point_masses(zs.point_masses, n)
+    zones = fe.end_zones_for(node_zones, nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
+                             zone_groups=zs.zone_groups)
 
     def compute():
         rp = _ReducedPanel(pan, sections, n_elements=n, strut_modes=strut_modes, theory=theory, direction=d,
@@ -622,7 +654,8 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
                          got=repr(solver))
     key = fingerprint("panel-v1", _cell_key(cell, materials), nx, ny, n, freqs, d, strut_modes, n_check, theory,
                       *((("node-zones", node_zones),) if node_zones != "none" else ()),
-                      *((("sweep", solver, SWEEP_TOL_DB),) if solver == "projected" else ()))
+                      *((("sweep", solver, SWEEP_TOL_DB),) if solver == "projected" else ()),
+                      *_zoning_key(zoning))
     data = cached_arrays(cache, key, compute)
     T = data["T"]
     level = LEVEL_DB.evaluate({"T": Q_(np.maximum(T, 1e-300), "")}).to("").magnitude
@@ -631,7 +664,8 @@ def transmissibility(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny
     band = attenuation_band(freqs, level, threshold_db=threshold_db, near=near)
     method = (f"{nx} × {ny} cells, {n} {theory} elements per strut; struts reduced to end joints + "
               f"{strut_modes} fixed-fixed modes, condensed per frequency; loss factor per material"
-              + ("; rigid node zones on the lattice struts" if zones is not None else ""))
+              + ("; rigid node zones on the lattice struts" if zones is not None else "")
+              + ("" if zoning is None else "; graded: " + zoning_text(zoning)))
     if "sweep" in data:
         basis, samples, sweep_err, indicator = data["sweep"]
         method += (f"; {int(samples)} of the {freqs.size} frequencies solved exactly, the others by Galerkin "
@@ -764,7 +798,7 @@ class SelfWeight(CalcResult):
 def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int = 4, ny: int = 16,
                            n_elements: int = 2, gravity: Any = G_STANDARD, theory: str = "timoshenko",
                            modulus: str = "static", frame_group: str = "frame",
-                           id_prefix: str = "selfweight.fe") -> SelfWeight:
+                           id_prefix: str = "selfweight.fe", zoning: Any = None) -> SelfWeight:
     """Settlement of the panel's top under its own weight, base joints fixed (static FE solve).
 
     The load is the consistent one, f = −g M r_z (M the consistent mass, r_z a unit vertical
@@ -792,13 +826,16 @@ def self_weight_deflection(cell: Any, *, materials: Mapping[str, Any], nx: int =
         on those members (all top joints when there is no frame).
     id_prefix:
         Prefix of the step ids.
+    zoning:
+        As for :func:`transmissibility`: each zone's struts with their own section, material and added
+        mass (the model's mass is then also given per zone).
     """
     g = check_positive(check_dimension(gravity, name="gravity", expected="acceleration"), name="gravity")
-    sections = fe.sections_for(cell, materials, modulus=modulus)
-    pan = panel_frame(cell, nx=nx, ny=ny)
+    pan, zs = zoned_frame(cell, materials=materials, nx=nx, ny=ny, zoning=zoning, modulus=modulus)
+    sections = zs.sections
     model = fe.build_frame(nodes=pan.nodes, struts=pan.struts, groups=pan.groups, sections=sections,
                            n_elements=n_elements, theory=theory)
-    pm = fe.cell_point_masses(cell)
+    pm = zs.point_masses
     if pm and n_elements % 2:
         raise InputError("a mass at mid-span needs an even number of elements per strut", input_name="n_elements",
                          expected="an even integer", got=str(n_elements))

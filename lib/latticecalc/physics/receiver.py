@@ -33,6 +33,7 @@ upper bound of any single absorber's insertion loss.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -46,10 +47,11 @@ import sympy as sym
 from latticecalc.cache import cached_arrays, fingerprint
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics import frame_fe as fe
+from latticecalc.physics import zoning as zn
 from latticecalc.physics.beams import AREA_CIRCLE, SECOND_MOMENT_CIRCLE
 from latticecalc.physics.bloch import _cell_key, progress_iter
 from latticecalc.physics.column import Column, column_levels, column_properties, head_springs
-from latticecalc.physics.panel import panel_frame, symmetric_solve
+from latticecalc.physics.panel import panel_frame, symmetric_solve, zoned_frame
 from latticecalc.physics.threads import single_thread
 from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
@@ -215,9 +217,18 @@ class _PlacedPanel:
 
 
 def place_panels(cell: Any, *, nx: int, ny: int, column: Column, placement: Placement,
-                 fixings: Fixings) -> list[_PlacedPanel]:
-    """Tile the panel and put one copy on each face, with its bracket joints; checks that it fits."""
+                 fixings: Fixings, zoning: Any = None) -> list[_PlacedPanel]:
+    """Tile the panel and put one copy on each face, with its bracket joints; checks that it fits.
+
+    With a ``zoning`` (:class:`~latticecalc.physics.zoning.Zoning`) the lattice struts carry their
+    zone's group (``lattice.zone<k>``).
+    """
     pan = panel_frame(cell, nx=nx, ny=ny)
+    zoning = zn.check_zoning(zoning, cells_high=pan.ny, input_name="panel.cells_high")
+    if zoning is not None:
+        groups, _ = zn.zoned_groups(pan.groups, zoning=zoning, nodes=pan.nodes, struts=pan.struts,
+                                    cell_width=pan.cell_width, cells_high=pan.ny)
+        pan = dataclasses.replace(pan, groups=groups)
     a = pan.cell_width
     H = float(column.height.to("m").m)
     z0 = float(placement.base_height.to("m").m)
@@ -404,12 +415,13 @@ class _Model:
 
 def _build(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: int, column: Column, placement: Placement,
            fixings: Fixings, n_elements: int, strut_modes: int | None, theory: str, with_panels: bool,
-           column_spacing: float, point_masses: Mapping[str, Any] | None, node_zones: str = "none") -> _Model:
+           column_spacing: float, point_masses: Mapping[str, Any] | None, node_zones: str = "none",
+           zoning: Any = None) -> _Model:
     """Assemble column (+ panels): ``strut_modes`` None means the full strut mesh (the reference model)."""
     props = column_properties(column)
     csec = props.section
-    panels = place_panels(cell, nx=nx, ny=ny, column=column, placement=placement, fixings=fixings) \
-        if with_panels else []
+    panels = place_panels(cell, nx=nx, ny=ny, column=column, placement=placement, fixings=fixings,
+                          zoning=zoning) if with_panels else []
     fix_z = np.unique(np.concatenate([p.nodes[p.fixed, 2] for p in panels])) if panels else np.zeros(0)
     z0 = float(placement.base_height.to("m").m)
     mid_z = z0 + ny * float(cell.cell_width.to("m").m) / 2
@@ -446,10 +458,12 @@ def _build(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: int, column:
     n = 6 * nc
     kf_local = (np.array([fixings.along.to("N/m").m, fixings.normal.to("N/m").m, fixings.vertical.to("N/m").m],
                          float) if panels else None)
-    sections = fe.sections_for(cell, materials) if panels else {}
+    zs = zoned_frame(cell, materials=materials, nx=nx, ny=ny, zoning=zoning)[1] if panels else None
+    sections = zs.sections if panels else {}
     for p in panels:
         nj = len(p.nodes)
-        zones = fe.end_zones_for(node_zones, nodes=p.nodes, struts=p.struts, groups=p.groups, sections=sections)
+        zones = fe.end_zones_for(node_zones, nodes=p.nodes, struts=p.struts, groups=p.groups, sections=sections,
+                                 zone_groups=zs.zone_groups)
         if strut_modes is None:
             model = fe.build_frame(nodes=p.nodes, struts=p.struts, groups=p.groups, sections=sections,
                                    n_elements=n_elements, theory=theory, end_zones=zones)
@@ -555,7 +569,7 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
                      theory: str = "timoshenko", check_frequencies: Any = None,
                      mode_counts: Sequence[int] = (1, 2, 4), column_spacing: Any = None,
                      point_masses: Mapping[str, Any] | None = None, node_zones: str = "none", cache: Any = None,
-                     progress: Any = None, id_prefix: str = "receiver") -> ReceiverResponse:
+                     progress: Any = None, id_prefix: str = "receiver", zoning: Any = None) -> ReceiverResponse:
     """Response of the column head to ground motion, without and with the panels, and the insertion loss.
 
     Parameters
@@ -601,6 +615,10 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
         :func:`latticecalc.physics.bloch.dispersion`.
     id_prefix:
         Prefix of the step ids.
+    zoning:
+        A :class:`~latticecalc.physics.zoning.Zoning` of the panels (zones of cell rows, each with its own
+        lattice strut diameter, added mass and material; heights adding up to ``ny``), or None for uniform
+        panels.  ``point_masses`` then adds to the zones' own added masses by group name.
 
     Returns
     -------
@@ -623,13 +641,18 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
     column_spacing = COLUMN_SPACING if column_spacing is None else column_spacing
     spacing = float(check_positive(check_dimension(column_spacing, name="column_spacing", expected="length"),
                                    name="column_spacing").to("m").m)
-    pm = fe.check_point_masses({**fe.cell_point_masses(cell), **dict(point_masses or {})}, n)
+    if zoning is None:
+        own = fe.cell_point_masses(cell)
+    else:
+        own = zoned_frame(cell, materials=materials, nx=nx, ny=ny, zoning=zoning)[1].point_masses
+    pm = fe.check_point_masses({**own, **dict(point_masses or {})}, n)
     chk = np.zeros(0) if check_frequencies is None else np.atleast_1d(
         check_dimension(check_frequencies, name="check_frequencies", expected="frequency").to("Hz").m)
     counts = sorted({int(c) for c in mode_counts if 0 <= int(c) < strut_modes} | {int(strut_modes)})
     zones_model = fe.check_node_zones(node_zones)
     args = dict(materials=materials, nx=nx, ny=ny, column=column, placement=placement, fixings=fixings,
-                n_elements=n, theory=theory, column_spacing=spacing, point_masses=pm, node_zones=zones_model)
+                n_elements=n, theory=theory, column_spacing=spacing, point_masses=pm, node_zones=zones_model,
+                zoning=zoning)
 
     def compute():
         bare = _build(cell, strut_modes=strut_modes, with_panels=False, **args)
@@ -656,7 +679,8 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
 
     key = fingerprint("receiver-v1", _cell_key(cell, materials), nx, ny, _column_key(column), _fix_key(fixings),
                       placement.faces, float(placement.base_height.to("m").m), freqs, dirs, n, strut_modes, theory,
-                      chk, counts, spacing, sorted(pm.items()), zones_model)
+                      chk, counts, spacing, sorted(pm.items()), zones_model,
+                      *(() if zoning is None else (("zoning", zoning.key()),)))
     data = cached_arrays(cache, key, compute)
     value: dict[str, Any] = {"frequency": Q_(freqs, "Hz")}
     il = {}
@@ -670,7 +694,7 @@ def coupled_response(cell: Any, *, materials: Mapping[str, Any], nx: int, ny: in
     method = (f"column: {len(placement.faces)} face(s) with a {nx} × {ny}-cell panel; Timoshenko column elements "
               f"at most {spacing:g} m long; struts of {n} {theory} elements reduced to end joints + {strut_modes} "
               f"fixed–fixed modes, condensed per frequency; node zones: {zones_model}; one sparse solve per "
-              "frequency")
+              "frequency" + ("" if zoning is None else "; graded: " + zn.zoning_text(zoning)))
     steps = [quantity_step(id=f"{id_prefix}.dofs", description="Degrees of freedom of each frequency solve "
                            "(column and panel joints)", value=Q_(int(data["n_red"]), ""), method=method, sig=6,
                            source=REDUCTION_SOURCE)]

@@ -88,6 +88,10 @@ class PanelDesign:
     cells_deep: int
     calibration: CalcResult | None = None
     added_mass: CalcResult | None = None
+    #: Zones of a graded panel (``panel.zones``), None for a uniform panel; ``cell`` is then zone 1's cell.
+    zoning: Any = None
+    #: The added-mass sphere of each zone (None where a zone has none).
+    zone_added: tuple = ()
 
     @property
     def lattice(self) -> Material:
@@ -190,9 +194,81 @@ def design_from_inputs(inputs: Inputs, *, folder: Path | None = None) -> PanelDe
             inputs.get("lattice.added_mass_material") or "steel-s355", overrides=overrides),
             strut_diameter=inputs["lattice.strut_diameter"])
         cell = cell.with_point_mass("lattice", mass=added.value, rotary_inertia=added.rotary_inertia)
+    zoning, zone_added = zoning_from_inputs(inputs, overrides=overrides)
+    if zoning is not None:
+        cell = zoning.zone_cell(cell, 0)
+        added = zone_added[0]
     return PanelDesign(cell=cell, materials=mats, cells_wide=inputs["panel.cells_wide"],
                        cells_high=inputs["panel.cells_high"], cells_deep=inputs["panel.cells_deep"],
-                       calibration=calibration, added_mass=added)
+                       calibration=calibration, added_mass=added, zoning=zoning, zone_added=zone_added)
+
+
+#: The fields of a ``panel.zones`` row: required, then optional.
+ZONE_FIELDS = ("cells_high", "strut_diameter")
+ZONE_OPTIONAL = ("added_mass",)
+
+
+def zoning_from_inputs(inputs: Inputs, *, overrides: Mapping[str, Any] | None = None) -> tuple[Any, tuple]:
+    """The graded panel's zones from ``panel.zones`` (one row a zone, bottom first), or ``(None, ())``.
+
+    Each row: ``cells_high`` (whole number), ``strut_diameter`` (a length), optionally ``added_mass`` (a
+    mass, a sphere of ``lattice.added_mass_material`` at mid-span of every lattice strut of the zone; none
+    when omitted).  The zones' heights must add up to ``panel.cells_high``.  An empty list (or no
+    ``panel.zones``) is a uniform panel.  Every zone uses ``lattice.material`` (with its calibration).
+    """
+    from latticecalc.physics.added_mass import added_mass_sphere
+    from latticecalc.physics.zoning import Zone, Zoning
+    from latticecalc.units import parse
+
+    rows = inputs.get("panel.zones")
+    if rows is None or (isinstance(rows, (list, tuple)) and len(rows) == 0):
+        return None, ()
+    name = "panel.zones"
+    if not isinstance(rows, (list, tuple)):
+        raise InputError("panel.zones must be a list of rows", input_name=name, file=inputs.file,
+                         expected='[{ cells_high = 4, strut_diameter = "20 mm", added_mass = "0 kg" }, …]',
+                         got=type(rows).__name__)
+    sphere_material = materials.get(inputs.get("lattice.added_mass_material") or "steel-s355", overrides=overrides,
+                                    file=inputs.file)
+    zones, added = [], []
+    for k, row in enumerate(rows):
+        where = f"{name} row {k + 1}"
+        if not isinstance(row, Mapping) or not row:
+            raise InputError("a zone row is empty or not a table", input_name=where, file=inputs.file,
+                             expected="cells_high, strut_diameter and optionally added_mass",
+                             got=repr(dict(row)) if isinstance(row, Mapping) else repr(row))
+        unknown = [key for key in row if key not in ZONE_FIELDS + ZONE_OPTIONAL]
+        missing = [key for key in ZONE_FIELDS if key not in row]
+        if unknown or missing:
+            raise InputError("a zone row has unknown or missing fields", input_name=where, file=inputs.file,
+                             expected="cells_high, strut_diameter and optionally added_mass",
+                             got=("unknown " + ", ".join(unknown) if unknown else "")
+                             + ("; " if unknown and missing else "") + ("missing " + ", ".join(missing) if missing
+                                                                        else ""))
+        d = parse(row["strut_diameter"], name=f"{where} strut_diameter", expected="length", file=inputs.file)
+        m = parse(row.get("added_mass", "0 kg"), name=f"{where} added_mass", expected="mass", file=inputs.file)
+        try:
+            zone = Zone(cells_high=row["cells_high"], strut_diameter=d, added_mass=m)
+            Zoning(zones=(zone,), input_name=f"{name} row {k + 1}")     # the row's own checks, named by its row
+            sphere = None
+            if m.to("kg").m > 0:
+                sphere = added_mass_sphere(mass=m, material=sphere_material, strut_diameter=d,
+                                           id_prefix=f"lattice.zone{k + 1}.added")
+                zone = Zone(cells_high=zone.cells_high, strut_diameter=d, added_mass=sphere.value,
+                            rotary_inertia=sphere.rotary_inertia)
+        except InputError as exc:
+            named = exc.input_name or ""
+            named = named.replace(f"{where} zone 1", where) if named.startswith(name) else f"{where} {named}"
+            raise InputError(exc.message, input_name=named, expected=exc.expected, got=exc.got,
+                             file=inputs.file) from None
+        zones.append(zone)
+        added.append(sphere)
+    zoning = Zoning(zones=tuple(zones), input_name=name)
+    try:
+        zoning.check_height(inputs["panel.cells_high"])
+    except InputError as exc:
+        raise InputError(exc.message, input_name=name, expected=exc.expected, got=exc.got, file=inputs.file) from None
+    return zoning, tuple(added)
 
 
 def bloch_options(project: Project, design: PanelDesign) -> dict[str, Any]:

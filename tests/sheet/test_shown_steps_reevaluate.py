@@ -15,7 +15,6 @@ inputs), run their notebooks' code in this process, and walk every :class:`Step`
 from __future__ import annotations
 
 import math
-import tomllib
 
 import matplotlib
 import nbformat
@@ -26,6 +25,7 @@ from tests.helpers import assert_quantity_close
 
 from latticecalc import Q_
 from latticecalc.errors import DimensionError, LatticeCalcError
+from latticecalc.project.schema import load_template_spec
 from latticecalc.sheet import Formula, Step, evaluate
 from latticecalc.sheet import step as step_module
 from latticecalc.signals import spectra, synthetic
@@ -129,7 +129,7 @@ def _run_notebooks(folder) -> None:
     """Execute the package notebooks' code cells in order, in one namespace, in the project folder."""
     import matplotlib.pyplot as plt
 
-    names = tomllib.loads((folder / "template.toml").read_text(encoding="utf-8"))["template"]["notebooks"]
+    names = load_template_spec(folder / "template.toml").notebooks
     namespace = {"__name__": "__main__", "display": lambda *args, **kwargs: None}
     for name in names:
         nb = nbformat.read(folder / name, as_version=4)

@@ -1,7 +1,7 @@
 r"""Hostile project text and narrative in headless Chromium: nothing navigates, nothing is fetched,
-no NOT OK is hidden.
+no failing verdict is hidden.
 
-One site-survey project (its default inputs give one NOT OK) with
+One site-survey project (its default inputs give one failing check) with
 
 - a ``calc.title`` that tries to close the running header's CSS string and hide the verdicts (a
   newline there is refused when the project is opened; the same text without control characters
@@ -117,7 +117,7 @@ DOM_REPORT = """() => {
             && el.checkVisibility({checkOpacity: true, checkVisibilityCSS: true});
     };
     const verdicts = [...document.querySelectorAll('.lc-verdict, .lc-verdict-notok')]
-        .filter(el => el.textContent.includes('NOT OK'));
+        .filter(el => el.textContent.includes('FAILS'));
     return {
         notok: verdicts.length,
         hidden: verdicts.filter(el => !shown(el)).map(el => el.outerHTML),
@@ -153,7 +153,7 @@ def test_hostile_text_neither_navigates_nor_fetches_nor_hides_a_verdict(browser,
         page.emulate_media(media=media)
         dom = page.evaluate(DOM_REPORT)
         assert dom["pwned"] is None
-        assert dom["notok"] >= 1, "the survey's default inputs give a NOT OK; the test needs one"
+        assert dom["notok"] >= 1, "the survey's default inputs give a failing check; the test needs one"
         assert dom["hidden"] == [], (media, dom["hidden"])
         assert set(dom["narrative"]) <= ALLOWED, set(dom["narrative"]) - ALLOWED
         assert all(h.startswith("#") for h in dom["hrefs"]), dom["hrefs"]

@@ -141,8 +141,8 @@ def _relation_problems(where: str, text: str, verdict: str) -> list[str]:
     a, b = _quantity(m.group("a")), _quantity(m.group("b"))
     if not _holds(m.group("word"), a, b):
         problems.append(f"{where}: '{sentence}' is false for the numbers it shows")
-    if verdict not in ("OK", "NOT OK"):
-        problems.append(f"{where}: verdict {verdict!r} is not OK or NOT OK")
+    if verdict not in ("HOLDS", "FAILS"):
+        problems.append(f"{where}: verdict {verdict!r} is not HOLDS or FAILS")
     return problems
 
 

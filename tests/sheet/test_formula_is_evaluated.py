@@ -75,7 +75,7 @@ def test_units_are_carried_by_the_arithmetic():
 def test_check_utilisation_and_verdict():
     src = Source(author="common practice", title="deflection limit", tag="common practice")
     ok = check(id="t.ok", description="deflection", demand=Q_(2, "mm"), limit=Q_(5, "mm"), source=src)
-    assert ok.ok and abs(ok.utilisation - 0.4) < 1e-12 and ok.verdict() == "OK"
+    assert ok.ok and abs(ok.utilisation - 0.4) < 1e-12 and ok.verdict() == "HOLDS"
     bad = check(id="t.bad", description="safety factor", demand=Q_(1.5, ""), limit=Q_(3, ""), sense="min")
-    assert not bad.ok and abs(bad.utilisation - 2.0) < 1e-12 and bad.verdict() == "NOT OK"
-    assert bad.to_dict()["verdict"] == "NOT OK"
+    assert not bad.ok and abs(bad.utilisation - 2.0) < 1e-12 and bad.verdict() == "FAILS"
+    assert bad.to_dict()["verdict"] == "FAILS"

@@ -297,8 +297,8 @@ def checks_summary_groups(checks: list[dict]) -> list[tuple[str, list[dict]]]:
     for ok in (False, True):
         members = [c for c in checks if (c.get("ok") is True) is ok]
         if members:
-            n = len(members)
-            groups.append((f"{members[0].get('verdict', '')}: {n} check{'s' if n != 1 else ''}", members))
+            n, verb = len(members), "hold" if ok else "fail"
+            groups.append((f"{n} check{'s' if n != 1 else ''} {verb}{'s' if n == 1 else ''}", members))
     return groups
 
 

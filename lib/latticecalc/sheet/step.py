@@ -2,7 +2,7 @@
 
 A :class:`Step` records one evaluated formula (or one numerical result) with the values put into
 it, the result in a display unit, and its source.  A :class:`Check` compares a demand with a limit
-and says OK or NOT OK with a utilisation.  Physics functions build them with :func:`evaluate`,
+and says whether it HOLDS or FAILS, with a utilisation.  Physics functions build them with :func:`evaluate`,
 :func:`quantity_step` and :func:`check`; the sheet renders them; the export reads their
 :meth:`to_dict` records.
 """
@@ -27,6 +27,31 @@ STEP_ID_CHARS = set("abcdefghijklmnopqrstuvwxyz0123456789-_.")
 #: (both come from the same lambdified expression; only the display-unit conversion rounds).
 RESULT_RTOL = 1e-9
 
+
+
+#: The verdict a check shows: its demand holds against its limit, or it fails it.
+VERDICTS = {True: "HOLDS", False: "FAILS"}
+#: The verdict words of packages made before :data:`VERDICTS` (``verify`` still reads them).
+EARLIER_VERDICTS = {True: "OK", False: "NOT OK"}
+
+
+def verdict_words(checks: Any) -> dict[bool, str]:
+    """The verdict words a list of check records uses.
+
+    :data:`VERDICTS`, or :data:`EARLIER_VERDICTS` when every verdict in it is one of those (a package
+    made before today's words).
+    """
+    said = {c.get("verdict") for c in checks if isinstance(c, dict)} if isinstance(checks, list) else set()
+    return EARLIER_VERDICTS if said and said <= set(EARLIER_VERDICTS.values()) else VERDICTS
+
+
+def checks_tally(checks: Any) -> str:
+    """How many checks hold and how many fail: ``'6 hold, 3 fail'`` (``'6 OK, 3 NOT OK'`` in the earlier words)."""
+    rows = [c for c in checks if isinstance(c, dict)] if isinstance(checks, list) else []
+    failing = sum(c.get("ok") is not True for c in rows)
+    if verdict_words(rows) is EARLIER_VERDICTS:
+        return f"{len(rows) - failing} OK, {failing} NOT OK"
+    return f"{len(rows) - failing} hold, {failing} fail"
 
 class FormulaResultError(LatticeCalcError, ValueError):
     """A step's result is not its formula evaluated on the values it shows."""
@@ -239,7 +264,7 @@ class Check:
 
     @property
     def utilisation(self) -> float:
-        """Demand over limit (``max``) or limit over demand (``min``); OK when <= 1."""
+        """Demand over limit (``max``) or limit over demand (``min``); the check holds when <= 1."""
         d = float(self.demand.to(self.limit.units).magnitude)
         lim = float(self.limit.magnitude)
         if self.sense == "max":
@@ -260,8 +285,8 @@ class Check:
         return self.demand
 
     def verdict(self) -> str:
-        """``'OK'`` or ``'NOT OK'``."""
-        return "OK" if self.ok else "NOT OK"
+        """``'HOLDS'`` or ``'FAILS'`` (:data:`VERDICTS`)."""
+        return VERDICTS[self.ok]
 
     def to_dict(self) -> dict:
         """JSON-ready record of the check."""

@@ -21,7 +21,7 @@ def test_approval_refused_while_a_check_relies_on_a_recalled_value(tmp_path, exe
     html = next((folder / "out").glob("*.html")).read_text(encoding="utf-8")
     assert "Values to confirm before approval" in html and "Amick" in html
     sign_project(folder, role="prepared", name="Pat Preparer")
-    sign_project(folder, role="checked", name="Chris Checker", comment="NOT OK checks reviewed")
+    sign_project(folder, role="checked", name="Chris Checker", comment="failing checks reviewed")
     with pytest.raises(ProjectError, match="recalled from sources not yet confirmed") as e:
-        sign_project(folder, role="approved", name="Alex Approver", comment="NOT OK checks reviewed")
+        sign_project(folder, role="approved", name="Alex Approver", comment="failing checks reviewed")
     assert "Amick" in str(e.value)

@@ -62,8 +62,8 @@ def test_an_edited_summary_digit_is_named_not_called_markup(project, tmp_path):
     html = _package(project).read_text(encoding="utf-8")
     box = html.index('<div class="lc-summary">')
     cell = html.index("<td>", html.index("<th>Checks</th>", box))
-    shown = html[cell + 4:html.index("</td>", cell)]            # "6 OK, 3 NOT OK"
-    ok = shown.split(" OK")[0]
+    shown = html[cell + 4:html.index("</td>", cell)]            # "6 hold, 3 fail"
+    ok = shown.split(" hold")[0]
     edited = shown.replace(ok, str(int(ok) + 1), 1)
     tampered = tmp_path / "tampered.html"
     tampered.write_text(html[:cell + 4] + edited + html[cell + 4 + len(shown):], encoding="utf-8")

@@ -24,7 +24,7 @@ from latticecalc.project.signoff import (
 from latticecalc.project.signoff.revisions import check_changes, shown_result_changes
 
 CHECKER = "Chris Checker"
-RESOLVED = "NOT OK checks reviewed: accepted for this test"
+RESOLVED = "failing checks reviewed: accepted for this test"
 
 
 def _package(folder):
@@ -62,13 +62,13 @@ def _content(checks, results):
 
 
 def test_compare_lists_verdict_and_utilisation_changes_and_hides_unchanged_ones():
-    old = _content([("a", "NOT OK", "1.09"), ("b", "OK", "4.34"), ("c", "OK", "0.98")],
+    old = _content([("a", "FAILS", "1.09"), ("b", "HOLDS", "4.34"), ("c", "HOLDS", "0.98")],
                    [("r1", "4.34 Hz", 4.3401), ("r2", "12 mm", 12.0)])
-    new = _content([("a", "NOT OK", "1.12"), ("b", "OK", "4.34"), ("c", "NOT OK", "1.02")],
+    new = _content([("a", "FAILS", "1.12"), ("b", "HOLDS", "4.34"), ("c", "FAILS", "1.02")],
                    [("r1", "4.34 Hz", 4.3404), ("r2", "12.5 mm", 12.5)])
     verdicts, moved = check_changes(old, new)
-    assert verdicts == ["c: OK -> NOT OK (utilisation 0.98 -> 1.02)"]
-    assert moved == ["a: utilisation 1.09 -> 1.12 (still NOT OK)"]
+    assert verdicts == ["c: HOLDS -> FAILS (utilisation 0.98 -> 1.02)"]
+    assert moved == ["a: utilisation 1.09 -> 1.12 (still FAILS)"]
     assert shown_result_changes(old, new) == ["r2: 12 mm -> 12.5 mm"]    # r1 moved below its shown digits
 
 
@@ -85,10 +85,10 @@ def test_an_approval_over_failing_checks_states_its_qualification_on_the_cover(p
     export_project(project)
     html = _package(project).read_text(encoding="utf-8")
     standing = block_texts(html)["status-standing"]
-    assert "checks NOT OK" in standing and not standing.startswith("0 of")
+    assert "checks fail" in standing and not standing.startswith("0 of")
     assert "approved by Alex Approver with the qualification: for prototype fabrication only" in standing
     assert verify_package(_package(project)).ok
     tampered = tmp_path / "tampered.html"
-    tampered.write_text(html.replace(standing.split(";")[0], "0 of 9 checks NOT OK", 1), encoding="utf-8")
+    tampered.write_text(html.replace(standing.split(";")[0], "0 of 9 checks fail", 1), encoding="utf-8")
     report = verify_package(tampered)
     assert any(p.startswith("title block: the standing reads '0 of 9") for p in report.problems), report.text()

@@ -37,8 +37,8 @@ from latticecalc.project.signoff.verify import read_embedded
 PREPARER = "Pat Preparer"
 CHECKER = "Chris Checker"
 APPROVER = "Alex Approver"
-RESOLVED = "NOT OK checks reviewed: accepted for this test"
-QUALIFIED = "for prototype fabrication only"   # an approval over NOT OK checks states its limit
+RESOLVED = "failing checks reviewed: accepted for this test"
+QUALIFIED = "for prototype fabrication only"   # an approval over failing checks states its limit
 INPUT = "lattice.strut_diameter"
 
 
@@ -103,8 +103,8 @@ def test_status_follows_preliminary_checked_approved(project):
     with pytest.raises(ProjectError, match="must not be the preparer"):
         sign_project(project, role="checked", name=PREPARER, comment=RESOLVED)
     failing = [r["id"] for r in json.loads(pkg.with_suffix(".json").read_text())["results"] if r.get("ok") is False]
-    if failing:  # a NOT OK check needs the checker's word on it
-        with pytest.raises(InputError, match="NOT OK"):
+    if failing:  # a failing check needs the checker's word on it
+        with pytest.raises(InputError, match="checks fail"):
             sign_project(project, role="checked", name=CHECKER)
     sign_project(project, role="checked", name=CHECKER, comment=RESOLVED)
     sign_project(project, role="approved", name=APPROVER, comment=RESOLVED, qualification=QUALIFIED)

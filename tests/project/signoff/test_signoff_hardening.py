@@ -1,8 +1,8 @@
 """Failures found by testers of the review cycle, each reproduced here.
 
-* a resealed package whose checks summary and summary box were flipped to OK passed
+* a resealed package whose checks summary and summary box were flipped to HOLDS passed
   ``verify --keys`` (the keyed sign-offs did not cover what the reader sees);
-* executed notebooks edited after the run (NOT OK flipped to OK) were exported and signed;
+* executed notebooks edited after the run (FAILS flipped to HOLDS) were exported and signed;
 * a checker named like the preparer (look-alike letters, spacing, dots, invisible characters)
   was accepted, and one key signed prepared, checked and approved under three names;
 * an emptied or truncated review file let ``sign checked`` through with a comment open.
@@ -37,8 +37,8 @@ from latticecalc.sheet.display import RECORD_MIME
 PREPARER = "Dr. Pat Preparer"
 CHECKER = "Chris Checker"
 APPROVER = "Alex Approver"
-RESOLVED = "NOT OK checks reviewed: accepted for this test"
-QUALIFIED = "for prototype fabrication only"   # an approval over NOT OK checks states its limit
+RESOLVED = "failing checks reviewed: accepted for this test"
+QUALIFIED = "for prototype fabrication only"   # an approval over failing checks states its limit
 _DATA = re.compile(r'(<script type="application/json" id="lc-package-data">)(.*?)(</script>)', re.DOTALL)
 
 
@@ -75,17 +75,17 @@ def test_resealed_package_with_flipped_verdicts_fails_verify_by_name(project, tm
     pkg = package_of(project)
     assert verify_package(pkg, keys=folder).ok
     html = pkg.read_text(encoding="utf-8")
-    assert 'lc-verdict-notok"><strong>NOT OK</strong>' in html  # the quick project has failing checks
+    assert 'lc-verdict-notok"><strong>FAILS</strong>' in html  # the quick project has failing checks
 
     head, rest = html.split('<section id="checks">', 1)
     table, tail = rest.split("</section>", 1)
-    table = table.replace('<td class="lc-verdict-notok"><strong>NOT OK</strong>',
-                          '<td class="lc-verdict-ok"><strong>OK</strong>')
+    table = table.replace('<td class="lc-verdict-notok"><strong>FAILS</strong>',
+                          '<td class="lc-verdict-ok"><strong>HOLDS</strong>')
     flipped = head + '<section id="checks">' + table + "</section>" + tail
     start = flipped.index('<div class="lc-summary">')
     end = flipped.index("</div>", flipped.index("</table>", start)) + len("</div>")
     box = flipped[start:end]
-    box = re.sub(r"\d+ OK, \d+ NOT OK", "13 OK, 0 NOT OK", box).replace("(NOT OK)", "(OK)")
+    box = re.sub(r"\d+ hold, \d+ fail", "13 hold, 0 fail", box).replace("(FAILS)", "(HOLDS)")
     tampered = tmp_path / "tampered.html"
     tampered.write_text(reseal(flipped[:start] + box + flipped[end:]), encoding="utf-8")
 
@@ -114,7 +114,7 @@ def test_a_keyed_signoff_signs_the_displayed_document_and_the_status_it_gives(pr
 
 
 def _flip_coverage_verdicts(project: Path) -> list[str]:
-    """Turn the NOT OK checks of the executed coverage notebook into OK, as a hand edit would."""
+    """Turn the failing checks of the executed coverage notebook into holding ones, as a hand edit would."""
     path = project / "out" / EXECUTED_DIR / "70_coverage.ipynb"
     nb = nbformat.read(str(path), as_version=4)
     flipped = []
@@ -124,7 +124,7 @@ def _flip_coverage_verdicts(project: Path) -> list[str]:
             for step in rec.get("steps", []):
                 flip(step)
         elif rec.get("kind") == "check" and rec.get("ok") is False:
-            rec["ok"], rec["verdict"] = True, "OK"
+            rec["ok"], rec["verdict"] = True, "HOLDS"
             flipped.append(rec["id"])
 
     for cell in nb.cells:
@@ -186,17 +186,21 @@ def test_a_verdict_is_judged_from_its_demand_and_limit_as_the_sheet_judges_it():
 
     def check(**kw):
         base = {"id": "c", "sense": "max", "demand": 2.0, "limit": 4.0, "utilisation": 0.5, "ok": True,
-                "verdict": "OK"}
+                "verdict": "HOLDS"}
         return {"checks": [base | kw]}
 
     assert check_problems(check()) == []
     assert check_problems(check(demand=-0.02, limit=10.0, sense="min", utilisation="inf", ok=False,
-                                verdict="NOT OK")) == []  # a loss that is negative never reaches the limit
-    assert check_problems(check(demand="nan", utilisation="nan", ok=False, verdict="NOT OK")) == []
-    assert check_problems(check(demand=8.0, utilisation=2.0))  # OK stated, utilisation 2
+                                verdict="FAILS")) == []  # a loss that is negative never reaches the limit
+    assert check_problems(check(demand="nan", utilisation="nan", ok=False, verdict="FAILS")) == []
+    assert check_problems(check(demand=8.0, utilisation=2.0))  # HOLDS stated, utilisation 2
     assert check_problems(check(demand=8.0))  # utilisation not the demand's
+    assert check_problems(check(verdict="FAILS"))
+    assert check_problems(check(demand=4.0, utilisation=1.0, ok=True)) == []  # at the limit: holds
+    # a package made before today's verdict words is judged in its own words
+    assert check_problems(check(verdict="OK")) == []
     assert check_problems(check(verdict="NOT OK"))
-    assert check_problems(check(demand=4.0, utilisation=1.0, ok=True)) == []  # at the limit: OK
+    assert check_problems(check(verdict="HOLDS", utilisation=2.0, demand=8.0))
 
 
 # --- 6. role separation ------------------------------------------------------------------------

@@ -17,6 +17,7 @@ from latticecalc.project.export.html import PackageExtras, render_package
 from latticecalc.project.project import Project, open_project
 from latticecalc.project.state import EXECUTED_DIR, stale_files
 from latticecalc.sheet.render import check_measure_text
+from latticecalc.sheet.step import checks_tally
 
 PACKAGE_FORMAT = "latticecalc-package"
 PACKAGE_FORMAT_VERSION = 1
@@ -98,8 +99,7 @@ def summary_record(project: Project, doc: SheetDocument) -> dict | None:
             rows.append({"label": label, "text": text, "step": rec["id"]})
     checks = [r for r in by_id.values() if r["kind"] == "check"]
     if checks:
-        failing = sum(not c["ok"] for c in checks)
-        rows.append({"label": "Checks", "text": f"{len(checks) - failing} OK, {failing} NOT OK", "step": ""})
+        rows.append({"label": "Checks", "text": checks_tally(checks), "step": ""})
         worst = max(checks, key=lambda c: float(c["utilisation"]))
         rows.append({"label": "Governing check", "step": worst["id"],
                      "text": f"{worst['description']}: {check_measure_text(worst)} ({worst['verdict']})"})

@@ -24,6 +24,7 @@ from html.parser import HTMLParser
 from typing import Any
 
 from latticecalc.sheet.render import CHECKS_LAYOUT, check_measure_text, check_relation_text, checks_summary_groups
+from latticecalc.sheet.step import checks_tally, verdict_words
 
 #: A utilisation this close to 1 is not re-judged (the fingerprint keeps 10 significant figures).
 UTILISATION_RTOL = 1e-8
@@ -96,6 +97,7 @@ def _utilisation(check: dict) -> float:
 def check_problems(content: dict) -> list[str]:
     """Fingerprinted checks whose verdict does not follow from their own demand and limit."""
     out = []
+    words = verdict_words(_dicts(content.get("checks")))
     for c in _dicts(content.get("checks")):
         u = _utilisation(c)
         stated = _float(c.get("utilisation"))
@@ -107,8 +109,8 @@ def check_problems(content: dict) -> list[str]:
                                   and math.isclose(u, stated, rel_tol=UTILISATION_RTOL, abs_tol=1e-12))):
             why = f"the utilisation stated ({c.get('utilisation')}) is not demand and limit's ({u:.6g})"
         elif abs(u - 1.0) > UTILISATION_RTOL and c.get("ok") is not (u <= 1.0):
-            why = f"utilisation {u:.3g} gives {'OK' if u <= 1.0 else 'NOT OK'}"
-        if not why and c.get("verdict") != ("OK" if c.get("ok") is True else "NOT OK"):
+            why = f"utilisation {u:.3g} gives {words[u <= 1.0]}"
+        if not why and c.get("verdict") != words[c.get("ok") is True]:
             why = f"the verdict '{c.get('verdict')}' is not the one its result gives"
         if why:
             out.append(f"check {c.get('id')}: the verdict '{c.get('verdict')}' does not follow from its demand "
@@ -151,8 +153,7 @@ def expected_checks_rows(content: dict, layout: str = CHECKS_LAYOUT) -> list[tup
 def _row_text(row: dict, results: dict[str, dict], checks: dict[str, dict]) -> str | None:
     rule = row.get("rule")
     if rule == "checks":
-        failing = sum(not c.get("ok") for c in checks.values())
-        return f"{len(checks) - failing} OK, {failing} NOT OK"
+        return checks_tally(list(checks.values()))
     if rule == "governing":
         if not checks:
             return None

@@ -21,7 +21,7 @@ Rules ``sign_project`` enforces:
 * with ``signoff/trusted-keys.toml``: a listed key, in the name of its person, for a role the
   list allows;
 * ``approved`` needs a current ``checked`` sign-off;
-* ``checked`` or ``approved`` with a NOT OK check needs a comment saying how it was resolved.
+* ``checked`` or ``approved`` with a failing check needs a comment saying how it was resolved.
 * ``checked`` or ``approved`` is refused while a verdict rests on a hand estimate alone (a
   ``*.preliminary`` result, e.g. band coverage with no computed complete gap).
 * ``approved`` is refused while a check relies on a source tagged ``from memory`` (the register of
@@ -200,7 +200,7 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
     name:
         Who signs.
     comment:
-        Free text (required when signing checked/approved with a NOT OK check).
+        Free text (required when signing checked/approved with a failing check).
     key:
         Optional Ed25519 private key file (``latticecalc key new``); the record is then signed.
     qualification:
@@ -282,11 +282,11 @@ def sign_project(folder: str | Path, *, role: str, name: str, comment: str = "",
                            hint="Confirm it numerically (raise the Bloch bands or revise the design) and rerun")
     failing = [r["id"] for r in content["results"] if r.get("ok") is False]
     if role in ("checked", "approved") and failing and not comment:
-        raise InputError("checks are NOT OK (" + ", ".join(failing) + "): say in a comment how this was resolved",
+        raise InputError("checks fail (" + ", ".join(failing) + "): say in a comment how this was resolved",
                          input_name="--comment")
     qualification = " ".join((qualification or "").split())
     if role == "approved" and failing and not qualification:
-        raise InputError(f"{len(failing)} check(s) are NOT OK (" + ", ".join(failing[:4])
+        raise InputError(f"{len(failing)} check(s) fail (" + ", ".join(failing[:4])
                          + (" …" if len(failing) > 4 else "") + "): an approval over a failing check must state "
                          "its qualification, which the package shows beside its status on the cover",
                          input_name="--qualification", expected="e.g. 'for prototype fabrication only'")

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 from typing import Any
 
+from latticecalc.sheet.step import EARLIER_VERDICTS, verdict_words
+
 
 def failing_checks(checks: Any) -> tuple[int, int]:
     """(failing, total) of the fingerprinted checks."""
@@ -17,13 +19,18 @@ def failing_checks(checks: Any) -> tuple[int, int]:
 
 
 def standing_text(checks: Any, approval: dict | None) -> str:
-    """``2 of 9 checks NOT OK; approved by A. Approver with the qualification: for prototype fabrication only``.
+    """``2 of 9 checks fail; approved by A. Approver with the qualification: for prototype fabrication only``.
 
     ``approval`` is the current ``approved`` sign-off record (None when there is none).
     """
     failing, total = failing_checks(checks)
-    parts = [f"{failing} of {total} checks NOT OK" if failing else (f"all {total} checks OK" if total else
-                                                                      "no checks")]
+    if verdict_words(checks) is EARLIER_VERDICTS:   # a package made before today's verdict words
+        parts = [f"{failing} of {total} checks NOT OK" if failing else (f"all {total} checks OK" if total else
+                                                                          "no checks")]
+    else:
+        parts = [f"{failing} of {total} check{'s' if total != 1 else ''} fail{'s' if failing == 1 else ''}"
+                 if failing else (f"all {total} checks hold" if total > 1 else
+                                  "the one check holds" if total == 1 else "no checks")]
     if approval is not None:
         qualification = str(approval.get("qualification", "") or "").strip()
         who = str(approval.get("name", ""))

@@ -293,7 +293,8 @@ class DesignedBand(CalcResult):
     method: str
 
 
-def designed_band(*, estimate: Mapping[str, pint.Quantity], gaps: Sequence[Any]) -> DesignedBand:
+def designed_band(*, estimate: Mapping[str, pint.Quantity], gaps: Sequence[Any], id_prefix: str = "coverage",
+                  what: str = "Designed band") -> DesignedBand:
     """Pick the designed band: the complete gap of the Bloch-wave dispersion nearest the hand estimate.
 
     Parameters
@@ -303,6 +304,9 @@ def designed_band(*, estimate: Mapping[str, pint.Quantity], gaps: Sequence[Any])
     gaps:
         Complete gaps from :func:`latticecalc.physics.bloch.dispersion` (each with ``low``, ``high``).
         Empty: the hand estimate is used, and the sheet says so.
+    id_prefix, what:
+        Prefix of the step ids and the band's name in their descriptions (a graded panel's zone k:
+        ``coverage.zone<k>``, ``"Zone k's designed band"``).
     """
     lo, hi = estimate["f_low"].to("Hz"), estimate["f_high"].to("Hz")
     centre = (lo + hi) / 2
@@ -313,11 +317,11 @@ def designed_band(*, estimate: Mapping[str, pint.Quantity], gaps: Sequence[Any])
     else:
         low, high = lo, hi
         method = "hand estimate (no complete gap was computed)"
-    steps = (quantity_step(id="coverage.band-low", description="Designed band, lower edge", value=low, unit="Hz",
+    steps = (quantity_step(id=f"{id_prefix}.band-low", description=f"{what}, lower edge", value=low, unit="Hz",
                            method=method),
-             quantity_step(id="coverage.band-high", description="Designed band, upper edge", value=high, unit="Hz",
+             quantity_step(id=f"{id_prefix}.band-high", description=f"{what}, upper edge", value=high, unit="Hz",
                            method=method),
-             quantity_step(id="coverage.preliminary", description="Coverage rests on the hand estimate alone "
+             quantity_step(id=f"{id_prefix}.preliminary", description="Coverage rests on the hand estimate alone "
                            "(1: preliminary, cannot be signed as checked; 0: confirmed by the computed gap)",
                            value=Q_(0 if gap is not None else 1, ""), sig=1, method=method))
     return DesignedBand(value={"low": low, "high": high}, steps=steps, low=low, high=high, method=method,

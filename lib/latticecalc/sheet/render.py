@@ -371,10 +371,14 @@ def table_html(rec: dict) -> str:
             f"<table><thead><tr>{head}</tr></thead><tbody>{body}</tbody></table></div>")
 
 
+#: A summary value too long for the output column reads as text: left-aligned, regular weight.
+_LONG = ' class="lc-long"'
+
+
 def summary_html(rec: dict) -> str:
     """The summary box: label, result, and a link to the step."""
     rows = "".join(
-        f"<tr><th>{escape(r['label'])}</th><td>{escape(r['text'])}</td><td>"
+        f"<tr><th>{escape(r['label'])}</th><td{_LONG if len(r['text']) > 24 else ''}>{escape(r['text'])}</td><td>"
         + (f'<a href="#step-{escape(r["step"])}">{escape(r["step"])}</a>' if r["step"] else "")
         + "</td></tr>" for r in rec["rows"])
     return (f'<div class="lc-summary"><div class="lc-result-title">{escape(rec["title"])}</div>'

@@ -6,6 +6,7 @@ registries cannot be combined.  Import ``ureg`` and ``Q_`` from :mod:`latticecal
 
 from __future__ import annotations
 
+import functools
 import math
 import os
 import re
@@ -46,7 +47,13 @@ DIMENSIONS = {
 }
 
 
+@functools.lru_cache(maxsize=512)
 def _dimensionality(expected: str) -> pint.util.UnitsContainer:
+    """The dimensionality a dimension name or unit text stands for.
+
+    Cached: the same few texts are asked for thousands of times in a study, and parsing them was most
+    of a hand evaluation's unit handling.
+    """
     text = DIMENSIONS.get(expected, expected)
     if text == "":
         return ureg.dimensionless.dimensionality

@@ -79,3 +79,24 @@ def test_check_utilisation_and_verdict():
     bad = check(id="t.bad", description="safety factor", demand=Q_(1.5, ""), limit=Q_(3, ""), sense="min")
     assert not bad.ok and abs(bad.utilisation - 2.0) < 1e-12 and bad.verdict() == "FAILS"
     assert bad.to_dict()["verdict"] == "FAILS"
+
+
+def test_a_copy_of_an_evaluated_step_with_another_result_or_values_is_checked_again():
+    """evaluate() skips re-evaluating the formula it just evaluated; a copy that changes the result or the
+    values (``dataclasses.replace``) is checked as any other step is (the kit's rule: the result shown is
+    the formula's value)."""
+    import dataclasses
+
+    import pytest
+
+    from latticecalc.errors import LatticeCalcError
+
+    a, b = sp.symbols("a b")
+    f = Formula("y", a * b)
+    step = evaluate(f, id="t.y", description="y", values={"a": Q_(2.0, "m"), "b": Q_(3.0, "m")}, unit="m^2")
+    assert step.result.to("m^2").magnitude == 6.0
+    with pytest.raises(LatticeCalcError, match="result"):
+        dataclasses.replace(step, result=Q_(7.0, "m^2"))
+    with pytest.raises(LatticeCalcError):
+        dataclasses.replace(step, values={"a": Q_(2.0, "m"), "b": Q_(4.0, "m")})
+    assert dataclasses.replace(step, description="same numbers").result == step.result

@@ -9,6 +9,7 @@ and says whether it HOLDS or FAILS, with a utilisation.  Physics functions build
 
 from __future__ import annotations
 
+import builtins
 import warnings
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -126,6 +127,11 @@ class Step:
     source: Source | None = None
     sig: int = 4
     note: str = ""
+    #: Set only by :func:`evaluate`, whose result is the formula's value by construction, to the identities
+    #: of that result and those values: the check that re-evaluates the formula (:func:`_check_formula_result`)
+    #: would compute the same value again.  A copy with another result or other values
+    #: (``dataclasses.replace``) no longer matches them and is checked.
+    _evaluated: tuple = field(default=(), repr=False, compare=False)
 
     kind = "step"
 
@@ -137,7 +143,7 @@ class Step:
         if np.iscomplexobj(self.result.magnitude):
             raise InputError("a step's result must be real", input_name=self.id, expected="a real Quantity",
                              got=repr(self.result))
-        if self.formula is not None:
+        if self.formula is not None and self._evaluated != (id(self.result), id(self.values)):
             _check_formula_result(self)
 
     @property
@@ -326,7 +332,7 @@ def evaluate(formula: Formula, *, id: str, description: str, values: Mapping[str
     result = check_dimension(result, name=id, expected=unit).to(unit)
     used = {k: values[k] for k in formula.keys}
     return Step(id=id, description=description, result=result, formula=formula, values=used,
-                source=source, sig=sig, note=note)
+                source=source, sig=sig, note=note, _evaluated=(builtins.id(result), builtins.id(used)))
 
 
 def quantity_step(*, id: str, description: str, value: Any, unit: str = "", method: str = "",

@@ -19,8 +19,40 @@ from latticecalc.errors import DimensionError, InputError
 
 _CACHE = os.environ.get("LATTICECALC_UNIT_CACHE", ":auto:")
 
+class _Registry(pint.UnitRegistry):
+    """pint's registry, with each unit text parsed once.
+
+    The kit converts to the same few unit texts (``"Hz"``, ``"mm"``, ``"kg/m^3"``) thousands of times in a
+    design study; pint parses the text again on every call, which was most of a hand evaluation's unit
+    handling.  The parsed container is immutable, so one copy serves every caller; defining a unit clears
+    the memo.
+    """
+
+    _MEMO_SIZE = 4096
+
+    def parse_units_as_container(self, input_string, as_delta=None, case_sensitive=None):
+        """As pint's, remembered by its arguments."""
+        memo = self.__dict__.setdefault("_lc_parsed", {})
+        key = (input_string, as_delta, case_sensitive)
+        try:
+            return memo[key]
+        except KeyError:
+            pass
+        except TypeError:          # an argument that cannot be a key: parse without remembering
+            return super().parse_units_as_container(input_string, as_delta, case_sensitive)
+        out = super().parse_units_as_container(input_string, as_delta, case_sensitive)
+        if len(memo) < self._MEMO_SIZE:
+            memo[key] = out
+        return out
+
+    def define(self, definition):
+        """As pint's; forgets the parsed unit texts, which a new definition may change."""
+        self.__dict__.get("_lc_parsed", {}).clear()
+        return super().define(definition)
+
+
 #: The shared registry.  The unit-definition cache keeps start-up fast after the first import.
-ureg = pint.UnitRegistry(cache_folder=_CACHE or None)
+ureg = _Registry(cache_folder=_CACHE or None)
 ureg.formatter.default_format = "~P"
 ureg.define("microinch = 1e-6 * inch = µin")
 Q_ = ureg.Quantity

@@ -80,3 +80,17 @@ def test_significant_figures(x, sig, text):
 def test_format_quantity_is_short():
     assert format_quantity(Q_(259.42361, "Hz")) == "259.4 Hz"
     assert isinstance(Q_(1, "Hz"), pint.Quantity)
+
+
+def test_the_registry_remembers_parsed_unit_texts_and_forgets_them_on_a_new_definition():
+    """Parsing is remembered (same container back) and a definition clears the memo (`common practice`
+    for a cache: invalidate on change); conversions agree with pint's own (pint documentation, 0.25)."""
+    from latticecalc.units import _Registry
+
+    r = _Registry(cache_folder=None)
+    first = r.parse_units_as_container("kg/m^3")
+    assert r.parse_units_as_container("kg/m^3") is first
+    assert r.Quantity(1.0, "kg/m^3").to("g/cm^3").magnitude == pytest.approx(1e-3, rel=1e-15)
+    r.define("lcspan = 3 * metre")
+    assert r.__dict__["_lc_parsed"] == {}
+    assert r.Quantity(2.0, "lcspan").to("m").magnitude == pytest.approx(6.0, rel=1e-15)

@@ -30,12 +30,14 @@ def _fresh_demo(root: Path) -> Path:
     main = next(d for d in demo_projects() if d.main)
     folder = new_project(root / main.folder, template=main.template)
     _overlay(demo_root() / main.folder, folder)
-    # the main demo may read other demo projects' packages: build those first (not timed)
+    # the main demo may read the packages of demo projects listed before it: build those first (not timed);
+    # those listed after it (the design study) read the main one and are not needed here
     for other in demo_projects():
-        if other.folder != main.folder:
-            f = new_project(root / other.folder, template=other.template)
-            _overlay(demo_root() / other.folder, f)
-            export_project(f, run=True, progress=None)
+        if other.folder == main.folder:
+            break
+        f = new_project(root / other.folder, template=other.template)
+        _overlay(demo_root() / other.folder, f)
+        export_project(f, run=True, progress=None)
     return folder
 
 

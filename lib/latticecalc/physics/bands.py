@@ -18,6 +18,14 @@ Method (each step is on the sheet with its source):
   together, computed from the mode shape: 0.690 clamped–clamped, 0.811 pinned–pinned) and
   m₁ everything else in the cell: the frame, and the (1 − μ) share of the struts that moves with
   the nodes.
+* **Mass at mid-span** (``added_mass`` M_a per lattice strut, a sphere threaded on it): the strut's
+  first mode and its resonating mass by Rayleigh's method with the static deflection shape under a
+  central load (Rao 2017, §8.7): clamped–clamped f = √(192 EI / (L³ (M_a + 13 m_s/35))) / 2π,
+  pinned–pinned f = √(48 EI / (L³ (M_a + 17 m_s/35))) / 2π, and per strut the participating mass
+  (M_a + m_s/2)² / (M_a + 13 m_s/35), resp. (M_a + 5 m_s/8)² / (M_a + 17 m_s/35), times the direction
+  weight; the host mass m₁ is the rest of the cell, spheres included.  The sphere's rotary inertia
+  does not enter the symmetric first mode; its length along the strut (a stiff stretch at mid-span)
+  is neglected.  With no added mass the exact Euler–Bernoulli path above is used unchanged.
 * **Bragg frequency** f_B = c / (2a), with c = √(E*/ρ*) the long-wave speed of the homogenised
   panel (Brillouin 1946): the frequency at which a half wavelength spans one cell, where periodic
   scattering opens a band.  Whichever of f_low and f_B is lower is the mechanism that acts first.
@@ -40,8 +48,14 @@ from latticecalc.physics.beams import (
     AREA_CIRCLE,
     EULER_BERNOULLI_FREQUENCY,
     FLEXIBLE_LENGTH,
+    MIDSPAN_MASS_FREQUENCY_CC,
+    MIDSPAN_MASS_FREQUENCY_PP,
+    MIDSPAN_MASS_RESONATING_CC,
+    MIDSPAN_MASS_RESONATING_PP,
     NODE_ZONE_SOURCE,
     RAO_2017,
+    RAYLEIGH_MIDSPAN_CC,
+    RAYLEIGH_MIDSPAN_PP,
     SECOND_MOMENT_CIRCLE,
     SECTION_SOURCE,
     eigenvalue,
@@ -85,6 +99,10 @@ _w = sp.Symbol("w")
 #: averaged over three axes, since Σ_d (d·e)² = 1) [derived].
 RESONATING_MASS = Formula("m_2", _w * _mu * _ms)
 HOST_MASS = Formula("m_1", _mh + (1 - _w * _mu) * _ms)
+_Na, _Ma = sp.symbols("N M_a")
+#: With a mass M_a at mid-span of each of the N lattice struts of a cell: everything in the cell that does not
+#: resonate, the frame, the struts and the spheres less the resonating mass m₂.
+HOST_MASS_ADDED = Formula("m_1", _mh + _ms + _Na * _Ma - _m2, latex_names={"M_a": r"M_\mathrm{a}"})
 UPPER_EDGE = Formula("f_high", _f0 * sp.sqrt(1 + _m2 / _m1), latex_names={"f_high": r"f_\mathrm{high}"})
 EFFECTIVE_DENSITY = Formula("rho_eff", (_m1 + _m2) / _a**3, latex_names={"rho_eff": r"\rho^*"})
 WAVE_SPEED = Formula("c", sp.sqrt(_Ee / _re), latex_names={"E_eff": "E^*", "rho_eff": r"\rho^*"})
@@ -233,6 +251,21 @@ def _kernel(*, L, Ltot, d, E, rho, m_host, a, mu, lam, w):
     return f0, fh
 
 
+def _kernel_added(*, L, Ltot, d, E, rho, m_host, n_struts, added, cc, w):
+    """The band formulas with a mass ``added`` at mid-span of each strut, vectorised (same Formula objects)."""
+    area = AREA_CIRCLE.evaluate({"d": d})
+    second = SECOND_MOMENT_CIRCLE.evaluate({"d": d})
+    freq, res = ((MIDSPAN_MASS_FREQUENCY_CC, MIDSPAN_MASS_RESONATING_CC) if cc
+                 else (MIDSPAN_MASS_FREQUENCY_PP, MIDSPAN_MASS_RESONATING_PP))
+    one = STRUT_MASS.evaluate({"rho": rho, "A": area, "L_tot": L})
+    f0 = freq.evaluate({"E": E, "I": second, "L": L, "M_a": added, "m_s": one}).to("Hz")
+    ms = STRUT_MASS.evaluate({"rho": rho, "A": area, "L_tot": Ltot})
+    m2 = res.evaluate({"N": n_struts, "w": w, "M_a": added, "m_s": ms / n_struts})
+    m1 = HOST_MASS_ADDED.evaluate({"m_h": m_host, "m_s": ms, "N": n_struts, "M_a": added, "m_2": m2})
+    fh = UPPER_EDGE.evaluate({"f_0": f0, "m_2": m2, "m_1": m1}).to("Hz")
+    return f0, fh
+
+
 def _as_lengths(value, name):
     q = check_dimension(value, name=name, expected="length")
     q = Q_(np.atleast_1d(np.asarray(q.to("m").magnitude, dtype=float)), "m")
@@ -265,7 +298,7 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
                   effective_modulus, strut_weights=None, strut_directions=None, modulus_range=None,
                   modulus_tolerance=None,
                   diameter_tolerance=None, length_tolerance=None, density_tolerance=None, cluster_modes=(1, 2, 3),
-                  node_zone_length=None, id_prefix: str = "band") -> BandEstimate:
+                  node_zone_length=None, added_mass=None, id_prefix: str = "band") -> BandEstimate:
     """Expected stop band [f_low, f_high] of a strut lattice, with its fixity bracket and scatter.
 
     Parameters
@@ -303,6 +336,10 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
         pair per strut (N × 2); None for struts node to node.  The clamped–clamped modes are then
         those of the flexible length L − l₁ − l₂, and the lower edge is set by the strut with the
         longest flexible length (see :func:`latticecalc.physics.frame_fe.cell_node_zones`).
+    added_mass:
+        Mass added at mid-span of every resonating strut [mass] (a sphere threaded on it), or None / zero
+        for none.  The strut modes and the mass split then follow Rayleigh's method with the static
+        deflection shape (module docstring); with none, the exact Euler–Bernoulli path is unchanged.
     id_prefix:
         Prefix of the step ids.
 
@@ -340,6 +377,14 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
                              expected="(low, high)", got=f"({format_quantity(e_lo)}, {format_quantity(e_hi)})")
     t_mod = (half_width(E, modulus_tolerance, name="modulus_tolerance") / E).to("").magnitude
     e_lo, e_hi = e_lo * (1 - t_mod), e_hi * (1 + t_mod)
+    Ma = None
+    if added_mass is not None:
+        Ma = check_dimension(added_mass, name="added_mass", expected="mass").to("g")
+        if not (np.isfinite(Ma.magnitude) and Ma.magnitude >= 0):
+            raise InputError("the added strut mass cannot be negative", input_name="added_mass",
+                             expected=">= 0 kg", got=format_quantity(added_mass))
+        if Ma.magnitude == 0:
+            Ma = None                     # no added mass: today's path, to the last bit
     zones = _zone_sums(node_zone_length, lengths.magnitude.size)
     flex = lengths.magnitude - zones.sum(axis=1)
     if np.any(flex <= 0):
@@ -368,7 +413,23 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
     w_dir = quantity_step(id=f"{p}.direction-weight", description="Direction weight w: share of the struts' "
                           "bending that the host motion drives", value=Q_(w_val, ""), sig=4, method=w_method,
                           source=DIRECTION_WEIGHT_SOURCE)
-    steps += [area, second, ms, mu["clamped-clamped"].steps[0], mu["pinned-pinned"].steps[0], w_dir]
+    if Ma is None:
+        steps += [area, second, ms, mu["clamped-clamped"].steps[0], mu["pinned-pinned"].steps[0], w_dir]
+    else:
+        n_struts = Q_(float(weights.sum()), "")
+        ma_step = quantity_step(id=f"{p}.added-mass", description="Mass added at mid-span of every lattice strut "
+                                "(a sphere threaded on it)", value=Ma, unit="g", method="lattice.added_mass",
+                                source=COMMON_PRACTICE,
+                                note="The sphere's rotary inertia does not enter the first mode (symmetric: the "
+                                "mid-span does not turn); its length along the strut, a stiff stretch at mid-span, "
+                                "is neglected (the strut is taken uniform under it).")
+        n_step = quantity_step(id=f"{p}.strut-count", description="Lattice struts per cell, N (a strut on a face "
+                               "counts by its share in the cell)", value=n_struts, unit="", sig=4,
+                               method="sum of the strut shares", source=COMMON_PRACTICE)
+        each = quantity_step(id=f"{p}.strut-mass-each", description="Mass of one lattice strut, node to node "
+                             "(mean over the cell's struts), for the mass split", value=(ms.result / n_struts).to("g"),
+                             unit="g", method="m_s / N", source=COMMON_PRACTICE)
+        steps += [area, second, ms, w_dir, ma_step, n_step, each]
     L_f = L_long
     if zoned:
         lf = evaluate(FLEXIBLE_LENGTH, id=f"{p}.strut-flexible-length", unit="mm", source=NODE_ZONE_SOURCE,
@@ -384,9 +445,41 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
         steps += [lf, f_nn]
 
     out = {}
+    if Ma is not None:
+        bare = evaluate(EULER_BERNOULLI_FREQUENCY, id=f"{p}.f1-cc-bare", unit="Hz", source=RAO_2017,
+                        description="For comparison: the same strut without its mid-span mass, clamped–clamped",
+                        values={"lambda_n": lam["clamped-clamped"], "L": L_f, "E": E, "I": second.result,
+                                "rho": rho, "A": area.result})
+        steps.append(bare)
     for fix in FIXITIES:
         t = _short(fix)
         cc = fix == "clamped-clamped"
+        if Ma is not None:
+            L_fix = L_f if cc else L_long
+            one = evaluate(STRUT_MASS, id=f"{p}.strut-mass-{t}", unit="g", source=COMMON_PRACTICE,
+                           description=("Mass of the longest lattice strut over its bending length"
+                                        + (" between the node zones" if zoned and cc else "") + f" ({fix})"),
+                           values={"rho": rho, "A": area.result, "L_tot": L_fix})
+            f0 = evaluate(MIDSPAN_MASS_FREQUENCY_CC if cc else MIDSPAN_MASS_FREQUENCY_PP, id=f"{p}.f1-{t}",
+                          unit="Hz", source=RAYLEIGH_MIDSPAN_CC if cc else RAYLEIGH_MIDSPAN_PP,
+                          description=f"First bending mode of the lattice strut with its mid-span mass, {fix} "
+                          "(Rayleigh, static deflection shape)"
+                          + (" (nominal lower edge)" if cc else " (lower bound of the fixity bracket)"),
+                          values={"E": E, "I": second.result, "L": L_fix, "M_a": Ma, "m_s": one.result})
+            m2 = evaluate(MIDSPAN_MASS_RESONATING_CC if cc else MIDSPAN_MASS_RESONATING_PP, id=f"{p}.m2-{t}",
+                          unit="g", source=RAYLEIGH_MIDSPAN_CC if cc else RAYLEIGH_MIDSPAN_PP,
+                          description=f"Resonating mass m₂: participating mass of the struts with their mid-span "
+                          f"masses moving across the host motion ({fix})",
+                          values={"N": n_struts, "w": w_dir.result, "M_a": Ma, "m_s": each.result})
+            m1 = evaluate(HOST_MASS_ADDED, id=f"{p}.m1-{t}", unit="g", source=HUANG_SUN_HUANG_2009,
+                          description="Host mass m₁: frame, struts and mid-span masses less the resonating mass",
+                          values={"m_h": mh, "m_s": ms.result, "N": n_struts, "M_a": Ma, "m_2": m2.result})
+            fh = evaluate(UPPER_EDGE, id=f"{p}.f-high-{t}", unit="Hz", source=HUANG_SUN_HUANG_2009,
+                          description=f"Upper band edge, mass-in-mass model ({fix})",
+                          values={"f_0": f0.result, "m_2": m2.result, "m_1": m1.result})
+            steps += [one, f0, m2, m1, fh]
+            out[fix] = (f0.result, fh.result, m2.result, m1.result)
+            continue
         f0 = evaluate(EULER_BERNOULLI_FREQUENCY, id=f"{p}.f1-{t}", unit="Hz", source=RAO_2017,
                       description=(f"First bending mode of the lattice strut over its flexible length between "
                                    f"rigid node zones, {fix}" if zoned and cc else
@@ -430,8 +523,12 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
     ranges = {}
     for fix in FIXITIES:
         L_c = (L_node * scale_c - Q_(z_flex.sum() * 1e3, "mm")) if fix == "clamped-clamped" else L_long * scale_c
-        f0_c, fh_c = _kernel(L=L_c, Ltot=L_tot * scale_c, d=d_c, E=E_c, rho=rho_c, m_host=mh,
-                             a=a, mu=mu[fix].value, lam=lam[fix], w=w_dir.result)
+        if Ma is None:
+            f0_c, fh_c = _kernel(L=L_c, Ltot=L_tot * scale_c, d=d_c, E=E_c, rho=rho_c, m_host=mh,
+                                 a=a, mu=mu[fix].value, lam=lam[fix], w=w_dir.result)
+        else:
+            f0_c, fh_c = _kernel_added(L=L_c, Ltot=L_tot * scale_c, d=d_c, E=E_c, rho=rho_c, m_host=mh,
+                                       n_struts=n_struts, added=Ma, cc=fix == "clamped-clamped", w=w_dir.result)
         ranges[fix] = (f0_c.magnitude.min(), f0_c.magnitude.max(), fh_c.magnitude.min(), fh_c.magnitude.max())
     lo_min, lo_max, hi_min, hi_max = ranges["clamped-clamped"]
     scatter_text = (f"dynamic modulus {format_quantity(e_lo.to('MPa'))} to {format_quantity(e_hi.to('MPa'))}"
@@ -471,6 +568,25 @@ def band_estimate(*, strut_lengths, strut_diameter, youngs_modulus, density, cel
             L_m = Lm - zm if fix == "clamped-clamped" else Lm
             label = format_quantity(Q_(Lm, "mm")) + (f" (flexible {format_quantity(Q_(L_m, 'mm'))})"
                                                      if zm > 0 and fix == "clamped-clamped" else "")
+            if Ma is not None:
+                # with a mid-span mass: mode 1 of either fixity by Rayleigh's formula; mode 2 (antisymmetric,
+                # the mid-span at rest, the sphere's rotary inertia neglected) as the bare strut's; the other
+                # modes and clamped–pinned have no hand formula with the mass here and are not listed
+                if fix == "clamped-pinned":
+                    continue
+                cc = fix == "clamped-clamped"
+                for m in cluster_modes:
+                    if m == 1:
+                        one = STRUT_MASS.evaluate({"rho": rho, "A": area.result, "L_tot": Q_(L_m, "mm")})
+                        f = (MIDSPAN_MASS_FREQUENCY_CC if cc else MIDSPAN_MASS_FREQUENCY_PP).evaluate(
+                            {"E": E, "I": second.result, "L": Q_(L_m, "mm"), "M_a": Ma, "m_s": one})
+                        cluster.append((label + ", with the mid-span mass", m, fix, f.to("Hz")))
+                    elif m == 2:
+                        lam_m = Q_(eigenvalue(supports=fix, mode=m), "")
+                        f = EULER_BERNOULLI_FREQUENCY.evaluate({"lambda_n": lam_m, "L": Q_(L_m, "mm"), "E": E,
+                                                                "I": second.result, "rho": rho, "A": area.result})
+                        cluster.append((label + ", mid-span at rest", m, fix, f.to("Hz")))
+                continue
             for m in cluster_modes:
                 lam_m = Q_(eigenvalue(supports=fix, mode=m), "")
                 f = EULER_BERNOULLI_FREQUENCY.evaluate({"lambda_n": lam_m, "L": Q_(L_m, "mm"), "E": E,
@@ -578,14 +694,18 @@ def cell_band_inputs(*, cell, lattice_material, frame_material=None, effective_m
 
 def band_estimate_for_cell(*, cell, lattice_material, frame_material=None, effective_modulus=None,
                            modulus_tolerance=None, diameter_tolerance=None, length_tolerance=None,
-                           density_tolerance=None, node_zones: str = "none", id_prefix: str = "band") -> BandEstimate:
+                           density_tolerance=None, node_zones: str = "none", added_mass=None,
+                           id_prefix: str = "band") -> BandEstimate:
     """:func:`band_estimate` for a cell: lattice struts resonate, the frame is host mass.
 
     The dynamic modulus of the lattice material is used, and its range over the service
     temperature (``modulus_range()``) is the material scatter.  Parameters as in
     :func:`cell_band_inputs` and :func:`band_estimate`; ``node_zones="rigid"`` gives the lattice
     struts rigid zones at the nodes of the infinite lattice
-    (:func:`latticecalc.physics.frame_fe.cell_node_zones`, shown on the sheet).
+    (:func:`latticecalc.physics.frame_fe.cell_node_zones`, shown on the sheet).  ``added_mass``
+    [mass] at mid-span of every lattice strut: default the cell's own (``cell.point_masses["lattice"]``,
+    the sphere the Bloch, panel and column models carry), none when it has none; ``Q_(0, "kg")``
+    for the bare struts.
     """
     from latticecalc.physics import frame_fe
 
@@ -597,10 +717,12 @@ def band_estimate_for_cell(*, cell, lattice_material, frame_material=None, effec
         zones = frame_fe.cell_node_zones(cell, group="lattice", id_prefix=f"{id_prefix}.node-zone")
         zone_lengths = zones.lengths[cell.group_mask("lattice")]
         zone_steps = zones.steps
+    if added_mass is None:
+        added_mass = getattr(cell, "point_masses", {}).get("lattice", (None,))[0]
     est = band_estimate(**inputs.arguments, modulus_tolerance=modulus_tolerance,
                         diameter_tolerance=diameter_tolerance,
                         length_tolerance=length_tolerance, density_tolerance=density_tolerance,
-                        node_zone_length=zone_lengths, id_prefix=id_prefix)
+                        node_zone_length=zone_lengths, added_mass=added_mass, id_prefix=id_prefix)
     return dataclasses.replace(est, steps=inputs.steps + zone_steps + est.steps)
 
 
@@ -610,7 +732,7 @@ def zone_band_estimates(*, cell, zoning, lattice_material, frame_material=None, 
 
     ``zoning`` a :class:`~latticecalc.physics.zoning.Zoning`; zone k's steps are under
     ``<id_prefix>.zone<k>``; ``kwargs`` as for :func:`band_estimate_for_cell` (tolerances, node zones).
-    Like the uniform estimate, it does not count a mass added at mid-span of the struts.
+    Each zone's estimate counts the zone's own mass at mid-span of its struts (its zone cell carries it).
     """
     out = []
     for k, z in enumerate(zoning.zones):

@@ -229,6 +229,30 @@ NODE_ZONE_SOURCE = Source(author="derived", title="rigid node zones: a strut bur
                           "is held over the length where the struts' surfaces part, (d_j + d_i cos θ)/(2 sin θ), "
                           "and bends over the flexible length between its zones", tag="derived")
 
+# A strut with a concentrated mass M_a at mid-span (a sphere threaded on it), by Rayleigh's method with the
+# static deflection shape under a central load as the mode shape (Rao 2017, §8.7): clamped–clamped
+# y = 4ξ²(3 − 4ξ) (ξ ≤ ½), k = 192 EI/L³, kinetic-energy mass M_a + (13/35) m_s, participating mass
+# (M_a + m_s/2)² / (M_a + 13 m_s/35); pinned–pinned y = ξ(3 − 4ξ²) (ξ ≤ ½), k = 48 EI/L³, M_a + (17/35) m_s,
+# (M_a + 5 m_s/8)² / (M_a + 17 m_s/35); m_s = ρ A L the strut's own mass [the factors derived from those
+# shapes; tests/physics/test_midspan_mass.py integrates them].  The sphere's rotary inertia does not enter:
+# the first mode is symmetric, the mid-span does not turn.  N struts, direction weight w = 1 − (d·e)².
+_Ma, _ms1, _Nm, _wm = sp.symbols("M_a m_s N w")
+_MIDSPAN_NAMES = {"f_t": r"f_\mathrm{t}", "m_r": r"m_\mathrm{r}", "M_a": r"M_\mathrm{a}", "m_s": r"m_\mathrm{s}"}
+MIDSPAN_MASS_FREQUENCY_CC = Formula("f_t", sp.sqrt(192 * _E * _I / (_L**3 * (_Ma + sp.Rational(13, 35) * _ms1)))
+                                    / (2 * sp.pi), latex_names=_MIDSPAN_NAMES)
+MIDSPAN_MASS_FREQUENCY_PP = Formula("f_t", sp.sqrt(48 * _E * _I / (_L**3 * (_Ma + sp.Rational(17, 35) * _ms1)))
+                                    / (2 * sp.pi), latex_names=_MIDSPAN_NAMES)
+MIDSPAN_MASS_RESONATING_CC = Formula("m_r", _Nm * _wm * (_Ma + _ms1 / 2) ** 2 / (_Ma + sp.Rational(13, 35) * _ms1),
+                                     latex_names=_MIDSPAN_NAMES)
+MIDSPAN_MASS_RESONATING_PP = Formula("m_r", _Nm * _wm * (_Ma + sp.Rational(5, 8) * _ms1) ** 2
+                                     / (_Ma + sp.Rational(17, 35) * _ms1), latex_names=_MIDSPAN_NAMES)
+RAYLEIGH_MIDSPAN_CC = Source(author="Rao, S. S.", title="Mechanical Vibrations, 6th ed.", year=2017,
+                             locator="§8.7 Rayleigh's method, clamped beam with a central mass, static deflection "
+                                     "shape (factors 13/35 and 1/2 derived from that shape)")
+RAYLEIGH_MIDSPAN_PP = Source(author="Rao, S. S.", title="Mechanical Vibrations, 6th ed.", year=2017,
+                             locator="§8.7 Rayleigh's method, simply supported beam with a central mass, static "
+                                     "deflection shape (factors 17/35 and 5/8 derived from that shape)")
+
 SECTION_SOURCE = Source(author="Young, W. C. & Budynas, R. G.",
                         title="Roark's Formulas for Stress and Strain, 7th ed.", year=2002,
                         locator="Table A.1, solid circle and rectangle", tag="from memory")

@@ -48,7 +48,13 @@ from latticecalc.cache import cached_arrays, fingerprint
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics import frame_fe as fe
 from latticecalc.physics import zoning as zn
-from latticecalc.physics.beams import AREA_CIRCLE, SECOND_MOMENT_CIRCLE
+from latticecalc.physics.beams import (
+    AREA_CIRCLE,
+    MIDSPAN_MASS_FREQUENCY_CC,
+    MIDSPAN_MASS_RESONATING_CC,
+    RAYLEIGH_MIDSPAN_CC,
+    SECOND_MOMENT_CIRCLE,
+)
 from latticecalc.physics.bloch import _cell_key, progress_iter
 from latticecalc.physics.column import Column, column_levels, column_properties, head_springs
 from latticecalc.physics.panel import panel_frame, symmetric_solve, zoned_frame
@@ -73,9 +79,9 @@ DEN_HARTOG_1956 = Source(author="Den Hartog, J. P.", title="Mechanical Vibration
 BOUND_SOURCE = Source(author="Den Hartog, J. P.", title="Mechanical Vibrations, 4th ed.", year=1956,
                       locator="§3.2 two-mass absorber model with hysteretic damping; bound from "
                               "|Z_h + Z_a| ≤ |Z_h| + |Z_a| (derived)")
-RAYLEIGH_STRUT = Source(author="Rao, S. S.", title="Mechanical Vibrations, 6th ed.", year=2017,
-                        locator="§8.7 Rayleigh's method, clamped beam with a central mass, static deflection "
-                                "shape (factors 13/35 and 1/2 derived from that shape)")
+#: Rayleigh's clamped strut with a central mass: the formulas live in physics/beams.py (the band estimate uses
+#: them too).
+RAYLEIGH_STRUT = RAYLEIGH_MIDSPAN_CC
 REDUCTION_SOURCE = fe.CRAIG_BAMPTON_1968
 CREMER_HECKL = Source(author="Cremer, L., Heckl, M. & Petersson, B. A. T.", title="Structure-Borne Sound, 3rd ed.",
                       year=2005, locator="§3.7 complex modulus; insertion loss as the ratio of responses "
@@ -88,10 +94,8 @@ _mres, _mh = sym.symbols("m_res m_h")
 #: Effective mass of a clamped strut with a central mass M_a moving with its supports, by Rayleigh's
 #: static-deflection shape y = 4ξ²(3 − 4ξ) (ξ ≤ ½): (M_a + m_s/2)² / (M_a + 13 m_s/35); N struts,
 #: direction weight w = 1 − (d·e)² (the share of the support motion across the strut).
-RESONATING_MASS = Formula("m_r", _N * _w * (_M + _m / 2) ** 2 / (_M + sym.Rational(13, 35) * _m),
-                          latex_names={"m_r": r"m_\mathrm{r}", "M_a": r"M_\mathrm{a}", "m_s": r"m_\mathrm{s}"})
-STRUT_TUNING = Formula("f_t", sym.sqrt(192 * _E * _I / (_L**3 * (_M + sym.Rational(13, 35) * _m))) / (2 * sym.pi),
-                       latex_names={"f_t": r"f_\mathrm{t}", "M_a": r"M_\mathrm{a}", "m_s": r"m_\mathrm{s}"})
+RESONATING_MASS = MIDSPAN_MASS_RESONATING_CC
+STRUT_TUNING = MIDSPAN_MASS_FREQUENCY_CC
 MASS_RATIO = Formula("mu", _mres / _mh, latex_names={"mu": r"\mu", "m_res": r"m_\mathrm{res}",
                                                      "m_h": r"m_\mathrm{host}"})
 SUGINO_UPPER = Formula("f_u", _ft * sym.sqrt(1 + _mu), latex_names={"f_u": r"f_\mathrm{u}", "f_t": r"f_\mathrm{t}",

@@ -29,7 +29,7 @@ from latticecalc.study.requirement import StudyContext
 #: Stages in the order a design meets them.
 STAGES = ("hand", "bloch", "coupled")
 #: Bumped when a stage's outputs change meaning, so stale cached evaluations are not reused.
-MODEL_VERSION = "study-3"
+MODEL_VERSION = "study-4"
 
 
 def full_design(design: Mapping[str, Any], context: StudyContext) -> dict[str, Any]:
@@ -133,9 +133,10 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
 
     Outputs (plain numbers): ``fits`` (1 or −1), ``cells_wide``, ``cells_high``, ``f_strut`` [Hz] (first
     clamped–clamped strut mode, the band's lower edge), ``band_low``/``band_high`` and ``held_low``/``held_high``
-    [Hz] (nominal and held under every scatter; scaled by ``added_mass_tuning_ratio`` when the struts carry an
-    added mass, which the band estimate does not), ``coverage_margin`` (fraction of the peak), ``panel_mass``
-    [kg], ``thickness`` [mm], ``buckling_margin`` and ``shortening_margin`` (fractions; ≥ 0 passes),
+    [Hz] (nominal and held under every scatter; with an added mass at strut mid-span, the band estimate's own
+    Rayleigh strut mode and mass split, the sphere on the design's cell), ``coverage_margin`` (fraction of the
+    peak), ``panel_mass`` [kg], ``thickness`` [mm], ``buckling_margin`` and ``shortening_margin`` (fractions;
+    ≥ 0 passes),
     ``mass_ratio``, ``tuning`` [Hz], ``strut_detuning`` (|f_strut / first peak − 1|), ``il_hand`` [dB] (absorber
     tuned to the peak on a mass-like column), ``il_bound`` [dB], ``dh_amplitude`` (Den Hartog fixed-point
     amplitude √(1 + 2/μ)), ``il_margin`` [dB] (``il_hand`` − the largest required), ``mass_margin`` and
@@ -171,19 +172,10 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     est = receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column, faces=context.faces,
                                       direction=req.direction, required=Q_(list(req.required), "dB"),
                                       node_zones=context.node_zones)
-    # The band estimate does not carry a mass added on the struts (the Bloch model and the receiver estimate
-    # do): the study scales the band by the Rayleigh tuning with over without the added mass, both edges alike.
-    # The mass-in-mass upper edge would move up relative to the lower one, so the scaled band is the narrower
-    # (conservative for coverage); the Bloch stage computes it.
-    ratio = 1.0
-    if float(d.get("lattice.added_mass") or 0.0) > 0:
-        bare = receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column,
-                                           faces=context.faces, direction=req.direction, added_mass=Q_(0.0, "kg"),
-                                           node_zones=context.node_zones)
-        ratio = float((est.value["tuning"] / bare.value["tuning"]).to("").m)
-    out["added_mass_tuning_ratio"] = ratio
-    out.update(f_strut=v["f_low"] * ratio, band_low=v["f_low"] * ratio, band_high=v["f_high"] * ratio,
-               held_low=v["f_low_max"] * ratio, held_high=v["f_high_min"] * ratio)
+    # the band estimate counts the cell's added mass at strut mid-span itself (the same Rayleigh strut formula
+    # as the receiver estimate's tuning), both edges and the scatter
+    out.update(f_strut=v["f_low"], band_low=v["f_low"], band_high=v["f_high"], held_low=v["f_low_max"],
+               held_high=v["f_high_min"])
     out["coverage_margin"] = _coverage_margin(out["held_low"], out["held_high"], context)
     out["strut_detuning"] = abs(out["f_strut"] / req.peaks[0] - 1.0)
     rd = relative_density(cell, "closed-form")

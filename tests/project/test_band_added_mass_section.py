@@ -1,4 +1,4 @@
-"""Section 40 (stop band estimate) of a column-panel project with a mass at mid-span of the lattice struts.
+"""Sections 40 (stop band estimate) and 10 (strut resonance) of a column-panel project with a mass at mid-span.
 
 The sheet must show the strut mode with the mid-span mass (Rayleigh's method with the static deflection shape,
 Rao, Mechanical Vibrations, 6th ed. 2017, §8.7, the formula the library evaluates) and no longer a note that
@@ -27,7 +27,10 @@ def test_section_40_shows_the_midspan_mass_step(tmp_path):
     make_quick(folder)
     proj = open_project(folder)
     set_values(folder / "inputs.toml", proj.template, {"lattice.added_mass": "2 g"})
-    run_project(folder, progress=None, only=["40"])
+    run_project(folder, progress=None, only=["10", "40"])
+    strut = collect(sorted((folder / "out" / "executed").glob("10_*.ipynb")))
+    assert "the first mode with the mass (Rayleigh's method) is in section Stop band estimate" in " ".join(
+        str(r.get("text", "")) for r in strut.records("note"))
     executed = sorted((folder / "out" / "executed").glob("40_*.ipynb"))
     assert executed
     doc = collect(executed)
@@ -42,14 +45,14 @@ def test_section_40_shows_the_midspan_mass_step(tmp_path):
     assert "Rayleigh's method with the static deflection shape" in text
 
 
-def test_section_40_graded_panel_gives_each_zone_its_own_mass(tmp_path):
+def test_sections_10_and_40_graded_panel_give_each_zone_its_own_mass(tmp_path):
     folder = tmp_path / "graded"
     shutil.copytree(templates_root() / "column-panel", folder)
     make_quick(folder)
     proj = open_project(folder)
     set_values(folder / "inputs.toml", proj.template, {"panel.cells_high": 4, "panel.zones": [
         {"cells_high": 2, "strut_diameter": "3 mm"}, {"cells_high": 2, "strut_diameter": "3 mm", "added_mass": "2 g"}]})
-    run_project(folder, progress=None, only=["40"])
+    run_project(folder, progress=None, only=["10", "40"])
     doc = collect(sorted((folder / "out" / "executed").glob("40_*.ipynb")))
     steps = {r["id"]: r for r in doc.records("step")}
     assert "band.zone1.added-mass" not in steps and "band.zone2.added-mass" in steps
@@ -58,3 +61,10 @@ def test_section_40_graded_panel_gives_each_zone_its_own_mass(tmp_path):
     assert "added mass per strut" in table["columns"]
     text = " ".join(str(r.get("text", "")) for r in doc.records("note"))
     assert "Each zone's estimate counts its own mass at mid-span" in text
+    # section 10 says it shows zone 1's struts and lists each zone's first mode from section 40's estimate
+    strut = collect(sorted((folder / "out" / "executed").glob("10_*.ipynb")))
+    notes = " ".join(str(r.get("text", "")) for r in strut.records("note"))
+    assert "this section shows zone 1's lattice struts" in notes
+    modes = next(r for r in strut.records("table") if r.get("id") == "strut.zone-modes")
+    assert [row[4] for row in modes["rows"]] == [f"{steps[f'band.zone{k}.f1-cc']['result']['value']:.4g}"
+                                                 for k in (1, 2)]

@@ -233,3 +233,17 @@ def test_hand_band_with_added_mass_against_bloch_gap(mass_ratio):
     assert lo == pytest.approx(g_lo, rel=RTOL_LOWER_EDGE)
     assert hi == pytest.approx(g_hi, rel=RTOL_UPPER_EDGE)
     assert lo >= g_lo and hi >= g_hi                       # as without the mass, the estimate sits above
+
+
+def test_parameter_study_holds_the_midspan_mass():
+    # the sweep evaluates the same formulas on arrays: at the design's own diameter it is the estimate (derived)
+    from latticecalc.physics.sweep import band_sweep
+
+    warnings.simplefilter("ignore")
+    cell, _ = _with_sphere(CELL, 1.0)
+    sweep = band_sweep(cell=cell, lattice_material=TPU, frame_material=CFRP, parameter="strut_diameter",
+                       values=Q_([5.0, 6.0, 7.0], "mm"))
+    est = bands.band_estimate_for_cell(cell=cell, lattice_material=TPU, frame_material=CFRP)
+    for key in ("f_low", "f_high", "f_low_pinned", "f_high_pinned", "f_bragg"):
+        assert sweep.value[key][1].to("Hz").m == pytest.approx(est.value[key].to("Hz").m, rel=1e-12)
+    assert "mid-span mass" in sweep.steps[1].method

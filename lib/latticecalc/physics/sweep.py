@@ -3,7 +3,9 @@
 Each point is the band estimate of :mod:`latticecalc.physics.bands` for the cell changed in one
 parameter, all else held: the geometry of each point (strut lengths, host mass, long-wave
 modulus) is worked out from the cell, then the band formulas are evaluated once on the arrays of
-all points (the same :class:`~latticecalc.sheet.Formula` objects the band sheet shows).
+all points (the same :class:`~latticecalc.sheet.Formula` objects the band sheet shows).  A mass the
+cell carries at mid-span of its lattice struts (``cell.point_masses["lattice"]``) is held at every
+point and counted as the band estimate counts it (Rayleigh's strut with a central mass).
 """
 
 from __future__ import annotations
@@ -19,14 +21,21 @@ from latticecalc.physics.bands import (
     EFFECTIVE_DENSITY,
     FIXITIES,
     HOST_MASS,
+    HOST_MASS_ADDED,
     RESONATING_MASS,
     STRUT_MASS,
     WAVE_SPEED,
     _kernel,
+    _kernel_added,
     cell_band_inputs,
     direction_weight,
 )
-from latticecalc.physics.beams import AREA_CIRCLE, eigenvalue, modal_mass_fraction
+from latticecalc.physics.beams import (
+    AREA_CIRCLE,
+    MIDSPAN_MASS_RESONATING_CC,
+    eigenvalue,
+    modal_mass_fraction,
+)
 from latticecalc.sheet import CalcResult, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
@@ -112,7 +121,24 @@ def band_sweep(*, cell, lattice_material, parameter: str, values, frame_material
                                       directions=r.get("strut_directions"))[0] for r in rows]), "")
 
     out = {"parameter_values": Q_(mags, unit)}
-    for fix in FIXITIES:
+    added = getattr(cell, "point_masses", {}).get("lattice", (None,))[0]
+    with_mass = added is not None and added.to("kg").magnitude > 0
+    if with_mass:
+        n = Q_(np.array([float(np.sum(r["strut_weights"])) for r in rows]), "")
+        Ma = added.to("g")
+        for fix in FIXITIES:
+            cc = fix == "clamped-clamped"
+            f0, fh = _kernel_added(L=L_long, Ltot=L_tot, d=d, E=E, rho=rho, m_host=host, n_struts=n, added=Ma,
+                                   cc=cc, w=w)
+            suffix = "" if cc else "_pinned"
+            out["f_low" + suffix], out["f_high" + suffix] = f0, fh
+        ms = STRUT_MASS.evaluate({"rho": rho, "A": AREA_CIRCLE.evaluate({"d": d}), "L_tot": L_tot})
+        m2 = MIDSPAN_MASS_RESONATING_CC.evaluate({"N": n, "w": w, "M_a": Ma, "m_s": ms / n})
+        m1 = HOST_MASS_ADDED.evaluate({"m_h": host, "m_s": ms, "N": n, "M_a": Ma, "m_2": m2})
+        rho_eff = EFFECTIVE_DENSITY.evaluate({"m_1": m1, "m_2": m2, "a": a})
+        speed = WAVE_SPEED.evaluate({"E_eff": Ee, "rho_eff": rho_eff})
+        out["f_bragg"] = BRAGG_FREQUENCY.evaluate({"c": speed, "a": a}).to("Hz")
+    for fix in () if with_mass else FIXITIES:
         mu = modal_mass_fraction(supports=fix).value
         lam = Q_(eigenvalue(supports=fix, mode=1), "")
         f0, fh = _kernel(L=L_long, Ltot=L_tot, d=d, E=E, rho=rho, m_host=host, a=a, mu=mu, lam=lam, w=w)
@@ -128,7 +154,9 @@ def band_sweep(*, cell, lattice_material, parameter: str, values, frame_material
 
     p = f"{id_prefix}.{parameter.replace('_', '-')}"
     method = (f"band formulas of the band section (Euler–Bernoulli lower edge, mass-in-mass upper edge, "
-              f"Bragg c/(2a)) evaluated at each {label}; everything else as the base cell")
+              f"Bragg c/(2a)) evaluated at each {label}; everything else as the base cell"
+              + ("; the lattice struts carry their mid-span mass (Rayleigh's strut with a central mass)"
+                 if with_mass else ""))
     steps = (quantity_step(id=f"{p}.values", description=f"Swept {label}", value=out["parameter_values"],
                            unit=unit, method="inputs of the study"),
              quantity_step(id=f"{p}.f-low", description="Lower band edge (clamped–clamped struts)",

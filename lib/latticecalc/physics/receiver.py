@@ -34,6 +34,7 @@ upper bound of any single absorber's insertion loss.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -130,14 +131,36 @@ def _positive_root(expr, target):
     return good[0].subs({v: k for k, v in pos.items()})
 
 
-#: The mass ratio that :data:`IL_BOUND` needs to reach IL (sympy's solution of the same formula).
-MASS_RATIO_FOR_BOUND = Formula("mu_min", _positive_root(_bound_expr, _mu),
-                               latex_names={"mu_min": r"\mu_\mathrm{min}", "eta_a": r"\eta_\mathrm{a}",
-                                            "eta_h": r"\eta_\mathrm{h}", "IL": r"\mathrm{IL}_\mathrm{req}"})
-#: The mass ratio that :data:`IL_MASS_HOST` needs to reach IL (sympy's solution of the same formula).
-MASS_RATIO_FOR_MASS_HOST = Formula("mu_req", _positive_root(_mass_expr, _mu),
-                                   latex_names={"mu_req": r"\mu_\mathrm{req}", "eta_a": r"\eta_\mathrm{a}",
-                                                "IL": r"\mathrm{IL}_\mathrm{req}"})
+@functools.cache
+def mass_ratio_for_bound() -> Formula:
+    """The mass ratio that :data:`IL_BOUND` needs to reach IL (sympy's solution of the same formula).
+
+    Solved on first use, not at import: sympy's solve costs about a second, which every kernel that
+    imports this module paid (also as ``MASS_RATIO_FOR_BOUND``).
+    """
+    return Formula("mu_min", _positive_root(_bound_expr, _mu),
+                   latex_names={"mu_min": r"\mu_\mathrm{min}", "eta_a": r"\eta_\mathrm{a}",
+                                "eta_h": r"\eta_\mathrm{h}", "IL": r"\mathrm{IL}_\mathrm{req}"})
+
+
+@functools.cache
+def mass_ratio_for_mass_host() -> Formula:
+    """The mass ratio that :data:`IL_MASS_HOST` needs to reach IL, solved on first use.
+
+    Sympy's solution of the same formula; also as ``MASS_RATIO_FOR_MASS_HOST``.
+    """
+    return Formula("mu_req", _positive_root(_mass_expr, _mu),
+                   latex_names={"mu_req": r"\mu_\mathrm{req}", "eta_a": r"\eta_\mathrm{a}",
+                                "IL": r"\mathrm{IL}_\mathrm{req}"})
+
+
+def __getattr__(name: str):
+    """``MASS_RATIO_FOR_BOUND`` and ``MASS_RATIO_FOR_MASS_HOST``: the formulas above, solved on first use."""
+    if name == "MASS_RATIO_FOR_BOUND":
+        return mass_ratio_for_bound()
+    if name == "MASS_RATIO_FOR_MASS_HOST":
+        return mass_ratio_for_mass_host()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
 
 
 # --------------------------------------------------------------------------------------------------------
@@ -1014,11 +1037,11 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
     if required is not None:
         il_req = float(np.max(np.atleast_1d(Q_(required).to("dB").m if isinstance(required, pint.Quantity)
                                             else required)))
-        need_min = evaluate(MASS_RATIO_FOR_BOUND, id=f"{id_prefix}.mass-ratio-min", description="Least mass ratio "
+        need_min = evaluate(mass_ratio_for_bound(), id=f"{id_prefix}.mass-ratio-min", description="Least mass ratio "
                             "with which even the best case reaches the required loss",
                             values={"IL": Q_(il_req, ""), "eta_a": eta_a, "eta_h": eta_h}, unit="",
                             source=BOUND_SOURCE, sig=3)
-        need = evaluate(MASS_RATIO_FOR_MASS_HOST, id=f"{id_prefix}.mass-ratio-needed", description="Mass ratio "
+        need = evaluate(mass_ratio_for_mass_host(), id=f"{id_prefix}.mass-ratio-needed", description="Mass ratio "
                         "needed for the required loss at the present lattice loss factor (absorber tuned to the "
                         "peak, column moving as a mass there)", values={"IL": Q_(il_req, ""), "eta_a": eta_a},
                         unit="", source=BOUND_SOURCE, sig=3)

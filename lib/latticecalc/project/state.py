@@ -15,8 +15,6 @@ import hashlib
 import json
 from pathlib import Path
 
-import nbformat
-
 from latticecalc import __version__
 from latticecalc.errors import ProjectError
 from latticecalc.project.inputs import INPUTS_FILE
@@ -31,6 +29,8 @@ OUTPUTS_KEY = "outputs"
 
 def notebook_code(path: Path) -> str:
     """The code of a notebook: its code cells' sources joined (outputs and metadata ignored)."""
+    import nbformat  # here, not at the top: nbformat's schema validator costs a kernel ~1.5 s to import
+
     nb = nbformat.read(str(path), as_version=4)
     return "\n# ---- cell ----\n".join(c.source for c in nb.cells if c.cell_type == "code")
 
@@ -98,6 +98,8 @@ def output_hash(path: Path) -> str:
 
     Execution timestamps and other cell metadata are left out: they change nothing the export shows.
     """
+    import nbformat
+
     try:
         nb = nbformat.read(str(path), as_version=4)
     except FileNotFoundError:

@@ -315,7 +315,10 @@ def _validate(text: str, doc: tomlkit.TOMLDocument, template: TemplateSpec, *, f
                              if spec.default is not None else None)
         raw = flat[spec.name]
         source = spec.source
-        if isinstance(raw, Mapping) and _is_value_table(raw) and spec.kind != "table":
+        # a rows input given as a list of rows may carry a source as well ({ value = [...], source = "…" });
+        # a mapping of rows (materials) is never unwrapped, its keys are its rows
+        if isinstance(raw, Mapping) and _is_value_table(raw) and (spec.kind != "table"
+                                                                   or isinstance(raw["value"], list)):
             source = str(raw.get("source", source))
             raw = raw["value"]
         try:

@@ -15,8 +15,9 @@ def test_study_run_calls_the_library_once(monkeypatch, capsys):
     def fake(folder, **kw):
         calls.append((folder, kw))
         result = SimpleNamespace(counts={"hand": 3, "bloch": 0, "coupled": 0}, executor="serial", met=False,
-                                 final_stage="hand", pareto_rows=lambda: [["D1", "bcc", "lacks coverage_margin"]])
-        return SimpleNamespace(result=result, results="out/study-results.json")
+                                 final_stage="hand",
+                                 pareto_rows=lambda space=None: [["D1", "bcc", "lacks coverage_margin"]])
+        return SimpleNamespace(result=result, results="out/study-results.json", space=None)
 
     monkeypatch.setattr(workflow, "run_study_project", fake)
     assert cli.main(["study", "run", "my-study", "--serial", "--quiet"]) == 0

@@ -51,6 +51,6 @@ def run(args: argparse.Namespace) -> int:
           f" on {res.executor}; results in {report.results}", file=sys.stderr)
     head = "Pareto set" if res.met else "No design meets every check; the nearest, and what each lacks"
     print(head + f" ({res.final_stage} stage):")
-    for row in res.pareto_rows():
+    for row in res.pareto_rows(report.space):     # the zone variables as one zones text
         print("  " + " | ".join(row))
     return 0

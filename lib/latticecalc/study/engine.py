@@ -280,8 +280,12 @@ class StudyResult:
         """True when at least one design meets every constraint of the last stage run."""
         return bool(self.pareto)
 
-    def pareto_rows(self) -> list[list[str]]:
-        """(id, design values, mass, margin) rows of the Pareto set (or of the nearest designs)."""
+    def pareto_rows(self, space: DesignSpace | None = None) -> list[list[str]]:
+        """(id, design values, mass, margin) rows of the Pareto set (or of the nearest designs).
+
+        With ``space``, the values are in :meth:`DesignSpace.display_names` order, the zone variables as one
+        ``zones`` text ("2 zones: 24 mm / 30 mm …", each zone as evaluated); without, every variable as given.
+        """
         from latticecalc.units import format_number, format_value
 
         rows = []
@@ -290,7 +294,9 @@ class StudyResult:
             # every stage's outputs: a design stopped at the Bloch stage keeps the hand objectives it was ranked by
             out = _merged(r.outputs)
             hand = r.outputs["hand"]
-            rows.append([did] + [format_value(v) for v in r.design.values()]
+            values = (space.display_values(r.design, r.outputs["hand"]) if space is not None
+                      else [format_value(v) for v in r.design.values()])
+            rows.append([did] + values
                         + [format_number(hand.get("panel_mass"), 3)]
                         + [format_number(out.get(o.output), 3) for o in self.objectives if o.output != "panel_mass"]
                         + ["; ".join(r.lacks.get(self.final_stage, ())) or "meets every check"])

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import math
 import warnings
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -29,14 +29,20 @@ from latticecalc.study.requirement import StudyContext
 #: Stages in the order a design meets them.
 STAGES = ("hand", "bloch", "coupled")
 #: Bumped when a stage's outputs change meaning, so stale cached evaluations are not reused.
-MODEL_VERSION = "study-4"
+MODEL_VERSION = "study-5"
 
 
 def full_design(design: Mapping[str, Any], context: StudyContext) -> dict[str, Any]:
-    """The design with every value the space does not vary taken from the base project."""
+    """The design with every value the space does not vary taken from the base project.
+
+    Zone variables are made canonical (:func:`latticecalc.study.zones.canonical`): a one-zone design is the
+    uniform design, with the same fingerprint and the same evaluation.
+    """
+    from latticecalc.study.zones import canonical
+
     out = dict(context.base)
     out.update(design)
-    return out
+    return canonical(out)
 
 
 def design_fingerprint(stage: str, design: Mapping[str, Any], context: StudyContext) -> str:
@@ -78,6 +84,18 @@ def _cell(d: Mapping[str, Any], context: StudyContext, mats: Mapping[str, Any]):
     return cell
 
 
+def _zoned(d: Mapping[str, Any], context: StudyContext, cell: Any, ny: int) -> tuple[Any, Any]:
+    """(the cell the sheets use, the zoning): a graded design's zone 1 cell and zones, or (cell, None).
+
+    The column-panel project takes zone 1's cell as its cell (``column_panel.design_from_inputs``); the
+    hand checks that have no per-zone form (self-weight, the receiver estimates) use it, as its sheets do.
+    """
+    from latticecalc.study.zones import zoning
+
+    zn = zoning(d, ny, material_overrides=context.material_overrides)
+    return (cell, None) if zn is None else (zn.zone_cell(cell, 0), zn)
+
+
 def _column(context: StudyContext):
     from latticecalc import Q_, materials
     from latticecalc.physics.column import Column
@@ -112,11 +130,30 @@ def _levels(text: str, ny: int) -> tuple[int, ...]:
     return tuple(lv for lv in (int(x) for x in t.split(",") if x.strip()) if lv <= ny)
 
 
-def _coverage_margin(low: float, high: float, context: StudyContext) -> float:
-    """Smallest margin over the peaks (fraction of the peak) of the band [low, high] around each peak's spread."""
+def _peak_margins(low: float, high: float, context: StudyContext) -> list[float]:
+    """Margin of the band [low, high] around each peak's spread (fraction of the peak; negative: not covered)."""
     req = context.requirement
     s = req.spread
-    return float(min(min(p * (1 - s) - low, high - p * (1 + s)) / p for p in req.peaks))
+    return [float(min(p * (1 - s) - low, high - p * (1 + s)) / p) for p in req.peaks]
+
+
+def _coverage_margin(low: float, high: float, context: StudyContext) -> float:
+    """Smallest margin over the peaks (fraction of the peak) of the band [low, high] around each peak's spread."""
+    return float(min(_peak_margins(low, high, context)))
+
+
+def zone_coverage(margins: Sequence[Sequence[float]]) -> tuple[float, int, int]:
+    """(margin, zone, peak) of a graded panel from ``margins[zone][peak]``, 0-based.
+
+    The column-panel sheet's rule (section 70): a peak is covered when at least one zone's held band covers it,
+    and it is checked against the zone that holds it with the most margin; the panel's margin is the least of
+    these over the peaks, and (zone, peak) are where it is found.
+    """
+    m = np.asarray(margins, float)
+    best_zone = np.argmax(m, axis=0)
+    best = m[best_zone, np.arange(m.shape[1])]
+    peak = int(np.argmin(best))
+    return float(best[peak]), int(best_zone[peak]), peak
 
 
 def _limits_margins(out: dict[str, float], context: StudyContext) -> None:
@@ -137,10 +174,19 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     Rayleigh strut mode and mass split, the sphere on the design's cell), ``coverage_margin`` (fraction of the
     peak), ``panel_mass`` [kg], ``thickness`` [mm], ``buckling_margin`` and ``shortening_margin`` (fractions;
     ≥ 0 passes),
-    ``mass_ratio``, ``tuning`` [Hz], ``strut_detuning`` (|f_strut / first peak − 1|), ``il_hand`` [dB] (absorber
-    tuned to the peak on a mass-like column), ``il_bound`` [dB], ``dh_amplitude`` (Den Hartog fixed-point
+    ``mass_ratio``, ``tuning`` [Hz], ``strut_detuning`` (|f_strut / first peak − 1|), ``peak_detuning`` (the
+    largest over the peaks of |f_strut / peak − 1|, a graded panel's nearest zone for each peak), ``il_hand`` [dB]
+    (absorber tuned to the peak on a mass-like column), ``il_bound`` [dB], ``dh_amplitude`` (Den Hartog fixed-point
     amplitude √(1 + 2/μ)), ``il_margin`` [dB] (``il_hand`` − the largest required), ``mass_margin`` and
     ``thickness_margin`` (fractions of the study's limits).
+
+    A graded design (``zones.count`` > 1, :mod:`latticecalc.study.zones`) adds ``zones`` and each zone's
+    ``zone<k>_cells_high``, ``zone<k>_strut_diameter`` [mm], ``zone<k>_added_mass`` [g] and its band
+    ``zone<k>_band_low`` … ``zone<k>_held_high`` [Hz]; ``coverage_margin`` is then the least over the peaks of the
+    best zone's margin (``coverage_zone``, ``coverage_peak``: where it is found, 1-based), and ``band_*``/``held_*``
+    are that zone's; ``f_strut`` is zone 1's strut mode, ``strut_detuning`` the nearest zone's. The mass is each
+    zone's over its rows; self-weight and the receiver estimates take zone 1's cell over the full height, as the
+    column-panel sheets do (sections 30 and 80).
     """
     from latticecalc import Q_
     from latticecalc.physics import receiver
@@ -161,27 +207,67 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     out["fits"] = 1.0
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")       # slenderness warnings: the margins below carry the verdict
-        cell = _cell(d, context, mats)
+        cell, zoning = _zoned(d, context, _cell(d, context, mats), ny)
     tol = context.tolerance
-    band = band_estimate_for_cell(cell=cell, lattice_material=mats["lattice"], frame_material=mats["frame"],
-                                  modulus_tolerance=tol["modulus"], diameter_tolerance=Q_(tol["diameter_mm"], "mm"),
-                                  length_tolerance=Q_(tol["length_mm"], "mm"), density_tolerance=tol["density"],
-                                  node_zones=context.node_zones)
-    v = {k: float(q.to("Hz").m) for k, q in band.value.items()}
+    band_kw = dict(lattice_material=mats["lattice"], frame_material=mats["frame"],
+                   modulus_tolerance=tol["modulus"], diameter_tolerance=Q_(tol["diameter_mm"], "mm"),
+                   length_tolerance=Q_(tol["length_mm"], "mm"), density_tolerance=tol["density"],
+                   node_zones=context.node_zones)
     req = context.requirement
+    if zoning is None:
+        band = band_estimate_for_cell(cell=cell, **band_kw)
+        v = {k: float(q.to("Hz").m) for k, q in band.value.items()}
+        # the band estimate counts the cell's added mass at strut mid-span itself (the same Rayleigh strut formula
+        # as the receiver estimate's tuning), both edges and the scatter
+        out.update(f_strut=v["f_low"], band_low=v["f_low"], band_high=v["f_high"], held_low=v["f_low_max"],
+                   held_high=v["f_high_min"])
+        out["coverage_margin"] = _coverage_margin(out["held_low"], out["held_high"], context)
+        out["strut_detuning"] = abs(out["f_strut"] / req.peaks[0] - 1.0)
+        out["peak_detuning"] = max(abs(out["f_strut"] / p - 1.0) for p in req.peaks)
+    else:
+        # a graded panel: each zone's own band (its struts and its mass at mid-span); a peak is covered when a
+        # zone's held band covers it, as the column-panel sheet judges it (section 70)
+        from latticecalc.physics.bands import zone_band_estimates
+        from latticecalc.study import zones as zn
+
+        out.update(zn.outputs(zn.zone_values(d, ny)))
+        margins = []
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")   # slenderness warnings of the zone cells, as above
+            zone_bands = zone_band_estimates(cell=cell, zoning=zoning, **band_kw)
+        for k, band in enumerate(zone_bands, start=1):
+            v = {key: float(q.to("Hz").m) for key, q in band.value.items()}
+            out.update({f"zone{k}_band_low": v["f_low"], f"zone{k}_band_high": v["f_high"],
+                        f"zone{k}_held_low": v["f_low_max"], f"zone{k}_held_high": v["f_high_min"]})
+            margins.append(_peak_margins(v["f_low_max"], v["f_high_min"], context))
+        margin, zone, peak = zone_coverage(margins)
+        z = zone + 1
+        # the band shown for the design is the governing zone's (the one holding the least-covered peak best)
+        out.update(coverage_margin=margin, coverage_zone=float(z), coverage_peak=float(peak + 1),
+                   f_strut=out["zone1_band_low"], band_low=out[f"zone{z}_band_low"],
+                   band_high=out[f"zone{z}_band_high"], held_low=out[f"zone{z}_held_low"],
+                   held_high=out[f"zone{z}_held_high"])
+        # the zone whose strut mode lies nearest the first peak
+        modes = [out[f"zone{k}_band_low"] for k in range(1, len(zoning.zones) + 1)]
+        out["strut_detuning"] = min(abs(f / req.peaks[0] - 1.0) for f in modes)
+        out["peak_detuning"] = max(min(abs(f / p - 1.0) for f in modes) for p in req.peaks)
     est = receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column, faces=context.faces,
                                       direction=req.direction, required=Q_(list(req.required), "dB"),
                                       node_zones=context.node_zones)
-    # the band estimate counts the cell's added mass at strut mid-span itself (the same Rayleigh strut formula
-    # as the receiver estimate's tuning), both edges and the scatter
-    out.update(f_strut=v["f_low"], band_low=v["f_low"], band_high=v["f_high"], held_low=v["f_low_max"],
-               held_high=v["f_high_min"])
-    out["coverage_margin"] = _coverage_margin(out["held_low"], out["held_high"], context)
-    out["strut_detuning"] = abs(out["f_strut"] / req.peaks[0] - 1.0)
-    rd = relative_density(cell, "closed-form")
-    mass = panel_mass(cell, materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz, method="closed-form",
-                      density=rd)
+    if zoning is None:
+        rd = relative_density(cell, "closed-form")
+        mass = panel_mass(cell, materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz, method="closed-form",
+                          density=rd)
+    else:   # each zone's cell over its rows (density.graded_panel_mass, as the mass section of the sheet)
+        from latticecalc.physics.density import graded_panel_mass
+
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")   # slenderness warnings of the zone cells
+            mass = graded_panel_mass(cell, zoning=zoning, materials=mats, cells_wide=nx, cells_high=ny,
+                                     cells_deep=nz, method="closed-form")
     out["panel_mass"] = float(mass.value.to("kg").m)
+    # the hand load-path checks take the cell the sheet takes (a graded panel: zone 1's over the full height)
+    rd = relative_density(cell, "closed-form")
     sw_in = context.selfweight
     sw = panel_self_weight(cell, materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz, density=rd,
                            deflection_limit=Q_(sw_in["deflection_limit_mm"], "mm"),
@@ -219,12 +305,18 @@ def bloch_stage(design: Mapping[str, Any], context: StudyContext, *,
     mats = _materials(d, context)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        cell = _cell(d, context, mats)
+        cell, zoning = _zoned(d, context, _cell(d, context, mats), int(hand["cells_high"]))
     n = context.numerics
-    disp = dispersion(cell, materials=mats, n_elements=n["bloch_elements"], n_bands=n["bloch_bands"],
-                      points=n["bloch_points"], zone_points=n["bloch_zone_points"], strut_modes=n["bloch_strut_modes"],
-                      node_zones=context.node_zones, convergence_check=False)
-    gaps = [(float(g.low.to("Hz").m), float(g.high.to("Hz").m)) for g in disp["gaps"]]
+
+    def gaps_of(c: Any) -> list[tuple[float, float]]:
+        disp = dispersion(c, materials=mats, n_elements=n["bloch_elements"], n_bands=n["bloch_bands"],
+                          points=n["bloch_points"], zone_points=n["bloch_zone_points"],
+                          strut_modes=n["bloch_strut_modes"], node_zones=context.node_zones, convergence_check=False)
+        return [(float(g.low.to("Hz").m), float(g.high.to("Hz").m)) for g in disp["gaps"]]
+
+    if zoning is not None:
+        return _zoned_bloch(zoning, cell, gaps_of, hand, context)
+    gaps = gaps_of(cell)
     if not gaps:
         return {"has_gap": -1.0, "coverage_margin_bloch": -1.0}
     low_ratio, high_ratio = hand["held_low"] / hand["band_low"], hand["held_high"] / hand["band_high"]
@@ -233,6 +325,43 @@ def bloch_stage(design: Mapping[str, Any], context: StudyContext, *,
     held_lo, held_hi = lo * low_ratio, hi * high_ratio
     return {"has_gap": 1.0, "gap_low": lo, "gap_high": hi, "gap_held_low": held_lo, "gap_held_high": held_hi,
             "coverage_margin_bloch": _coverage_margin(held_lo, held_hi, context)}
+
+
+def _zoned_bloch(zoning: Any, cell: Any, gaps_of: Any, hand: Mapping[str, float],
+                 context: StudyContext) -> dict[str, float]:
+    """The Bloch stage of a graded design: each zone's cell, a peak covered when a zone's computed gap holds it.
+
+    Each zone's gaps are held under the scatter of that zone's hand band; for each zone and peak the gap
+    holding the peak best counts, then :func:`zone_coverage` as in the hand stage.
+    """
+    out: dict[str, float] = {}
+    margins, chosen = [], []
+    for k in range(len(zoning.zones)):
+        z = k + 1
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            gaps = gaps_of(zoning.zone_cell(cell, k))
+        low_ratio = hand[f"zone{z}_held_low"] / hand[f"zone{z}_band_low"]
+        high_ratio = hand[f"zone{z}_held_high"] / hand[f"zone{z}_band_high"]
+        out[f"zone{z}_gaps"] = float(len(gaps))
+        per_peak, best_gap = [], []
+        for p in range(len(context.requirement.peaks)):
+            if not gaps:
+                per_peak.append(-math.inf)
+                best_gap.append(None)
+                continue
+            g = max(gaps, key=lambda g: _peak_margins(g[0] * low_ratio, g[1] * high_ratio, context)[p])
+            per_peak.append(_peak_margins(g[0] * low_ratio, g[1] * high_ratio, context)[p])
+            best_gap.append((g[0], g[1], g[0] * low_ratio, g[1] * high_ratio))
+        margins.append(per_peak)
+        chosen.append(best_gap)
+    if not any(out[f"zone{k + 1}_gaps"] for k in range(len(zoning.zones))):
+        return {**out, "has_gap": -1.0, "coverage_margin_bloch": -1.0}
+    margin, zone, peak = zone_coverage(margins)
+    lo, hi, held_lo, held_hi = chosen[zone][peak]
+    return {**out, "has_gap": 1.0, "gap_low": lo, "gap_high": hi, "gap_held_low": held_lo, "gap_held_high": held_hi,
+            "coverage_margin_bloch": margin, "coverage_zone_bloch": float(zone + 1),
+            "coverage_peak_bloch": float(peak + 1)}
 
 
 def coupled_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, float]:
@@ -252,7 +381,7 @@ def coupled_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str,
         return {"il_margin_coupled": -math.inf}
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        cell = _cell(d, context, mats)
+        cell, zoning = _zoned(d, context, _cell(d, context, mats), ny)
     req = context.requirement
     fx = context.fixing
     fixings = receiver.Fixings(levels=_levels(fx["levels"], ny), normal=Q_(fx["normal_N_per_m"], "N/m"),
@@ -266,7 +395,7 @@ def coupled_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str,
                                                                   base_height=Q_(context.base_height_m, "m")),
                                      frequencies=Q_(freqs, "Hz"), directions=(req.direction,),
                                      n_elements=n["coupled_elements"], strut_modes=n["coupled_strut_modes"],
-                                     node_zones=context.node_zones)
+                                     node_zones=context.node_zones, zoning=zoning)
     il = np.asarray(resp.value["insertion_loss"][req.direction], float)
     f = np.asarray(freqs)
     out: dict[str, float] = {}

@@ -92,12 +92,22 @@ def _input_text(name: str, value: Any) -> Any:
     return value
 
 
-def design_changes(values: Mapping[str, Any], *, cells_wide: int, cells_high: int) -> dict[str, Any]:
-    """The column-panel inputs a design sets: its variables plus the panel size the study derived."""
+def design_changes(values: Mapping[str, Any], *, cells_wide: int, cells_high: int,
+                   full: Mapping[str, Any] | None = None) -> dict[str, Any]:
+    """The column-panel inputs a design sets: its variables plus the panel size the study derived.
+
+    A design with zone variables sets ``panel.zones`` instead of them (:mod:`latticecalc.study.zones`; the
+    rows built from ``full``, the full design, as the study evaluated them), an empty list for a uniform
+    design, so a graded panel written earlier is cleared.
+    """
+    from latticecalc.study.zones import ZONE_VARIABLES, zone_rows_input, zone_values
+
     changes = {k: _input_text(k, v) for k, v in values.items() if k != "lattice.added_mass_material"
-               and k != "frame.wall_thickness"}
+               and k != "frame.wall_thickness" and k not in ZONE_VARIABLES}
     changes["panel.cells_wide"] = int(cells_wide)
     changes["panel.cells_high"] = int(cells_high)
+    if any(k in ZONE_VARIABLES for k in values):
+        changes["panel.zones"] = zone_rows_input(zone_values(full if full is not None else values, cells_high))
     return changes
 
 
@@ -114,4 +124,7 @@ def apply_design(project: str | Path, changes: Mapping[str, Any], *, source: str
     if proj.template.name != "column-panel":
         raise InputError("a design is written into a column-panel project", input_name="project",
                          expected="a folder made from the column-panel template", got=repr(proj.template.name))
+    changes = dict(changes)
+    if "panel.zones" not in changes and proj.inputs.get("panel.zones"):
+        changes["panel.zones"] = []      # a uniform design clears the zones of a graded panel written earlier
     return set_values(proj.folder / "inputs.toml", proj.template, changes, source=source)

@@ -121,13 +121,21 @@ def _coverage(record: DesignRecord, stage: str, low_key: str, high_key: str, mar
     req = context.requirement
     s = req.spread
     low, high = out.get(low_key), out.get(high_key)
-    # the governing peak: the one whose margin the study's (smallest) coverage margin is
-    per_peak = [min(p * (1 - s) - low, high - p * (1 + s)) / p for p in req.peaks]
-    k = int(np.argmin(per_peak))
+    # the governing peak: the one whose margin the study's (smallest) coverage margin is; a graded design names
+    # it, with the zone that holds it best (the band given is that zone's)
+    suffix = "" if low_key == "held_low" else "_bloch"
+    if f"coverage_peak{suffix}" in out:
+        k = int(out[f"coverage_peak{suffix}"]) - 1
+        zone = f"zone {int(out[f'coverage_zone{suffix}'])} (of {int(record.outputs['hand']['zones'])}, the best for " \
+               "this peak): "
+    else:
+        per_peak = [min(p * (1 - s) - low, high - p * (1 + s)) / p for p in req.peaks]
+        k = int(np.argmin(per_peak))
+        zone = ""
     p = req.peaks[k]
     margin = float(out[margin_key])
     nominal = {"held_low": ("band_low", "band_high", "band"), "gap_held_low": ("gap_low", "gap_high", "gap")}[low_key]
-    found = f"{nominal[2]} {_hz(out[nominal[0]])} – {_hz(out[nominal[1]])}; held under scatter: " + (
+    found = f"{zone}{nominal[2]} {_hz(out[nominal[0]])} – {_hz(out[nominal[1]])}; held under scatter: " + (
         f"{_hz(low)} – {_hz(high)}" if low < high else f"none ({_hz(low)} over {_hz(high)})")
     return Shortfall(design=record.id, stage=stage, check=margin_key, what=what, found=found,
                      limit=f"peak {_hz(p)} ± {format_number(100 * s, 3)} %: {_hz(p * (1 - s))} – {_hz(p * (1 + s))}",
@@ -311,7 +319,8 @@ def floor_estimates(record: DesignRecord, context: StudyContext, *, id_prefix: s
     nx, ny = evaluate.panel_counts(d, context, column)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")       # slenderness warnings: the study's checks carry the verdict
-        cell = evaluate._cell(d, context, mats)
+        # a graded design: zone 1's cell over the full height, as the hand stage and the sheet's section 80
+        cell, _ = evaluate._zoned(d, context, evaluate._cell(d, context, mats), ny)
     req = context.requirement
     return receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column,
                                        faces=context.faces, direction=req.direction,

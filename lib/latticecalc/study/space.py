@@ -41,6 +41,10 @@ KNOWN_VARIABLES: dict[str, tuple[str, str | None, str]] = {
     "frame.strut_diameter": ("quantity", "length", "diameter of the frame members"),
     "frame.material": ("choice", None, "material of the frame members"),
     "panel.cells_deep": ("choice", None, "cells through the panel thickness"),
+    # graded panels (study/zones.py): not column-panel inputs; they set panel.zones when written back
+    "zones.count": ("choice", None, "zones of cell rows up the panel (1: uniform)"),
+    "zones.diameter_spread": ("number", None, "relative step of lattice strut diameter from one zone to the next"),
+    "zones.mass_spread": ("number", None, "relative step of added mass from one zone to the next"),
 }
 
 #: The unit each continuous variable is stored in (designs are plain numbers in these units).
@@ -48,7 +52,7 @@ UNITS = {"length": "mm", "mass": "g"}
 
 #: Resolution of continuous values (common practice: a print is not made finer than 0.01 mm, a mass than 0.1 g);
 #: a design is written back into a project exactly as it was evaluated.
-RESOLUTION = {"mm": 0.01, "g": 0.1}
+RESOLUTION = {"mm": 0.01, "g": 0.1, "": 0.001}   # a relative step to 0.1 %
 
 _CELL_KINDS = ("octet", "simple-cubic", "bcc", "fcc", "diamond")
 
@@ -76,7 +80,7 @@ class Continuous:
     @property
     def text(self) -> str:
         """``low … high unit`` for tables."""
-        return f"{self.low:g} – {self.high:g} {self.unit}"
+        return f"{self.low:g} – {self.high:g} {self.unit}".strip()
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -124,12 +128,39 @@ class DesignSpace:
         return len(self.variables)
 
     def decode(self, u: Sequence[float]) -> dict[str, Any]:
-        """A design (name -> plain value) from a point of the unit cube."""
-        return {v.name: v.decode(float(x)) for v, x in zip(self.variables, u)}
+        """A design (name -> plain value) from a point of the unit cube (a one-zone design's spreads are 0)."""
+        design = {v.name: v.decode(float(x)) for v, x in zip(self.variables, u)}
+        if design.get("zones.count", 0) == 1:
+            for name in ("zones.diameter_spread", "zones.mass_spread"):
+                if name in design:
+                    design[name] = 0.0
+        return design
 
     def encode(self, design: Mapping[str, Any]) -> np.ndarray:
         """The unit-cube point of a design."""
         return np.array([v.encode(design[v.name]) for v in self.variables])
+
+    @property
+    def display_names(self) -> tuple[str, ...]:
+        """Column heads of a design table: the variable names, the zone variables as one ``zones`` column."""
+        from latticecalc.study.zones import ZONE_VARIABLES
+
+        out: list[str] = []
+        for n in self.names:
+            name = "zones" if n in ZONE_VARIABLES else n
+            if name not in out:
+                out.append(name)
+        return tuple(out)
+
+    def display_values(self, design: Mapping[str, Any], hand: Mapping[str, Any]) -> list[str]:
+        """A design's values as an engineer writes them, in :attr:`display_names` order (``hand``: its outputs)."""
+        from latticecalc.study.zones import zones_text
+        from latticecalc.units import format_value
+
+        units = {v.name: v.unit for v in self.variables}
+        return [zones_text(design, hand) if n == "zones" else
+                (format_value(design[n]) + (f" {units[n]}" if units.get(n) and isinstance(design[n], float) else ""))
+                for n in self.display_names]
 
     def rows(self) -> list[list[str]]:
         """(variable, kind, range or choices) rows for a sheet table."""
@@ -143,12 +174,33 @@ def _check_name(name: str, *, file: str | None) -> tuple[str, str | None, str]:
     return KNOWN_VARIABLES[name]
 
 
-def _choice_value(name: str, raw: Any, dim: str | None, *, file: str | None) -> Any:
+def _number(name: str, raw: Any, *, what: str, file: str | None) -> float:
+    """A plain number of a dimensionless variable (a number, or its text)."""
+    try:
+        if isinstance(raw, bool):
+            raise ValueError
+        x = float(raw)
+    except (TypeError, ValueError):
+        x = float("nan")
+    if not np.isfinite(x):
+        raise DesignSpaceError("a relative step is a plain number", input_name=f"space.{name}",
+                               expected=f"a number as the {what}, e.g. 0.2", got=repr(raw), file=file)
+    return x
+
+
+def _choice_value(name: str, raw: Any, dim: str | None, *, file: str | None, kind: str = "choice") -> Any:
     if name == "frame.enabled":
         if not isinstance(raw, bool):
             raise DesignSpaceError("frame.enabled choices are true and false", input_name=f"space.{name}",
                                    expected="[true, false]", got=repr(raw), file=file)
         return raw
+    if name == "zones.count":
+        if isinstance(raw, bool) or not isinstance(raw, int) or raw < 1:
+            raise DesignSpaceError("a zone count is a whole number from 1 (1: a uniform panel)",
+                                   input_name=f"space.{name}", expected="[1, 2, …]", got=repr(raw), file=file)
+        return int(raw)
+    if kind == "number":
+        return _number(name, raw, what="choice", file=file)
     if name == "panel.cells_deep":
         if isinstance(raw, bool) or not isinstance(raw, int) or raw < 1:
             raise DesignSpaceError("cells through the thickness are whole numbers from 1", input_name=f"space.{name}",
@@ -177,17 +229,23 @@ def variable_from_entry(name: str, entry: Any, *, file: str | None = None) -> Va
         if not raw:
             raise DesignSpaceError("a discrete variable has no choices", input_name=f"space.{name}",
                                    expected="at least one choice", got="[]", file=file)
-        choices = tuple(_choice_value(name, c, dim, file=file) for c in raw)
+        choices = tuple(_choice_value(name, c, dim, file=file, kind=kind) for c in raw)
         if len(set(choices)) != len(choices):
             raise DesignSpaceError("a choice is listed twice", input_name=f"space.{name}",
                                    expected="distinct choices", got=repr(raw), file=file)
         return Discrete(name=name, choices=choices, unit=UNITS.get(dim, "") if dim else "")
-    if kind != "quantity":
+    if kind not in ("quantity", "number"):
         raise DesignSpaceError("this variable takes a list of choices", input_name=f"space.{name}",
                                expected="{ choices = [...] }", got=repr(dict(entry)), file=file)
     if "low" not in entry or "high" not in entry:
         raise DesignSpaceError("a continuous variable needs both bounds", input_name=f"space.{name}",
                                expected='{ low = "…", high = "…" }', got=repr(dict(entry)), file=file)
+    if kind == "number":
+        low, high = (_number(name, entry[b], what=f"{b} bound", file=file) for b in ("low", "high"))
+        if not high >= low:
+            raise DesignSpaceError("the bounds are reversed", input_name=f"space.{name}",
+                                   expected="low <= high", got=f"low {low:g}, high {high:g}", file=file)
+        return Continuous(name=name, low=float(low), high=float(high), unit="")
     unit = UNITS[dim]
     low = parse(entry["low"], name=f"space.{name}.low", expected=dim, file=file).to(unit).m
     high = parse(entry["high"], name=f"space.{name}.high", expected=dim, file=file).to(unit).m
@@ -211,4 +269,39 @@ def space_from_table(table: Mapping[str, Any] | None, *, file: str | None = None
         raise DesignSpaceError("the design space is empty: nothing to search", input_name="space",
                                expected='at least one variable, e.g. "lattice.strut_diameter" = '
                                '{ low = "10 mm", high = "30 mm" }', got="no variables", file=file)
-    return DesignSpace(variables=tuple(variable_from_entry(str(k), v, file=file) for k, v in table.items()))
+    space = DesignSpace(variables=tuple(variable_from_entry(str(k), v, file=file) for k, v in table.items()))
+    check_zone_variables(space, file=file)
+    return space
+
+
+def check_zone_variables(space: DesignSpace, *, file: str | None = None) -> None:
+    """A :class:`DesignSpaceError` when a spread is given without ``zones.count`` or can leave a zone with no strut.
+
+    Zone k of n has d (1 + s (k − (n + 1)/2)) (:mod:`latticecalc.study.zones`): the outermost zones stand
+    (n − 1)/2 steps from the centre, so every diameter stays positive while |s| < 2/(n − 1), and every added
+    mass stays at or above zero while |s| <= 2/(n − 1).
+    """
+    by_name = {v.name: v for v in space.variables}
+    count = by_name.get("zones.count")
+    most = max(count.choices) if count is not None else 1
+    for name in ("zones.diameter_spread", "zones.mass_spread"):
+        v = by_name.get(name)
+        if v is None:
+            continue
+        if count is None:
+            raise DesignSpaceError("a zone spread needs the zone count in the space", input_name=f"space.{name}",
+                                   expected='"zones.count" = { choices = [1, 2, …] } beside it', got="no zones.count",
+                                   file=file)
+        if most < 2:
+            continue
+        limit = 2.0 / (most - 1)
+        worst = max(abs(v.low), abs(v.high)) if isinstance(v, Continuous) else max(abs(c) for c in v.choices)
+        bad = worst >= limit if name == "zones.diameter_spread" else worst > limit
+        if bad:
+            what = "a strut diameter of zero or less" if name == "zones.diameter_spread" else "a negative added mass"
+            bounds = (f"low {v.low:g}, high {v.high:g}" if isinstance(v, Continuous)
+                      else "choices " + ", ".join(f"{c:g}" for c in v.choices))
+            raise DesignSpaceError(f"the spread gives the outermost zone {what} with {most} zones",
+                                   input_name=f"space.{name}",
+                                   expected=f"{'|spread| < ' if name == 'zones.diameter_spread' else '|spread| <= '}"
+                                   f"{limit:g} (2 / (zones − 1) for up to {most} zones)", got=bounds, file=file)

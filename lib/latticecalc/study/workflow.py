@@ -13,10 +13,11 @@ from latticecalc.study.project import apply_design, design_changes, load_study, 
 
 @dataclass(frozen=True, kw_only=True)
 class StudyReport:
-    """A finished study run: its result and the results file written."""
+    """A finished study run: its result, the results file written and the space searched."""
 
     result: StudyResult
     results: Path
+    space: Any = None
 
 
 def run_study_project(folder: str | Path, *, scheduler: str | None = None, serial: bool = False, workers: int = 2,
@@ -33,7 +34,7 @@ def run_study_project(folder: str | Path, *, scheduler: str | None = None, seria
     finally:
         executor.close()
     path = write_results(result, study.folder, study_id=study.study_id)
-    return StudyReport(result=result, results=path)
+    return StudyReport(result=result, results=path, space=study.space)
 
 
 def apply_from_study(folder: str | Path, design_id: str, project: str | Path) -> list[str]:
@@ -48,6 +49,9 @@ def apply_from_study(folder: str | Path, design_id: str, project: str | Path) ->
     if hand.get("fits", -1.0) < 0:
         raise InputError("this design does not fit the column", input_name="design", got=repr(design_id),
                          expected="a design whose cells fit the column face and height")
-    changes = design_changes(found["design"], cells_wide=int(hand["cells_wide"]), cells_high=int(hand["cells_high"]))
+    from latticecalc.study.evaluate import full_design
+
+    changes = design_changes(found["design"], cells_wide=int(hand["cells_wide"]), cells_high=int(hand["cells_high"]),
+                             full=full_design(found["design"], study.context))
     apply_design(project, changes, source=f"design study {data['study']}, design {design_id}")
     return list(changes)

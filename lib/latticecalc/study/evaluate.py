@@ -29,7 +29,7 @@ from latticecalc.study.requirement import StudyContext
 #: Stages in the order a design meets them.
 STAGES = ("hand", "bloch", "coupled")
 #: Bumped when a stage's outputs change meaning, so stale cached evaluations are not reused.
-MODEL_VERSION = "study-5"
+MODEL_VERSION = "study-6"
 
 
 def full_design(design: Mapping[str, Any], context: StudyContext) -> dict[str, Any]:
@@ -185,8 +185,9 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     ``zone<k>_band_low`` … ``zone<k>_held_high`` [Hz]; ``coverage_margin`` is then the least over the peaks of the
     best zone's margin (``coverage_zone``, ``coverage_peak``: where it is found, 1-based), and ``band_*``/``held_*``
     are that zone's; ``f_strut`` is zone 1's strut mode, ``strut_detuning`` the nearest zone's. The mass is each
-    zone's over its rows; self-weight and the receiver estimates take zone 1's cell over the full height, as the
-    column-panel sheets do (sections 30 and 80).
+    zone's over its rows; ``mass_ratio`` and the floor estimates from it sum each zone's resonating mass over its
+    rows (:func:`_zoned_floor_estimates`); self-weight takes zone 1's cell over the full height, as the
+    column-panel sheet does (section 30).
     """
     from latticecalc import Q_
     from latticecalc.physics import receiver
@@ -283,9 +284,41 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     out.update(mass_ratio=float(est.mass_ratio), tuning=float(est.value["tuning"].to("Hz").m),
                il_hand=float(est.value["mass_host_il"]), il_bound=float(est.value["bound"]),
                dh_amplitude=float(est.step("receiver.dh-amplitude").result.m))
+    if zoning is not None:
+        out.update(_zoned_floor_estimates(zoning, cell, mats, nx=nx, ny=ny, column=column, context=context))
     out["il_margin"] = out["il_hand"] - max(req.required)
     _limits_margins(out, context)
     return out
+
+
+def _zoned_floor_estimates(zoning: Any, cell: Any, mats: Mapping[str, Any], *, nx: int, ny: int, column: Any,
+                           context: StudyContext) -> dict[str, float]:
+    """μ of a graded panel: each zone's resonating mass over its rows, every zone counted as if tuned to the peak.
+
+    The resonating mass is a sum over the struts (Rayleigh, ``receiver.receiver_estimates``), so zone k brings
+    μ_k n_k / n (μ_k of its cell over the panels' height, n_k of the n rows) and the panel the sum: an upper
+    bound of what the graded panel brings at a peak, since a zone tuned elsewhere brings less there. The
+    insertion loss on a mass-like host, the single-absorber bound and Den Hartog's amplitude follow from it with
+    the receiver sheet's formulas; ``tuning`` is the strut tuning of the zone nearest the first peak.
+    """
+    from latticecalc import Q_
+    from latticecalc.physics import receiver
+
+    req = context.requirement
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        ests = [receiver.receiver_estimates(zoning.zone_cell(cell, k), material=mats["lattice"], nx=nx, ny=ny,
+                                            column=column, faces=context.faces, direction=req.direction,
+                                            node_zones=context.node_zones) for k in range(len(zoning.zones))]
+    mu = float(sum(e.mass_ratio * z.cells_high for e, z in zip(ests, zoning.zones)) / ny)
+    tunings = [float(e.value["tuning"].to("Hz").m) for e in ests]
+    eta_a = Q_(float(mats["lattice"].loss_factor), "")
+    eta_h = Q_(float(column.material.loss_factor), "")
+    return {"mass_ratio": mu, "tuning": min(tunings, key=lambda f: abs(f / req.peaks[0] - 1.0)),
+            "il_hand": float(Q_(receiver.IL_MASS_HOST.evaluate({"mu": Q_(mu, ""), "eta_a": eta_a})).m),
+            "il_bound": float(Q_(receiver.IL_BOUND.evaluate({"mu": Q_(mu, ""), "eta_a": eta_a,
+                                                              "eta_h": eta_h})).m),
+            "dh_amplitude": float(Q_(receiver.DH_AMPLITUDE.evaluate({"mu": Q_(mu, "")})).m)}
 
 
 def bloch_stage(design: Mapping[str, Any], context: StudyContext, *,

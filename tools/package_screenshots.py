@@ -21,6 +21,7 @@ FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Draw the three screenshots; 0 when written, 2 with a message when something is missing or in the way."""
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("package", type=Path, help="the exported HTML package")
     ap.add_argument("out", type=Path, help="folder for the three PNG files")

@@ -37,8 +37,19 @@ QUICK_FE = {"fe.path_points": 20, "fe.zone_points": 0, "fe.frequencies": 60, "to
             "receiver.frequencies": 40, "sweep.added_masses": ["0 g", "100 g"]}
 
 
-def make_quick(folder):
-    """Coarsen a column-panel project's numerical check (through the inputs API) so a run takes seconds."""
+#: A design study's search cut down to a few designs (the demo's own counts are in
+#: calcs/quillon-yard-study/inputs.toml): same space, requirement, limits and seed, fewer designs.
+QUICK_STUDY = {"search.screen": 24, "search.population": 8, "search.generations": 2, "search.bloch": 2,
+               "search.coupled": 1}
+
+#: Text that would run script, load a picture or break out of the markup if it were not escaped (each part
+#: sets ``window.__lcPwned`` or opens a dialog if it ever runs), for every user-typed field of a project.
+HOSTILE = ('<script>window.__lcPwned = 1; alert("x")</script><img src=x onerror="window.__lcPwned=2;alert(2)">'
+           '"\'><svg onload="window.__lcPwned=3"></svg></td></table></style></script>&')
+
+
+def _set_known(folder, values: dict):
+    """Set those of ``values`` that the project's template has as inputs (through the inputs API)."""
     from pathlib import Path
 
     from latticecalc.project.inputs import set_values
@@ -46,9 +57,19 @@ def make_quick(folder):
 
     folder = Path(folder)
     spec = load_template_spec(folder / "template.toml")
-    set_values(folder / "inputs.toml", spec, {k: v for k, v in QUICK_FE.items()
+    set_values(folder / "inputs.toml", spec, {k: v for k, v in values.items()
                                               if any(s.name == k for s in spec.inputs)})
     return folder
+
+
+def make_quick(folder):
+    """Coarsen a column-panel project's numerical check (through the inputs API) so a run takes seconds."""
+    return _set_known(folder, QUICK_FE)
+
+
+def make_quick_study(folder):
+    """Cut a design-study project's search down to :data:`QUICK_STUDY` (nothing else in any other template)."""
+    return _set_known(folder, QUICK_STUDY)
 
 
 def package_paths(folder):

@@ -1,14 +1,13 @@
 """The demo's calc package opens in headless Chromium with its math laid out, offline.
 
-Nothing here reads the demo's numbers, so the demo is built with its column-panel's numerical check
-coarsened (``make_quick`` applied to each demo project before it runs): the same build, projects,
-overlays and package, in a fraction of the time.
+Nothing here reads the demo's numbers, so the demo is the session's quick demo (``quick_demo`` in
+tests/conftest.py: the column-panel's numerical check coarsened and the study's search cut down before each
+project runs): the same build, projects, overlays and package, in a fraction of the time.
 """
 
 from __future__ import annotations
 
 import pytest
-from tests.helpers import make_quick
 
 from latticecalc.project import demo
 
@@ -16,18 +15,9 @@ pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
 
 @pytest.fixture(scope="module")
-def demo_html(tmp_path_factory):
-    real_run = demo.run_project
-
-    def quick_run(folder, **kwargs):
-        make_quick(folder)
-        return real_run(folder, **kwargs)
-
-    with pytest.MonkeyPatch.context() as mp:
-        mp.setattr(demo, "run_project", quick_run)
-        report = demo.build_demo(tmp_path_factory.mktemp("demo") / "d", progress=None)
-    assert len(report.packages) == len(demo.demo_projects())
-    return report.main_package
+def demo_html(quick_demo):
+    assert len(quick_demo.packages) == len(demo.demo_projects())
+    return quick_demo.main_package
 
 
 def test_demo_package_renders_math_offline(browser, demo_html, tmp_path):

@@ -1,10 +1,10 @@
 """What a checker reads in a calc package: no Python reprs, no raw LaTeX, no e-notation in the maths, no
 check line whose words or signs the numbers or the verdict contradict.
 
-One quick project per template (column-panel, site-survey, prototype-test) and the demo's design study
-(its search cut down, beside the demo survey it reads its requirement from) is built, run and exported,
-then opened in headless Chromium; the scan reads the text the page shows (``innerText``), so what
-it checks is what a reader sees.
+The session's quick project of each template (column-panel, site-survey, prototype-test: ``executed_projects``)
+and the design study of the session's quick demo (``quick_demo``: its search cut down, beside the demo survey
+it reads its requirement from), run and exported once in tests/conftest.py, are opened in headless
+Chromium; the scan reads the text the page shows (``innerText``), so what it checks is what a reader sees.
 
 Sources: the kit's own promise (a package states no falsehood and shows values as an engineer writes
 them); BIPM, *The International System of Units (SI Brochure)*, 9th ed. (2019), §5.4: a power of ten is
@@ -16,21 +16,15 @@ from __future__ import annotations
 import re
 
 import pytest
-from tests.helpers import make_quick
+from tests.helpers import package_paths
 
 from latticecalc import Q_
-from latticecalc.project.export import export_project
-from latticecalc.project.runner import run_project
-from latticecalc.project.templates import new_project
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
 TEMPLATES = ("column-panel", "site-survey", "prototype-test")
 #: The demo's design study: its nearest-designs table shows every kind of value a study writes.
 PACKAGES = TEMPLATES + ("demo-design-study",)
-#: The demo study's search, cut down (its own counts are in calcs/quillon-yard-study/inputs.toml).
-QUICK_STUDY = {"search.screen": 24, "search.population": 8, "search.generations": 2, "search.bloch": 2,
-               "search.coupled": 1}
 
 #: Python reprs that must never reach a page a checker reads.
 REPR_ANYWHERE = ("[]", "{'", "[np.", "np.float64(", "array([")
@@ -52,34 +46,11 @@ _RELATION = re.compile(
 
 
 @pytest.fixture(scope="module")
-def packages(tmp_path_factory):
-    """The exported HTML of a quick project of each template, by template name."""
-    out = {}
-    for name in TEMPLATES:
-        folder = new_project(tmp_path_factory.mktemp(name) / "p", template=name)
-        make_quick(folder)
-        run_project(folder, progress=None)
-        out[name] = export_project(folder).html
-    out["demo-design-study"] = _demo_study_package(tmp_path_factory.mktemp("demo"))
+def packages(executed_projects, quick_demo):
+    """The exported HTML of the session's quick project of each template, and of the quick demo's study."""
+    out = {name: package_paths(executed_projects.get(name))[0] for name in TEMPLATES}
+    out["demo-design-study"] = package_paths(quick_demo.folder / "quillon-yard-study")[0]
     return out
-
-
-def _demo_study_package(root):
-    """The demo's design study (quick search), beside the demo survey and column-panel projects it reads."""
-    from latticecalc.project.demo import _overlay, demo_projects
-    from latticecalc.project.inputs import set_values
-    from latticecalc.project.schema import load_template_spec
-    from latticecalc.project.templates import demo_root
-
-    templates = {p.folder: p.template for p in demo_projects()}
-    for name in ("quillon-yard-survey", "quillon-yard-c3", "quillon-yard-study"):
-        _overlay(demo_root() / name, new_project(root / name, template=templates[name]))
-    run_project(root / "quillon-yard-survey", progress=None)
-    export_project(root / "quillon-yard-survey")
-    study = root / "quillon-yard-study"
-    set_values(study / "inputs.toml", load_template_spec(study / "template.toml"), QUICK_STUDY)
-    run_project(study, progress=None)
-    return export_project(study).html
 
 
 def _quantity(text: str):

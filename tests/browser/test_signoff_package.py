@@ -7,61 +7,22 @@ The browser is Debian's chromium driven by Playwright (``browser`` fixture in co
 
 from __future__ import annotations
 
-import json
 import shutil
 from pathlib import Path
 
 import pytest
-import tomlkit
 
-from latticecalc.project import open_project
-from latticecalc.project.export import export_project
-from latticecalc.project.runner import run_project
-from latticecalc.project.signoff import add_comment, reply_comment, sign_project, verify_package
+from latticecalc.project.signoff import verify_package
 
 pytestmark = [pytest.mark.browser]
 
-# Each sets a flag or opens a dialog if it ever runs; the test checks that none did.
-HOSTILE = ('<script>window.__lcPwned = 1; alert("x")</script><img src=x onerror="window.__lcPwned=2;alert(2)">'
-           '"\'><svg onload="window.__lcPwned=3"></svg></td></table></style></script>')
-
-
-def _edit_toml(path: Path, edit) -> None:
-    doc = tomlkit.parse(path.read_text(encoding="utf-8"))
-    edit(doc)
-    path.write_text(tomlkit.dumps(doc), encoding="utf-8")
-
 
 @pytest.fixture(scope="module")
-def hostile_package(tmp_path_factory, executed_projects) -> Path:
-    """A project whose every user-typed field holds script and markup, reviewed and signed.
-
-    A copy of the session's quick project (tests/conftest.py): its rerun finds the results whose
-    inputs did not change in the copied result cache.
-    """
-    folder = executed_projects.copy("column-panel", tmp_path_factory.mktemp("hostile") / "panel")
-
-    def meta(doc):
-        for key in ("name", "number", "client"):
-            doc["project"][key] = f"{key} {HOSTILE}"
-        for key in ("title", "prepared_by", "description"):
-            doc["calc"][key] = f"{key} {HOSTILE}"
-
-    def inputs(doc):
-        doc["lattice"]["strut_diameter"] = {"value": "3 mm", "source": f"source {HOSTILE}"}
-
-    _edit_toml(folder / "cover.toml", meta)
-    _edit_toml(folder / "inputs.toml", inputs)
-    run_project(folder, progress=None)
-    export_project(folder)
-    stem = open_project(folder).meta.package_stem
-    data = json.loads((folder / "out" / f"{stem}.json").read_text(encoding="utf-8"))
-    first = data["results"][0]["id"]
-    add_comment(folder, step=first, author=f"author {HOSTILE}", text=f"comment {HOSTILE}")
-    reply_comment(folder, "CQ-1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
-    sign_project(folder, role="prepared", name=f"signer {HOSTILE}", comment=f"remark {HOSTILE}")
-    report = export_project(folder, pdf=shutil.which("chromium") is not None)
-    return report.html
+def hostile_package(hostile_panel) -> Path:
+    """A project whose every user-typed field holds script and markup (``tests.helpers.HOSTILE``: each part
+    sets ``window.__lcPwned`` or opens a dialog if it ever runs), reviewed and signed: the session's
+    ``hostile_panel`` (tests/conftest.py), shared with the escaping tests of the HTML text."""
+    return hostile_panel
 
 
 def test_hostile_strings_are_inert_in_chromium(browser, hostile_package, tmp_path):

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import nbformat
 import pytest
+from tests.helpers import HOSTILE
 
 from latticecalc.cli import main as cli
 from latticecalc.errors import NotebookError, ProjectError
@@ -72,19 +73,15 @@ def test_external_pattern_catches_what_it_should():
     assert EXTERNAL.findall("background: url( 'http://x/y.png')")
 
 
-def test_hostile_project_title_is_inert(quick_panel_copy):
-    folder = quick_panel_copy                      # the rerun below finds the receiver's results cached
-    meta = folder / "cover.toml"
-    hostile = "<script>alert(1)</script>"
-    meta.write_text(meta.read_text().replace('title = "Lattice absorber panel, column ..."',
-                                             f'title = "{hostile}"').replace('name = "Project name"',
-                                                                             'name = "<img src=x onerror=alert(2)>"'))
-    report = export_project(folder, run=True, progress=None)
-    text = report.html.read_text()
-    assert hostile not in text and "<img src=x" not in text
-    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in text
-    data = json.loads(report.json.read_text())
-    assert data["project"]["title"] == hostile  # kept verbatim as data, escaped only in HTML
+def test_hostile_project_title_is_inert(hostile_panel):
+    """The session's hostile project (tests/conftest.py): its title and name hold ``HOSTILE``, run and
+    exported through ``export --run``."""
+    text = hostile_panel.read_text()
+    assert "<script>window" not in text and "<img src=x" not in text
+    assert "&lt;script&gt;window.__lcPwned = 1; alert(&quot;x&quot;)&lt;/script&gt;" in text
+    data = json.loads(hostile_panel.with_suffix(".json").read_text())
+    assert data["project"]["title"] == f"title {HOSTILE}"  # kept verbatim as data, escaped only in HTML
+    assert data["project"]["name"] == f"name {HOSTILE}"
 
 
 def test_stale_project_is_refused_and_old_package_kept(exported, tmp_path):

@@ -176,18 +176,12 @@ def test_every_step_of_a_demo_run_reevaluates(tmp_path, monkeypatch, demo):
 
 
 @pytest.mark.slow
-def test_every_step_of_a_column_panel_run_reevaluates(tmp_path, monkeypatch):
+def test_every_step_of_a_column_panel_run_reevaluates(quick_panel_copy, monkeypatch):
     # the kit's promise (DEVELOPERS.md: the formula a step shows is the one it evaluates), on the
-    # column-panel template with its own example inputs, coarsened so the run takes about a minute
-    from tests.helpers import make_quick
-
-    from latticecalc.project.inputs import set_values
-    from latticecalc.project.schema import load_template_spec
-    from latticecalc.project.templates import new_project
-
-    folder = make_quick(new_project(tmp_path / "panel", template="column-panel"))
-    spec = load_template_spec(folder / "template.toml")
-    set_values(folder / "inputs.toml", spec, {"receiver.frequencies": 40, "sweep.added_masses": ["0 g", "50 g"]})
+    # column-panel template with its own example inputs, coarsened by make_quick: a copy of the session's
+    # quick project, whose result cache spares this run the Bloch, panel and receiver computations (the
+    # steps are built from the cached results as from computed ones)
+    folder = quick_panel_copy
     made = _steps_of_a_run(folder, monkeypatch)
     formula_steps = [s for s in made if s.formula is not None]
     ids = {s.id for s in formula_steps}

@@ -1,26 +1,23 @@
 """The demo's design study states feasibility honestly: what its package calls feasible, nearest and short by.
 
-The demo study (calcs/quillon-yard-study) is built as ``latticecalc demo`` builds it (its template plus its
-own inputs, beside the demo survey and column-panel projects it reads), with the search counts cut down so the
-test stays quick: same space, requirement, limits and seed, fewer designs. Every statement of its sheet is
-compared with the evaluated constraint values it rests on.
+The demo study (calcs/quillon-yard-study) is the session's quick demo (``quick_demo`` in tests/conftest.py:
+built by ``latticecalc demo``'s own code, beside the demo survey and column-panel projects it reads), with the
+search counts cut down so the test stays quick: same space, requirement, limits and seed, fewer designs. Every
+statement of its sheet is compared with the evaluated constraint values it rests on.
 """
 
 from __future__ import annotations
 
 import json
 import math
+import shutil
 
 import pytest
+from tests.helpers import package_paths
 
 from latticecalc import Q_
 from latticecalc.physics import receiver
-from latticecalc.project.demo import _overlay, demo_projects
-from latticecalc.project.export import export_project
-from latticecalc.project.inputs import set_values
-from latticecalc.project.runner import run_project
-from latticecalc.project.schema import load_template_spec
-from latticecalc.project.templates import demo_root, new_project
+from latticecalc.project.demo import demo_projects
 from latticecalc.study import shortfall
 from latticecalc.study.engine import Constraint, DesignRecord, StudyResult, StudySettings
 from latticecalc.study.project import load_study
@@ -32,26 +29,17 @@ pytestmark = pytest.mark.slow
 #: a shortfall restates an evaluated margin in the check's own unit: only round-off may differ (common practice)
 RTOL = 1e-12
 
-#: the demo study's search, cut down (the demo's own counts are in its inputs.toml)
-QUICK = {"search.screen": 24, "search.population": 8, "search.generations": 2, "search.bloch": 2,
-         "search.coupled": 1}
-
 
 @pytest.fixture(scope="module")
-def demo_study(tmp_path_factory):
-    """The demo's survey (run and exported: the requirement comes from its export), C3 and study projects."""
+def demo_study(quick_demo, tmp_path_factory):
+    """A copy of the quick demo's study, run and exported, beside copies of the survey and C3 projects it reads
+    (the study reruns its search here, writing beside its evaluations)."""
     root = tmp_path_factory.mktemp("demo")
     wanted = {"quillon-yard-survey", "quillon-yard-c3", "quillon-yard-study"}
-    projects = {p.folder: p for p in demo_projects() if p.folder in wanted}
-    assert set(projects) == wanted, "the demo lists its design study (calcs/demo.toml)"
-    for name in ("quillon-yard-survey", "quillon-yard-c3", "quillon-yard-study"):
-        folder = new_project(root / name, template=projects[name].template)
-        _overlay(demo_root() / name, folder)
-    run_project(root / "quillon-yard-survey", progress=None)
-    export_project(root / "quillon-yard-survey")
-    study = root / "quillon-yard-study"
-    set_values(study / "inputs.toml", load_template_spec(study / "template.toml"), QUICK)
-    return study
+    assert wanted <= {p.folder for p in demo_projects()}, "the demo lists its design study (calcs/demo.toml)"
+    for name in wanted:
+        shutil.copytree(quick_demo.folder / name, root / name)
+    return root / "quillon-yard-study"
 
 
 def _restated(s: shortfall.Shortfall, record: DesignRecord, context) -> float:
@@ -126,14 +114,13 @@ def _lattice_loss_factor(ctx, record) -> float:
 
 
 def test_demo_study_package_shows_the_nearest_designs_and_the_verdict(demo_study):
-    run_project(demo_study, progress=None)       # the study's evaluations are kept: the notebook reuses them
-    report = export_project(demo_study)
-    data = json.loads(report.html.with_suffix(".json").read_text())
+    html_path, json_path = package_paths(demo_study)     # run and exported as the demo does it
+    data = json.loads(json_path.read_text())
     results = {r["id"]: r for r in data["results"]}
     study = load_study(demo_study)
     res = run_study_project(demo_study, serial=True).result
     assert results["study.pareto-count"]["value"] == len(res.pareto)
-    html = report.html.read_text()
+    html = html_path.read_text()
     if not res.met:
         assert "No design meets every check" in html
         for s in shortfall.shortfalls(shortfall.nearest_designs(res, study.settings, study.space), study.settings,

@@ -30,19 +30,11 @@ pytestmark = pytest.mark.slow
 RECORD = "records/site-demo.csv"
 
 
-@pytest.fixture(scope="module")
-def ran_survey(tmp_path_factory) -> Path:
-    """A site-survey project (its demo record generated from the seed), run and exported once: copy it."""
-    folder = new_project(tmp_path_factory.mktemp("lineage") / "survey", template="site-survey")
-    export_project(folder, run=True, progress=None)
-    return folder
-
-
 @pytest.fixture
-def survey(ran_survey, tmp_path) -> Path:
-    dest = tmp_path / "survey"
-    shutil.copytree(ran_survey, dest)
-    return dest
+def survey(executed_projects, tmp_path) -> Path:
+    """A private copy of the session's site-survey project (its demo record generated from the seed, run and
+    exported once: tests/conftest.py)."""
+    return executed_projects.copy("site-survey", tmp_path / "survey")
 
 
 def _json_of(folder: Path) -> Path:
@@ -136,11 +128,10 @@ def test_signed_upstream_gives_its_status_and_preliminary_upstream_blocks_checki
     assert "cannot be marked approved before it is approved" in upstream_problems([row.to_dict()], "approved")[0]
 
 
-@pytest.fixture(scope="module")
-def ran_prototype(tmp_path_factory) -> Path:
-    folder = new_project(tmp_path_factory.mktemp("lineage") / "coupon", template="prototype-test")
-    export_project(folder, run=True, progress=None)
-    return folder
+@pytest.fixture
+def ran_prototype(executed_projects) -> Path:
+    """The session's prototype-test project, run and exported once (tests/conftest.py). Read only: copy it."""
+    return executed_projects.get("prototype-test")
 
 
 def test_a_calibration_export_edited_to_1e300_mpa_is_refused_before_use(ran_prototype, tmp_path):

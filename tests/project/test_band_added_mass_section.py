@@ -68,3 +68,19 @@ def test_sections_10_and_40_graded_panel_give_each_zone_its_own_mass(tmp_path):
     modes = next(r for r in strut.records("table") if r.get("id") == "strut.zone-modes")
     assert [row[4] for row in modes["rows"]] == [f"{steps[f'band.zone{k}.f1-cc']['result']['value']:.4g}"
                                                  for k in (1, 2)]
+
+
+def test_section_70_scatter_factors_count_the_midspan_mass(tmp_path):
+    """The coverage section's geometry and density factors are those of the strut with its mid-span mass (Rao
+    2017 §8.7 Rayleigh formula), not the bare strut's d/L² and 1/√ρ."""
+    folder = tmp_path / "panel"
+    shutil.copytree(templates_root() / "column-panel", folder)
+    make_quick(folder)
+    proj = open_project(folder)
+    set_values(folder / "inputs.toml", proj.template, {"lattice.added_mass": "2 g"})
+    run_project(folder, progress=None, only=["70"])
+    doc = collect(sorted((folder / "out" / "executed").glob("70_*.ipynb")))
+    steps = {r["id"]: r for r in doc.records("step")}
+    geometry = [r for k, r in steps.items() if k.startswith("coverage.geometry") and k.endswith("factor-low")]
+    assert geometry, sorted(steps)
+    assert all("at mid-span" in r["description"] and "M_\\mathrm{a}" in r["formula_latex"] for r in geometry)

@@ -38,7 +38,9 @@ from latticecalc.errors import DimensionError, InputError
 from latticecalc.physics.beams import (
     AREA_CIRCLE,
     EULER_BERNOULLI_FREQUENCY,
+    MIDSPAN_MASS_FREQUENCY_CC,
     RAO_2017,
+    RAYLEIGH_MIDSPAN_CC,
     SECOND_MOMENT_CIRCLE,
     bending_frequency,
     eigenvalue,
@@ -303,8 +305,48 @@ DENSITY_FREQUENCY_RATIO = Formula("s_rho", sp.simplify(_F.subs({_rho: _rho2}) / 
                                   {"s_rho": r"s_{\rho}", "rho_2": r"\rho'"})
 
 
+def _midspan_mass_expr() -> sp.Expr:
+    """Clamped strut frequency with a mid-span mass M_a, symbols positive.
+
+    :data:`MIDSPAN_MASS_FREQUENCY_CC` (Rayleigh) with a solid circle's I and the strut's own mass
+    m_s = ρ (π d²/4) L put in.
+    """
+    f = MIDSPAN_MASS_FREQUENCY_CC.expr
+    d, rho = sp.Symbol("d", positive=True), sp.Symbol("rho", positive=True)
+    L = _symbol(f, "L")
+    expr = f.subs({_symbol(f, "I"): sp.pi * d**4 / 64, _symbol(f, "m_s"): rho * sp.pi * d**2 / 4 * L})
+    return expr.subs({s: sp.Symbol(s.name, positive=True) for s in expr.free_symbols})
+
+
+_FM = _midspan_mass_expr()
+_dm, _Lm, _rhom = (_symbol(_FM, n) for n in ("d", "L", "rho"))
+#: As :data:`GEOMETRY_FREQUENCY_RATIO` for a strut carrying a mass M_a at mid-span: the Rayleigh frequency
+#: (Rao 2017 §8.7, static deflection shape) with changed diameter and length over the nominal one. A heavy
+#: mass makes the frequency go as d²/L^1.5 rather than d/L², so the tolerances move it further.
+GEOMETRY_FREQUENCY_RATIO_MASS = Formula("s_g", sp.simplify(_FM.subs({_dm: _d2, _Lm: _L2}) / _FM),
+                                        {"s_g": r"s_{\mathrm{geo}}", "d_2": "d'", "L_2": "L'",
+                                         "M_a": r"M_\mathrm{a}"})
+#: As :data:`DENSITY_FREQUENCY_RATIO` for a strut carrying a mass at mid-span (the mass itself unchanged).
+DENSITY_FREQUENCY_RATIO_MASS = Formula("s_rho", sp.simplify(_FM.subs({_rhom: _rho2}) / _FM),
+                                       {"s_rho": r"s_{\rho}", "rho_2": r"\rho'", "M_a": r"M_\mathrm{a}"})
+
+
+def _mass_of(added_mass, density) -> tuple[pint.Quantity | None, pint.Quantity | None]:
+    """(M_a in g, ρ in kg/m³) when the strut carries a mass at mid-span, else (None, None)."""
+    if added_mass is None:
+        return None, None
+    Ma = check_dimension(added_mass, name="added_mass", expected="mass").to("g")
+    if not float(Ma.m) > 0:
+        return None, None
+    if density is None:
+        raise InputError("a strut with a mass at mid-span needs the strut density for its frequency factors",
+                         input_name="density", expected="the lattice material's density", got="none")
+    rho = check_positive(check_dimension(density, name="density", expected="density"), name="density")
+    return Ma, rho.to("kg/m^3")
+
+
 def strut_frequency_factors(*, length, diameter, length_tolerance=None, diameter_tolerance=None,
-                            id_prefix: str = "strut.geometry") -> CalcResult:
+                            added_mass=None, density=None, id_prefix: str = "strut.geometry") -> CalcResult:
     """Lowest and highest strut-frequency factors under the diameter and length tolerances.
 
     f ∝ d / L² (Euler–Bernoulli, solid circle, Rao 2017 eq. 8.82), so the frequency is lowest at
@@ -316,6 +358,10 @@ def strut_frequency_factors(*, length, diameter, length_tolerance=None, diameter
         Nominal strut length and diameter [length].
     length_tolerance, diameter_tolerance:
         ± half-widths: a length, or a dimensionless fraction; ``None`` for none.
+    added_mass, density:
+        A mass at the strut's mid-span [mass] and the strut material's density [density]: with a mass
+        above zero the factors come from the Rayleigh frequency of the strut with the mass
+        (:data:`GEOMETRY_FREQUENCY_RATIO_MASS`), which the tolerances move further than d/L².
     id_prefix:
         Prefix of the step ids (``<prefix>.factor-low``, ``<prefix>.factor-high``).
 
@@ -328,33 +374,52 @@ def strut_frequency_factors(*, length, diameter, length_tolerance=None, diameter
     d = check_positive(check_dimension(diameter, name="diameter", expected="length"), name="diameter").to("mm")
     hl = half_width(L, length_tolerance, name="length_tolerance").to("mm")
     hd = half_width(d, diameter_tolerance, name="diameter_tolerance").to("mm")
-    lo = evaluate(GEOMETRY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-low", unit="", sig=4, source=RAO_2017,
+    Ma, rho = _mass_of(added_mass, density)
+    formula, source = ((GEOMETRY_FREQUENCY_RATIO, RAO_2017) if Ma is None
+                       else (GEOMETRY_FREQUENCY_RATIO_MASS, RAYLEIGH_MIDSPAN_CC))
+    extra = {} if Ma is None else {"M_a": Ma, "rho": rho}
+    with_mass = "" if Ma is None else f", {format_quantity(Ma)} at mid-span"
+    lo = evaluate(formula, id=f"{id_prefix}.factor-low", unit="", sig=4, source=source,
                   description="Strut frequency factor, thinnest and longest strut within the tolerances "
-                              f"(d − {format_quantity(hd)}, L + {format_quantity(hl)})",
-                  values={"d": d, "L": L, "d_2": d - hd, "L_2": L + hl})
-    hi = evaluate(GEOMETRY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-high", unit="", sig=4, source=RAO_2017,
+                              f"(d − {format_quantity(hd)}, L + {format_quantity(hl)}{with_mass})",
+                  values={"d": d, "L": L, "d_2": d - hd, "L_2": L + hl, **extra})
+    hi = evaluate(formula, id=f"{id_prefix}.factor-high", unit="", sig=4, source=source,
                   description="Strut frequency factor, thickest and shortest strut within the tolerances "
-                              f"(d + {format_quantity(hd)}, L − {format_quantity(hl)})",
-                  values={"d": d, "L": L, "d_2": d + hd, "L_2": L - hl})
+                              f"(d + {format_quantity(hd)}, L − {format_quantity(hl)}{with_mass})",
+                  values={"d": d, "L": L, "d_2": d + hd, "L_2": L - hl, **extra})
     return CalcResult(value=(float(lo.result.m), float(hi.result.m)), steps=(lo, hi),
                       title="Strut frequency factors under the geometry tolerances")
 
 
-def density_frequency_factors(*, density, density_tolerance=None, id_prefix: str = "strut.density") -> CalcResult:
+def density_frequency_factors(*, density, density_tolerance=None, added_mass=None, length=None, diameter=None,
+                              id_prefix: str = "strut.density") -> CalcResult:
     """Lowest and highest strut-frequency factors under a density tolerance (f ∝ 1/√ρ, Rao 2017 eq. 8.82).
 
     ``density`` [mass / length³]; ``density_tolerance`` a ± half-width (density or fraction) or ``None``.
-    ``value`` = (low, high) as floats.
+    With ``added_mass`` above zero (a mass at mid-span, which the density tolerance leaves unchanged) the
+    factors come from the Rayleigh frequency with the mass (:data:`DENSITY_FREQUENCY_RATIO_MASS`), which
+    needs the strut ``length`` and ``diameter``.  ``value`` = (low, high) as floats.
     """
     rho = check_positive(check_dimension(density, name="density", expected="density"), name="density").to("kg/m^3")
     hr = half_width(rho, density_tolerance, name="density_tolerance").to("kg/m^3")
-    lo = evaluate(DENSITY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-low", unit="", sig=4, source=RAO_2017,
+    Ma, _ = _mass_of(added_mass, rho)
+    if Ma is None:
+        formula, source, extra, with_mass = DENSITY_FREQUENCY_RATIO, RAO_2017, {}, ""
+    else:
+        if length is None or diameter is None:
+            raise InputError("a strut with a mass at mid-span needs its length and diameter for its density factors",
+                             input_name="length", expected="the strut length and diameter", got="none")
+        formula, source = DENSITY_FREQUENCY_RATIO_MASS, RAYLEIGH_MIDSPAN_CC
+        with_mass = f", {format_quantity(Ma)} at mid-span"
+        extra = {"M_a": Ma, "L": check_dimension(length, name="length", expected="length").to("mm"),
+                 "d": check_dimension(diameter, name="diameter", expected="length").to("mm")}
+    lo = evaluate(formula, id=f"{id_prefix}.factor-low", unit="", sig=4, source=source,
                   description="Strut frequency factor, densest material within the tolerance "
-                              f"(ρ + {format_quantity(hr)})",
-                  values={"rho": rho, "rho_2": rho + hr})
-    hi = evaluate(DENSITY_FREQUENCY_RATIO, id=f"{id_prefix}.factor-high", unit="", sig=4, source=RAO_2017,
+                              f"(ρ + {format_quantity(hr)}{with_mass})",
+                  values={"rho": rho, "rho_2": rho + hr, **extra})
+    hi = evaluate(formula, id=f"{id_prefix}.factor-high", unit="", sig=4, source=source,
                   description="Strut frequency factor, lightest material within the tolerance "
-                              f"(ρ − {format_quantity(hr)})",
-                  values={"rho": rho, "rho_2": rho - hr})
+                              f"(ρ − {format_quantity(hr)}{with_mass})",
+                  values={"rho": rho, "rho_2": rho - hr, **extra})
     return CalcResult(value=(float(lo.result.m), float(hi.result.m)), steps=(lo, hi),
                       title="Strut frequency factors under the density tolerance")

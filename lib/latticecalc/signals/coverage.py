@@ -14,9 +14,12 @@ frequency factors (low, high) on the whole band:
 * modulus scatter, f ∝ √E: the batch tolerance on the catalogue modulus, or the calibrated
   modulus with its worst-case half-width (:func:`modulus_scatter`);
 * temperature range: the material's ``modulus_low_factor``/``modulus_high_factor`` (:func:`temperature_range`);
-* strut geometry, f ∝ d/L², and density, f ∝ 1/√ρ (:func:`strut_geometry`, :func:`density_scatter`);
+* strut geometry, f ∝ d/L², and density, f ∝ 1/√ρ (:func:`strut_geometry`, :func:`density_scatter`); for
+  struts carrying a mass at mid-span, the ratios of the Rayleigh frequency with that mass (f → d²/L^1.5 as
+  the mass dominates; the density then matters less);
 * end fixity: the frequency factor of the modelled clamped–clamped strut ends against a bracket
-  such as clamped–pinned, (λ_cp/λ_cc)² = (3.9266/4.7300)² = 0.689 (Rao 2017 Table 8.1; :func:`end_fixity`);
+  such as clamped–pinned, (λ_cp/λ_cc)² = (3.9266/4.7300)² = 0.689 (Rao 2017 Table 8.1; :func:`end_fixity`),
+  the bare strut's bracket also for struts with a mass (no closed form for a clamped–pinned strut with one);
 * the spread of the measured peak, ± Δ: the band must hold the peak anywhere in f ± Δ, the same as
   the band moved by f/(f + Δ) and f/(f − Δ) (:func:`peak_spread`).
 
@@ -430,15 +433,18 @@ def temperature_range(*, material, id_prefix: str = "coverage.temperature") -> B
                         high=hi.result.m, steps=(lo, hi))
 
 
-def strut_geometry(*, length, diameter, length_tolerance, diameter_tolerance, basis: str = "",
-                   id_prefix: str = "coverage.geometry") -> BandUncertainty:
+def strut_geometry(*, length, diameter, length_tolerance, diameter_tolerance, added_mass=None, density=None,
+                   basis: str = "", id_prefix: str = "coverage.geometry") -> BandUncertainty:
     """Band factors of the strut diameter and length tolerances (f ∝ d/L², worst corners).
 
     ``length``, ``diameter`` [length] of the resonating (longest lattice) strut; tolerances ± half-widths
-    [length or fraction].  See :func:`latticecalc.physics.tolerance.strut_frequency_factors`.
+    [length or fraction]; ``added_mass`` [mass] at the strut's mid-span with the strut ``density``: the
+    factors of the strut with that mass (f ∝ d²/L^1.5 as the mass dominates).  See
+    :func:`latticecalc.physics.tolerance.strut_frequency_factors`.
     """
     res = tol.strut_frequency_factors(length=length, diameter=diameter, length_tolerance=length_tolerance,
-                                      diameter_tolerance=diameter_tolerance, id_prefix=id_prefix)
+                                      diameter_tolerance=diameter_tolerance, added_mass=added_mass,
+                                      density=density, id_prefix=id_prefix)
     L = check_dimension(length, name="length", expected="length").to("mm")
     d = check_dimension(diameter, name="diameter", expected="length").to("mm")
     hl = tol.half_width(L, length_tolerance, name="length_tolerance").to("mm")
@@ -448,10 +454,15 @@ def strut_geometry(*, length, diameter, length_tolerance, diameter_tolerance, ba
                         low=res.value[0], high=res.value[1], steps=res.steps)
 
 
-def density_scatter(*, density, density_tolerance, basis: str = "",
+def density_scatter(*, density, density_tolerance, added_mass=None, length=None, diameter=None, basis: str = "",
                     id_prefix: str = "coverage.density") -> BandUncertainty:
-    """Band factors of a density tolerance (f ∝ 1/√ρ); ``density`` [density], tolerance ± (density or fraction)."""
+    """Band factors of a density tolerance (f ∝ 1/√ρ); ``density`` [density], tolerance ± (density or fraction).
+
+    With ``added_mass`` at the strut's mid-span (and the strut ``length`` and ``diameter``) the factors of
+    the strut with that mass, which the density moves less.
+    """
     res = tol.density_frequency_factors(density=density, density_tolerance=density_tolerance,
+                                        added_mass=added_mass, length=length, diameter=diameter,
                                         id_prefix=id_prefix)
     rho = check_dimension(density, name="density", expected="density").to("kg/m^3")
     hr = tol.half_width(rho, density_tolerance, name="density_tolerance")

@@ -289,15 +289,13 @@ def data_files(project: Project, *, verify_exports: bool = True) -> list[DataFil
             continue
         text = entry.value.strip()
         path = (project.folder / text)
-        digest = file_sha256(path)
+        # an export is identified by what it says; its bytes are hashed only when it is not a sealed export
+        identity = export_identity(path) if _looks_like_export(path) else None
+        digest, basis = (identity, "export") if identity is not None else (file_sha256(path), "file")
         size = path.stat().st_size if len(digest) == 64 else None
-        package, basis = None, "file"
-        if size is not None and _looks_like_export(path):
-            if verify_exports:
-                package = check_export(path, input_name=entry.spec.name, file=text)
-            identity = export_identity(path)
-            if identity is not None:
-                digest, basis = identity, "export"
+        package = None
+        if verify_exports and size is not None and _looks_like_export(path):
+            package = check_export(path, input_name=entry.spec.name, file=text)
         out.append(DataFile(input_name=entry.spec.name, text=text, path=path, sha256=digest, size=size,
                             package=package, basis=basis))
     return out

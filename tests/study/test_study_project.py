@@ -2,6 +2,9 @@
 
 The write-back is checked against the column-panel sheet's own calls (the band estimate of 40_band_estimate,
 the hand estimates of 80_receiver): the project, reopened, must give the numbers the study ranked it by.
+These are consistency checks between two paths of the kit, not published values (`common practice`: a design
+written back must rerun to the numbers it was chosen by); the formulas behind them carry their sources in
+tests/physics and tests/validation.
 """
 
 from __future__ import annotations

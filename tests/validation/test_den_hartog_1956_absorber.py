@@ -142,7 +142,7 @@ def test_doubling_the_resonating_mass_never_lowers_the_bound():
 
 
 def test_mass_ratio_solved_from_the_same_formulas():
-    # the needed mass ratios are sympy's solutions of the shown formulas: put them back in
+    # derived (algebra): the needed mass ratios are the shown IL formulas solved for mu; put them back in
     for il in (3.0, 11.3, 20.0):
         mu_min = float(receiver.MASS_RATIO_FOR_BOUND.evaluate({"IL": il, "eta_a": 0.1, "eta_h": 0.02}).m)
         assert float(receiver.IL_BOUND.evaluate({"mu": mu_min, "eta_a": 0.1, "eta_h": 0.02}).m) == \
@@ -150,3 +150,23 @@ def test_mass_ratio_solved_from_the_same_formulas():
         mu_req = float(receiver.MASS_RATIO_FOR_MASS_HOST.evaluate({"IL": il, "eta_a": 0.1}).m)
         assert float(receiver.IL_MASS_HOST.evaluate({"mu": mu_req, "eta_a": 0.1}).m) == pytest.approx(il, rel=1e-10)
         assert mu_req > 0 and mu_min > 0
+
+
+def test_written_out_mass_ratios_are_sympys_positive_roots():
+    # general-purpose reference library (sympy.solve): the written-out inverses are the one positive root of each
+    # IL formula, at several loss factors and required losses
+    import sympy as sym
+
+    mu = sym.Symbol("mu", positive=True)
+    for formula, inverse, point in ((receiver.IL_BOUND, receiver.MASS_RATIO_FOR_BOUND, {"eta_a": 0.1, "eta_h": 0.02}),
+                                    (receiver.IL_BOUND, receiver.MASS_RATIO_FOR_BOUND, {"eta_a": 0.3, "eta_h": 0.05}),
+                                    (receiver.IL_MASS_HOST, receiver.MASS_RATIO_FOR_MASS_HOST, {"eta_a": 0.1}),
+                                    (receiver.IL_MASS_HOST, receiver.MASS_RATIO_FOR_MASS_HOST, {"eta_a": 0.25})):
+        subs = {s: sym.Float(point[s.name]) for s in formula.expr.free_symbols if s.name in point}
+        subs.update({s: mu for s in formula.expr.free_symbols if s.name == "mu"})
+        for required in (3.0, 11.3, 20.0):
+            roots = [complex(r) for r in sym.solve(sym.Eq(formula.expr.subs(subs), required), mu)]
+            positive = [r.real for r in roots if r.real > 0 and abs(r.imag) < 1e-12]
+            assert len(positive) == 1
+            ours = float(inverse.evaluate({"IL": required, **point}).m)
+            assert ours == pytest.approx(positive[0], rel=1e-10)

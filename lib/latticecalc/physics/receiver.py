@@ -34,7 +34,6 @@ upper bound of any single absorber's insertion loss.
 from __future__ import annotations
 
 import dataclasses
-import functools
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -119,48 +118,18 @@ IL_MASS_HOST = Formula("IL_m", _mass_expr, latex_names={"IL_m": r"\mathrm{IL}_\m
                                                          "eta_a": r"\eta_\mathrm{a}"})
 
 
-def _positive_root(expr, target):
-    pos = {s: sym.Symbol(s.name, positive=True) for s in expr.free_symbols | {_IL}}
-    roots = sym.solve(sym.Eq(pos[_IL], expr.subs(pos)), pos[target])
-    # the physical root: positive at a typical point (IL = 10 dB, loss factors 0.1 and 0.02)
-    probe = {pos[s]: v for s, v in ((_IL, 10), (_eta_a, 0.1), (_eta_h, 0.02)) if s in pos}
-    good = [r for r in roots if complex(r.subs(probe).evalf()).real > 0 and abs(complex(r.subs(probe).evalf()).imag)
-            < 1e-12]
-    if len(good) != 1:
-        raise ModelError("internal: the mass-ratio formula has no single positive root", input_name="mu")
-    return good[0].subs({v: k for k, v in pos.items()})
-
-
-@functools.cache
-def mass_ratio_for_bound() -> Formula:
-    """The mass ratio that :data:`IL_BOUND` needs to reach IL (sympy's solution of the same formula).
-
-    Solved on first use, not at import: sympy's solve costs about a second, which every kernel that
-    imports this module paid (also as ``MASS_RATIO_FOR_BOUND``).
-    """
-    return Formula("mu_min", _positive_root(_bound_expr, _mu),
-                   latex_names={"mu_min": r"\mu_\mathrm{min}", "eta_a": r"\eta_\mathrm{a}",
-                                "eta_h": r"\eta_\mathrm{h}", "IL": r"\mathrm{IL}_\mathrm{req}"})
-
-
-@functools.cache
-def mass_ratio_for_mass_host() -> Formula:
-    """The mass ratio that :data:`IL_MASS_HOST` needs to reach IL, solved on first use.
-
-    Sympy's solution of the same formula; also as ``MASS_RATIO_FOR_MASS_HOST``.
-    """
-    return Formula("mu_req", _positive_root(_mass_expr, _mu),
-                   latex_names={"mu_req": r"\mu_\mathrm{req}", "eta_a": r"\eta_\mathrm{a}",
-                                "IL": r"\mathrm{IL}_\mathrm{req}"})
-
-
-def __getattr__(name: str):
-    """``MASS_RATIO_FOR_BOUND`` and ``MASS_RATIO_FOR_MASS_HOST``: the formulas above, solved on first use."""
-    if name == "MASS_RATIO_FOR_BOUND":
-        return mass_ratio_for_bound()
-    if name == "MASS_RATIO_FOR_MASS_HOST":
-        return mass_ratio_for_mass_host()
-    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+#: The mass ratio that :data:`IL_BOUND` needs to reach IL: that formula solved for μ (its one positive root,
+#: written out so that no kernel solves it at run time; tests/validation put it back into IL_BOUND and check
+#: it against sympy's own solution).
+MASS_RATIO_FOR_BOUND = Formula(
+    "mu_min", _eta_a * _eta_h * (10 ** (_IL / 20) - 1) / (sym.sqrt(1 + _eta_a**2) * sym.sqrt(1 + _eta_h**2)),
+    latex_names={"mu_min": r"\mu_\mathrm{min}", "eta_a": r"\eta_\mathrm{a}", "eta_h": r"\eta_\mathrm{h}",
+                 "IL": r"\mathrm{IL}_\mathrm{req}"})
+#: The mass ratio that :data:`IL_MASS_HOST` needs to reach IL: (1 + μ)² + (μ/η_a)² = 10^(IL/10) solved for its
+#: positive root (as above, checked in tests/validation against sympy's solution).
+MASS_RATIO_FOR_MASS_HOST = Formula(
+    "mu_req", _eta_a * (sym.sqrt(10 ** (_IL / 10) * (1 + _eta_a**2) - 1) - _eta_a) / (1 + _eta_a**2),
+    latex_names={"mu_req": r"\mu_\mathrm{req}", "eta_a": r"\eta_\mathrm{a}", "IL": r"\mathrm{IL}_\mathrm{req}"})
 
 
 # --------------------------------------------------------------------------------------------------------
@@ -1037,11 +1006,11 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
     if required is not None:
         il_req = float(np.max(np.atleast_1d(Q_(required).to("dB").m if isinstance(required, pint.Quantity)
                                             else required)))
-        need_min = evaluate(mass_ratio_for_bound(), id=f"{id_prefix}.mass-ratio-min", description="Least mass ratio "
+        need_min = evaluate(MASS_RATIO_FOR_BOUND, id=f"{id_prefix}.mass-ratio-min", description="Least mass ratio "
                             "with which even the best case reaches the required loss",
                             values={"IL": Q_(il_req, ""), "eta_a": eta_a, "eta_h": eta_h}, unit="",
                             source=BOUND_SOURCE, sig=3)
-        need = evaluate(mass_ratio_for_mass_host(), id=f"{id_prefix}.mass-ratio-needed", description="Mass ratio "
+        need = evaluate(MASS_RATIO_FOR_MASS_HOST, id=f"{id_prefix}.mass-ratio-needed", description="Mass ratio "
                         "needed for the required loss at the present lattice loss factor (absorber tuned to the "
                         "peak, column moving as a mass there)", values={"IL": Q_(il_req, ""), "eta_a": eta_a},
                         unit="", source=BOUND_SOURCE, sig=3)

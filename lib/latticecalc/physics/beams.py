@@ -199,21 +199,12 @@ THEORY_DIFFERENCE = Formula("Delta_f", (_fe - _ft) / _fe, latex_names={"Delta_f"
 # Inverse sizing of a solid circular strut (Euler–Bernoulli inverted for d, or for L).
 
 
-def _solved_for(target: sp.Symbol) -> sp.Expr:
-    """The circular-strut frequency formula solved for ``target`` (the one positive root).
-
-    Derived from EULER_BERNOULLI_FREQUENCY with the circle's I and A put in, so the inverse sizing
-    can never drift from the forward formula.
-    """
-    forward = EULER_BERNOULLI_FREQUENCY.expr.subs({_I: SECOND_MOMENT_CIRCLE.expr, _A: AREA_CIRCLE.expr})
-    pos = {s: sp.Symbol(s.name, positive=True) for s in (*forward.free_symbols, _f)}
-    roots = sp.solve(sp.Eq(pos[_f], forward.subs(pos)), pos[target])
-    (root,) = [r for r in roots if r.is_positive is not False]
-    return sp.simplify(root.subs({v: k for k, v in pos.items()}))
-
-
-DIAMETER_FOR_FREQUENCY = Formula("d", _solved_for(_d))
-LENGTH_FOR_FREQUENCY = Formula("L", _solved_for(_L))
+#: EULER_BERNOULLI_FREQUENCY of a solid circular strut (I = πd⁴/64, A = πd²/4) solved for d and for L, written out so
+#: that no kernel solves them at import; tests/physics check that each is sympy's one positive root of the forward
+#: formula, so the inverse sizing cannot drift from it.
+DIAMETER_FOR_FREQUENCY = Formula("d", 8 * sp.pi * _L**2 * _f * sp.sqrt(_rho) / (sp.sqrt(_E) * _lam**2))
+LENGTH_FOR_FREQUENCY = Formula("L", _lam * sp.sqrt(_d) * _E ** sp.Rational(1, 4)
+                               / (2 * sp.sqrt(2 * sp.pi * _f) * _rho ** sp.Rational(1, 4)))
 
 # Rigid node zones (see frame_fe): the length over which a strut of diameter d_i is held by another
 # of diameter d_j meeting it at the node at an angle θ between their axes, where the two cylinders'

@@ -44,6 +44,7 @@ COHERENCE = Formula("gamma2", sp.Abs(_Gxy) ** 2 / (_Gxx * _Gyy),
 _T = sp.Symbol("T")
 TRANSMISSIBILITY_DB = Formula("L_T", 20 * sp.log(_T, 10), {"L_T": "L_{T}"})
 _En, _fm, _fp, _uf, _Ec = sp.symbols("E_nom f_meas f_pred u_f E_cal")
+_L_s, _d_s, _rho_s, _lam_s = sp.symbols("L d rho lambda_n")
 CALIBRATED_MODULUS = Formula("E_cal", _En * (_fm / _fp) ** 2,
                              {"E_nom": r"E_{\mathrm{nom}}", "f_meas": r"f_{\mathrm{meas}}",
                               "f_pred": r"f_{\mathrm{pred}}", "E_cal": r"E_{\mathrm{cal}}"})
@@ -52,17 +53,11 @@ MODULUS_UNCERTAINTY = Formula("u_E", 2 * _Ec * _uf / _fm,
                                "u_f": "u_{f}"})
 
 
-def _strut_modulus() -> Formula:
-    """E solved by sympy from the Euler–Bernoulli frequency of a solid circular strut (Rao 2017 eq. 8.82)."""
-    eb = beams.EULER_BERNOULLI_FREQUENCY.expr
-    syms = {s.name: s for s in eb.free_symbols}
-    expr = eb.subs({syms["I"]: beams.SECOND_MOMENT_CIRCLE.expr, syms["A"]: beams.AREA_CIRCLE.expr})
-    (solved,) = sp.solve(sp.Eq(_fm, expr), syms["E"])
-    return Formula("E_cal", solved, {"E_cal": r"E_{\mathrm{cal}}", "f_meas": r"f_{\mathrm{meas}}"})
-
-
-#: The calibrated modulus straight from the strut formula: E = 64 π² f² L⁴ ρ / (λ⁴ d²).
-STRUT_MODULUS = _strut_modulus()
+#: The calibrated modulus straight from the strut formula: E = 64 π² f² L⁴ ρ / (λ⁴ d²), the Euler–Bernoulli frequency
+#: of a solid circular strut (Rao 2017 eq. 8.82) solved for E; written out so that no kernel solves it at import
+#: (tests/signals check it is sympy's solution of beams.EULER_BERNOULLI_FREQUENCY).
+STRUT_MODULUS = Formula("E_cal", 64 * sp.pi**2 * _L_s**4 * _fm**2 * _rho_s / (_d_s**2 * _lam_s**4),
+                        {"E_cal": r"E_{\mathrm{cal}}", "f_meas": r"f_{\mathrm{meas}}"})
 #: The inputs of a strut calibration that carry a tolerance, in the order shown.
 CALIBRATION_INPUTS = ("f_meas", "L", "d", "rho")
 #: Worst-case relative half-width of the calibrated modulus, δ_E = Σ |∂ln E/∂ln x| Δx/x (derived).

@@ -32,7 +32,6 @@ from dataclasses import dataclass
 import numpy as np
 import pint
 import sympy as sp
-from scipy.stats import truncnorm
 
 from latticecalc.errors import DimensionError, InputError
 from latticecalc.physics.beams import (
@@ -183,6 +182,8 @@ def frequency_tolerance(*, length, diameter, youngs_modulus, density, length_tol
         if distribution == "uniform":
             u = rng.uniform(-1.0, 1.0, size=samples)
         else:
+            from scipy.stats import truncnorm  # here: scipy.stats costs every kernel ~0.4 s to import
+
             u = truncnorm.rvs(-3.0, 3.0, size=samples, random_state=rng) / 3.0
         draw[arg] = centre[arg] + half[arg] * u
     f_mc = _frequencies(lam=lam, L=draw["length"], d=draw["diameter"], E=draw["youngs_modulus"],

@@ -24,6 +24,8 @@ import pint
 from latticecalc.errors import InputError
 
 DEFAULT_FOLDER = ".latticecalc-cache"
+#: A folder holding this file is a project: ``project_folder_cache()`` caches there.
+PROJECT_MARKER = "template.toml"
 
 
 def _canonical(obj: Any, h: hashlib._Hash) -> None:
@@ -81,6 +83,18 @@ def resolve_folder(cache: Any) -> Path | None:
         return Path(cache)
     raise InputError("cache must be a folder, True or None", input_name="cache",
                      expected="a path, True (./.latticecalc-cache) or None (no cache)", got=repr(cache))
+
+
+def project_folder_cache(subfolder: str | None = None) -> Path | None:
+    """The project's cache folder when the current folder is a project (it holds ``template.toml``), else None.
+
+    What a notebook's calls cache without being handed a folder (figures, the cell's union volumes): a
+    project's kernel runs in the project folder, and a call from anywhere else caches nothing.
+    """
+    here = Path.cwd()
+    if not (here / PROJECT_MARKER).is_file():
+        return None
+    return here / DEFAULT_FOLDER if subfolder is None else here / DEFAULT_FOLDER / subfolder
 
 
 def cached_arrays(cache: Any, key: str, compute: Callable[[], dict[str, np.ndarray]]) -> dict[str, np.ndarray]:

@@ -110,3 +110,29 @@ def test_3d_figures_with_different_data_have_different_keys():
     two = display.figure_fingerprint(_cell_3d(2.0), id="fig.cell", dpi=130)
     assert one != two
     assert display.figure_fingerprint(_cell_3d(1.0), id="fig.cell", dpi=130) == one
+
+
+def test_axis_range_ticks_and_labels_are_part_of_the_key():
+    # the key reads each axis's range, scale, tick places and texts, tick settings and label without making
+    # Tick artists: a change to any of them is a different image, so a different key
+    def key(change=None):
+        fig = _line_figure([1.0, 2.0, 3.0])
+        ax = fig.axes[0]
+        ax.set_xlabel("time [s]")
+        if change is not None:
+            change(ax)
+        return display.figure_fingerprint(fig, id="fig.a", dpi=130)
+
+    base = key()
+    assert key() == base
+    changes = {"range": lambda ax: ax.set_xlim(0.0, 5.0), "scale": lambda ax: ax.set_yscale("log"),
+               "ticks": lambda ax: ax.set_xticks([0.0, 2.0]), "tick texts": lambda ax: ax.set_xticklabels([]),
+               "tick size": lambda ax: ax.tick_params(axis="y", labelsize=14),
+               "label": lambda ax: ax.set_xlabel("time [ms]"), "inverted": lambda ax: ax.invert_yaxis()}
+    keys = {name: key(change) for name, change in changes.items()}
+    assert len(set(keys.values()) | {base}) == len(keys) + 1
+    # and a 3D axes' z axis counts too
+    fig_a, fig_b = _cell_3d(1.0), _cell_3d(1.0)
+    fig_b.axes[0].set_zlim(0.0, 3.0)
+    assert display.figure_fingerprint(fig_a, id="fig.cell", dpi=130) != \
+        display.figure_fingerprint(fig_b, id="fig.cell", dpi=130)

@@ -53,17 +53,14 @@ class Shown:
         return _bundle(self.record, self._plain)
 
 
-#: ``figure(..., cache="auto")``: cache figure images when the current folder is a project (it holds this file).
-_PROJECT_MARKER = "template.toml"
 _FIGURE_SUBFOLDER = "figures"
 
 
 def _figure_folder(cache: Any) -> Path | None:
-    from latticecalc.cache import DEFAULT_FOLDER, resolve_folder
+    from latticecalc.cache import project_folder_cache, resolve_folder
 
-    if cache == "auto":
-        here = Path.cwd()
-        return here / DEFAULT_FOLDER / _FIGURE_SUBFOLDER if (here / _PROJECT_MARKER).is_file() else None
+    if cache == "auto":    # the project's cache when the current folder is a project
+        return project_folder_cache(_FIGURE_SUBFOLDER)
     folder = resolve_folder(cache)
     return None if folder is None else folder / _FIGURE_SUBFOLDER
 
@@ -118,6 +115,34 @@ def _artist_state(artist) -> list:
     return out
 
 
+def _artists(fig: Any):
+    """Every artist of ``fig`` except the tick marks and labels of its axes (see :func:`_axis_state`).
+
+    ``fig.findobj()`` would make a Tick artist for every tick of every axis just to read it (a third of a
+    second per notebook); the ticks are read from each axis's locator and formatter instead.
+    """
+    import matplotlib.axis
+
+    stack = [fig]
+    while stack:
+        artist = stack.pop()
+        yield artist
+        if isinstance(artist, matplotlib.axis.Axis):
+            stack += [artist.label, artist.offsetText]
+        else:
+            stack += artist.get_children()
+
+
+def _axis_state(axis: Any) -> list:
+    """What an axis shows: its range, scale, tick places and texts, tick and label settings (no Tick artist made)."""
+    major = np.asarray(axis.get_majorticklocs(), dtype=float)
+    minor = np.asarray(axis.get_minorticklocs(), dtype=float)
+    return [type(axis).__name__, np.asarray(axis.get_view_interval(), dtype=float), axis.get_scale(),
+            major, list(axis.major.formatter.format_ticks(major)), minor,
+            list(axis.minor.formatter.format_ticks(minor)), sorted(axis._major_tick_kw.items(), key=str),
+            sorted(axis._minor_tick_kw.items(), key=str), axis.get_inverted(), axis.get_visible()]
+
+
 def figure_fingerprint(fig: Any, *, id: str, dpi: int) -> str:
     """SHA-256 of a figure's id, the data and look of every artist it holds, the house style version and dpi.
 
@@ -131,15 +156,12 @@ def figure_fingerprint(fig: Any, *, id: str, dpi: int) -> str:
     h = hashlib.sha256()
     for part in (id, STYLE_VERSION, matplotlib.__version__, dpi, tuple(fig.get_size_inches())):
         _feed(h, part)
-    for artist in fig.findobj():
+    for artist in _artists(fig):
         for value in _artist_state(artist):
             _feed(h, value)
-        if hasattr(artist, "get_xlim") and hasattr(artist, "get_xscale"):
-            for value in (artist.get_xlim(), artist.get_ylim(), artist.get_xscale(), artist.get_yscale(),
-                          artist.get_xticks(), artist.get_yticks(),
-                          [t.get_text() for t in artist.get_xticklabels()],
-                          [t.get_text() for t in artist.get_yticklabels()]):
-                _feed(h, np.asarray(value) if not isinstance(value, (str, list)) else value)
+        for axis in getattr(artist, "_axis_map", {}).values():    # an Axes: x, y (and z) axes
+            for value in _axis_state(axis):
+                _feed(h, np.asarray(value) if isinstance(value, np.ndarray) else value)
     return h.hexdigest()
 
 

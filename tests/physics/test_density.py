@@ -194,3 +194,27 @@ def test_geometric_density_is_computed_once_per_geometry():
     other = relative_density(thicker, "geometric", samples=256)
     assert len(dens._UNION_MEMO) == 4
     assert other.by_group["lattice"] > first.by_group["lattice"]
+
+
+def test_union_volumes_are_kept_in_a_projects_cache_and_read_back_unchanged(tmp_path, monkeypatch):
+    # common practice (a cache must not change a result): the geometric density read back from the project's
+    # cache equals the one computed; outside a project nothing is written
+    cell = build_cell("octet", cell_width=Q_(40, "mm"), strut_diameter=Q_(4, "mm"))
+    outside = tmp_path / "elsewhere"
+    outside.mkdir()
+    monkeypatch.chdir(outside)
+    dens._UNION_MEMO.clear()
+    computed = relative_density(cell, "geometric").value
+    assert not any(outside.rglob("*"))
+    project = tmp_path / "project"
+    project.mkdir()
+    (project / "template.toml").write_text("", encoding="utf-8")
+    monkeypatch.chdir(project)
+    dens._UNION_MEMO.clear()
+    first = relative_density(cell, "geometric").value
+    kept = list((project / ".latticecalc-cache").glob("union-volumes-*.npz"))
+    assert kept    # one entry per sample set (the sampling error takes a second)
+    dens._UNION_MEMO.clear()
+    monkeypatch.setattr(dens, "_union_volumes_computed", lambda *a, **k: pytest.fail("computed again"))
+    again = relative_density(cell, "geometric").value
+    assert float(first.m) == float(computed.m) == float(again.m)

@@ -42,7 +42,6 @@ from typing import Any
 import numpy as np
 import pint
 import sympy as sp
-from scipy.stats import qmc
 
 from latticecalc.cache import fingerprint
 from latticecalc.errors import InputError
@@ -165,6 +164,8 @@ def _frame_basis(axis: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def _strut_samples(n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
     """Unit samples for a cylinder (t, ρ², φ) and a ball (ρ³, cos θ, φ)."""
+    from scipy.stats import qmc  # here: scipy.stats costs every kernel ~0.4 s to import
+
     cyl = qmc.Sobol(d=3, scramble=True, seed=seed).random(n)
     ball = qmc.Sobol(d=3, scramble=True, seed=seed + 1).random(n)
     return cyl, ball
@@ -188,8 +189,25 @@ def _union_volumes(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:
     if key not in _UNION_MEMO:
         if len(_UNION_MEMO) >= _UNION_MEMO_SIZE:
             _UNION_MEMO.pop(next(iter(_UNION_MEMO)))
-        _UNION_MEMO[key] = _union_volumes_computed(cell, samples=samples, seed=seed)
+        _UNION_MEMO[key] = _union_volumes_kept(cell, key, samples=samples, seed=seed)
     return dict(_UNION_MEMO[key])
+
+
+def _union_volumes_kept(cell: Cell, key: str, *, samples: int, seed: int) -> dict[str, float]:
+    """The union volumes, from the project's result cache when run in a project, else computed.
+
+    Every rerun of every section asked for them afresh, about half a second each.
+    """
+    from latticecalc.cache import cached_arrays, project_folder_cache
+
+    groups = list(cell.group_names)
+
+    def compute() -> dict[str, np.ndarray]:
+        volumes = _union_volumes_computed(cell, samples=samples, seed=seed)
+        return {"volumes": np.array([volumes[g] for g in groups], dtype=float)}
+
+    data = cached_arrays(project_folder_cache(), f"union-volumes-{key}", compute)
+    return dict(zip(groups, (float(v) for v in data["volumes"])))
 
 
 def _union_volumes_computed(cell: Cell, *, samples: int, seed: int) -> dict[str, float]:

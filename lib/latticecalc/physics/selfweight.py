@@ -412,44 +412,9 @@ def _affine_sums(cell: Cell) -> tuple[float, float, float, int]:
     return s, area, float(tz2[idx]), int(idx)
 
 
-def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, cells_deep: int,
-                      deflection_limit, buckling_safety_factor: float = 3.0, long_term: bool = True,
-                      strut_end_condition: str = "pinned-pinned", frame_end_condition: str = "pinned-pinned",
-                      k_value: str = "design", density: RelativeDensity | None = None,
-                      id_prefix: str = "selfweight") -> SelfWeight:
-    """Self-weight checks of a panel of ``cells_wide × cells_high × cells_deep`` cells.
-
-    Parameters
-    ----------
-    cell:
-        The cell; a ``frame`` group adds the with-frame load path.
-    materials:
-        Material of each strut group (``{"lattice": ..., "frame": ...}``).
-    cells_wide, cells_high, cells_deep:
-        Cells across the column face, up the column (the panel height H = cells_high · a), and away
-        from it.
-    deflection_limit:
-        Largest acceptable self-weight shortening [length].
-    buckling_safety_factor:
-        Smallest acceptable ratio of critical load (or Greenhill height) to demand.
-    long_term:
-        Use each material's long-term (creep) modulus, as fits a permanent load (default).
-    strut_end_condition, frame_end_condition, k_value:
-        End conditions of the lattice struts (between nodes) and of the vertical frame members
-        (one cell high), and which K of AISC 360 Table C-A-7.1 to use.
-    density:
-        A precomputed relative density of ``cell`` (closed form is computed otherwise).
-    id_prefix:
-        Prefix of the step ids.
-    """
-    if not isinstance(cell, Cell):
-        raise InputError("not a lattice cell", input_name="cell", expected="a Cell from build_cell",
-                         got=type(cell).__name__)
-    mats = _materials_for(cell, materials)
-    nx = _positive_int(cells_wide, name="cells_wide")
-    nz = _positive_int(cells_high, name="cells_high")
-    ny = _positive_int(cells_deep, name="cells_deep")
-    limit = _q(deflection_limit, name="deflection_limit", dim="length")
+def _check_options(buckling_safety_factor: Any, strut_end_condition: str, frame_end_condition: str,
+                   k_value: str) -> None:
+    """An :class:`InputError` for a safety factor below 1, an unknown end condition or an unknown K set."""
     if isinstance(buckling_safety_factor, bool) or not isinstance(buckling_safety_factor, (int, float)) \
             or not buckling_safety_factor >= 1.0:
         raise InputError("a buckling safety factor is a number of at least 1", input_name="buckling_safety_factor",
@@ -459,8 +424,55 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
             raise InputError("unknown end condition", input_name=name,
                              expected="one of " + ", ".join(EFFECTIVE_LENGTH_FACTORS), got=repr(cond))
     effective_length_factor("pinned-pinned", k_value=k_value)
-    rd = density if density is not None else relative_density(cell, "closed-form", id_prefix=f"{id_prefix}.density")
-    p = id_prefix
+
+
+@dataclass(frozen=True, kw_only=True)
+class _PanelParts:
+    """What the load cases read of a panel, or of one zone of a graded panel: its steps, weights, moduli, sections.
+
+    ``rho_lattice`` is the lattice's smeared density (with its added masses), ``rho_all`` that of all strut
+    groups (the lattice's without a frame); the frame fields are None without a frame.
+    """
+
+    steps: tuple
+    cell_width: pint.Quantity
+    height: pint.Quantity
+    width: pint.Quantity
+    depth: pint.Quantity
+    rho_lattice: pint.Quantity
+    rho_all: pint.Quantity
+    e_lattice: pint.Quantity
+    creep_note: str
+    strut_sum: float
+    strut_area: float
+    strut_tz2: float
+    strut_p_cr: pint.Quantity
+    panel_second_moment: pint.Quantity
+    frame_diameter: pint.Quantity | None = None
+    frame_inner: pint.Quantity | None = None
+    e_frame: pint.Quantity | None = None
+    frame_area: pint.Quantity | None = None
+    e_frame_smeared: pint.Quantity | None = None
+    e_combined: pint.Quantity | None = None
+    tributary_area: pint.Quantity | None = None
+
+    def density(self, case: str) -> pint.Quantity:
+        """Smeared density carried by the load path ``case``."""
+        return self.rho_lattice if case == "lattice-alone" else self.rho_all
+
+    def modulus(self, case: str) -> pint.Quantity:
+        """Vertical modulus of the load path ``case``."""
+        return self.e_lattice if case == "lattice-alone" else self.e_combined
+
+
+def _panel_parts(cell: Cell, mats: Mapping[str, Any], *, nx: int, ny: int, nz: int, rd: RelativeDensity,
+                 long_term: bool, strut_end_condition: str, k_value: str, p: str, bottom_plane: bool = True,
+                 height_description: str = "Panel height") -> _PanelParts:
+    """Weights, vertical moduli, the lattice strut's Euler load and the frame's load paths of an n_x × n_z × n_y panel.
+
+    ``bottom_plane=False``: a zone of a graded panel above the first, whose bottom plane of struts belongs to
+    the zone below (:func:`latticecalc.physics.density.panel_strut_counts`).
+    """
     a = cell.cell_width
     height = (nz * a).to("m")
     steps: list[Any] = []
@@ -472,7 +484,7 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
             return mat.long_term_modulus(), "long-term (creep) modulus"
         return mat.youngs_modulus.to("MPa"), "short-term modulus"
 
-    steps.append(quantity_step(id=f"{p}.height", description="Panel height", value=height, unit="m",
+    steps.append(quantity_step(id=f"{p}.height", description=height_description, value=height, unit="m",
                                method=f"{nz} cells × {format_quantity(a.to('mm'))}"))
     width, depth = (nx * a).to("m"), (ny * a).to("m")
     inner = {g: _inner_diameter_step(cell.diameters[g], cell.wall_thickness(g), id=f"{p}.{g}-inner-diameter",
@@ -486,14 +498,17 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
     # the finite panel's weight: every strut as often as it occurs (outer faces in full), added masses
     panel_m: dict[str, Any] = {}
     if has_frame or lattice_posts is not None:
-        volumes = panel_volumes(cell, cells_wide=nx, cells_high=nz, cells_deep=ny, density=rd)
+        volumes = panel_volumes(cell, cells_wide=nx, cells_high=nz, cells_deep=ny, density=rd,
+                                bottom_plane=bottom_plane)
         for g in cell.group_names:
             what = "tube section areas" if cell.is_hollow(g) else "strut sections"
             panel_m[g] = quantity_step(
                 id=f"{p}.panel-mass.{g}", description=f"Mass of the {g} struts in the panel ({nx} × {nz} × {ny} "
                 "cells, wide × high × deep)", value=volumes[g].volume * mats[g].density, unit="kg",
                 method=f"{what} × lengths × occurrences in the panel × node-overlap factor "
-                       f"{volumes[g].overlap:.4f} × density", source=PANEL_STRUTS)
+                       f"{volumes[g].overlap:.4f} × density"
+                       + ("" if bottom_plane else " (the struts in the bottom plane belong to the zone below)"),
+                source=PANEL_STRUTS)
         for g, (m_added, _j) in cell.point_masses.items():
             panel_m[f"added-{g}"] = evaluate(
                 ADDED_MASS, id=f"{p}.panel-mass.added-{g}", description=f"Masses added at mid-span of the {g} "
@@ -573,7 +588,7 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
                        source=SECTION_SOURCE)
     steps.append(i_panel)
 
-    frame_parts: dict[str, Any] = {}
+    frame: dict[str, Any] = {}
     if has_frame:
         e_f, which_f = modulus("frame")
         posts = _posts_step(cell, "frame", nx=nx, ny=ny, nz=nz, id=f"{p}.frame-posts")
@@ -592,7 +607,151 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
                        unit="MPa", source=DERIVED)
         a_t = _tributary_area(a, nx, ny, id=f"{p}.frame-tributary-area")
         steps += [posts, a_f, e_fs, e_c, a_t]
-        frame_parts = {"E_f": e_f, "A_f": a_f, "E_fs": e_fs, "E_c": e_c, "A_t": a_t}
+        frame = dict(frame_diameter=cell.diameters["frame"], frame_inner=inner_d["frame"], e_frame=e_f,
+                     frame_area=a_f.result, e_frame_smeared=e_fs.result, e_combined=e_c.result,
+                     tributary_area=a_t.result)
+    return _PanelParts(steps=tuple(steps), cell_width=a, height=height, width=width, depth=depth,
+                       rho_lattice=rho_p["lattice"], rho_all=rho_all, e_lattice=e_l.result, creep_note=creep_note,
+                       strut_sum=s_sum, strut_area=strut_area, strut_tz2=tz2, strut_p_cr=p_s.result,
+                       panel_second_moment=i_panel.result, **frame)
+
+
+def _lattice_stress(parts: _PanelParts, sigma, *, ip: str, case: str, what: str) -> tuple[list, pint.Quantity]:
+    """The vertical stress the lattice struts carry, and its steps.
+
+    ``sigma`` alone, or with a frame the larger of the lattice's stiffness share of ``sigma`` and one cell's own
+    lattice weight.
+    """
+    if case == "lattice-alone":
+        return [], sigma
+    share = evaluate(LATTICE_STRESS_SHARE, id=f"{ip}.lattice-stress", description=f"Share of {what} carried by "
+                     "the lattice (by stiffness)", values={"sigma": sigma, "E_l": parts.e_lattice,
+                                                            "E_c": parts.e_combined},
+                     unit="kPa", source=DERIVED)
+    local = evaluate(LOCAL_LATTICE_STRESS, id=f"{ip}.lattice-local-stress", description="Vertical "
+                     "stress from one cell's own lattice weight, hung on the frame at the cell's "
+                     "nodes", values={"rho": parts.rho_lattice, "g": GRAVITY, "a": parts.cell_width}, unit="kPa",
+                     source=DERIVED)
+    sigma_l = max(share.result, local.result)
+    governing = quantity_step(id=f"{ip}.lattice-stress-used", description="Lattice stress used for "
+                              "the strut force (larger of the stiffness share and the local weight)",
+                              value=sigma_l, unit="kPa", method="maximum of the two")
+    return [share, local, governing], sigma_l
+
+
+def _frame_force(parts: _PanelParts, sigma, *, id: str, where: str):
+    """Axial force in the most heavily loaded vertical frame member where the smeared stress is ``sigma``."""
+    return evaluate(FRAME_FORCE, id=id, description="Axial force in the most heavily "
+                    f"loaded vertical frame member {where} (the frame's stiffness share of the weight "
+                    "over its tributary area)",
+                    values={"sigma": sigma, "A_t": parts.tributary_area, "E_fs": parts.e_frame_smeared,
+                            "E_c": parts.e_combined}, unit="N", source=DERIVED_POSTS)
+
+
+def _frame_buckling(parts: _PanelParts, n_f, *, ip: str, where: str, frame_end_condition: str,
+                    k_value: str) -> tuple[list, Any, Any]:
+    """Stress and Euler safety factor of the vertical frame member carrying ``n_f`` (steps, stress, factor)."""
+    s_f = evaluate(FRAME_STRESS, id=f"{ip}.frame-stress", description="Axial stress in the most "
+                   f"heavily loaded vertical frame member {where}",
+                   values={"N_f": n_f, "A": parts.frame_area}, unit="kPa", source=DERIVED)
+    i_f = _second_moment_step(parts.frame_diameter, parts.frame_inner, id=f"{ip}.frame-second-moment",
+                              description="Second moment of area of a frame member")
+    k_f = _k_step(frame_end_condition, k_value, id=f"{ip}.frame-k", what="vertical frame member, one cell high")
+    p_f = evaluate(EULER_LOAD, id=f"{ip}.frame-p-cr", description="Euler critical load of a vertical "
+                   "frame member", values={"E": parts.e_frame, "I": i_f.result, "K": k_f.result,
+                                           "L": parts.cell_width}, unit="N", source=EULER_SOURCE)
+    sf_f = evaluate(SAFETY_FACTOR, id=f"{ip}.frame-safety", description="Buckling safety factor of "
+                    "the vertical frame member", values={"P_cr": p_f.result, "N": n_f}, unit="",
+                    source=DERIVED)
+    return [s_f, i_f, k_f, p_f, sf_f], s_f.result, sf_f.result
+
+
+def _strut_safety(parts: _PanelParts, sigma_l, *, ip: str, label: str, zone: str = "") -> tuple[Any, Any]:
+    """Force in the most heavily loaded lattice strut under the lattice stress ``sigma_l``, and its safety factor.
+
+    Two steps: at the panel's base, or at the bottom of ``zone`` (e.g. ``"zone 2"``) of a graded panel.
+    """
+    where = f"at the bottom of {zone}" if zone else "at the base"
+    n_s = evaluate(STRUT_FORCE, id=f"{ip}.strut-force", description=f"Axial force in the most heavily "
+                   f"loaded lattice strut {where}, {label}",
+                   values={"sigma": sigma_l, "a": parts.cell_width, "A": Q_(parts.strut_area, "m^2"),
+                           "t_z2": Q_(parts.strut_tz2, ""), "S": Q_(parts.strut_sum, "m^3")}, unit="N",
+                   source=DERIVED_AFFINE)
+    sf_s = evaluate(SAFETY_FACTOR, id=f"{ip}.strut-safety", description="Buckling safety factor of the "
+                    "lattice strut" + (f" of {zone}" if zone else ""),
+                    values={"P_cr": parts.strut_p_cr, "N": n_s.result}, unit="", source=DERIVED)
+    return n_s, sf_s
+
+
+def _case_checks(cp: str, label: str, *, shortening, limit, strut_sf, buckling_safety_factor: float, ratio,
+                 strut_which: str = "", greenhill_note: str = "") -> list:
+    """The shortening, strut buckling and Greenhill checks of the load path checked."""
+    return [
+        check(id=f"{cp}.shortening-check", description=f"Self-weight shortening, {label}",
+              demand=shortening, limit=limit.to("mm"), sense="max"),
+        check(id=f"{cp}.strut-buckling-check", description=f"Lattice strut buckling under self-weight, "
+              f"{label}{strut_which}: safety factor", demand=strut_sf, limit=buckling_safety_factor, sense="min"),
+        check(id=f"{cp}.greenhill-check", description=f"Greenhill height over panel height, {label}",
+              demand=ratio.to(""), limit=buckling_safety_factor, sense="min",
+              note="Panel taken as free-standing, fixed at its base and free at its top (conservative "
+                   "where it is tied to the column along its height)." + greenhill_note),
+    ]
+
+
+def _frame_check(cp: str, sf_f, buckling_safety_factor: float, *, which: str = ""):
+    return check(id=f"{cp}.frame-buckling-check", description="Frame member buckling under "
+                 f"self-weight{which}: safety factor", demand=sf_f, limit=buckling_safety_factor, sense="min")
+
+
+_LABELS = {"lattice-alone": "lattice alone (no frame)", "with-frame": "frame and lattice"}
+
+
+def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high: int, cells_deep: int,
+                      deflection_limit, buckling_safety_factor: float = 3.0, long_term: bool = True,
+                      strut_end_condition: str = "pinned-pinned", frame_end_condition: str = "pinned-pinned",
+                      k_value: str = "design", density: RelativeDensity | None = None,
+                      id_prefix: str = "selfweight") -> SelfWeight:
+    """Self-weight checks of a panel of ``cells_wide × cells_high × cells_deep`` cells.
+
+    Parameters
+    ----------
+    cell:
+        The cell; a ``frame`` group adds the with-frame load path.
+    materials:
+        Material of each strut group (``{"lattice": ..., "frame": ...}``).
+    cells_wide, cells_high, cells_deep:
+        Cells across the column face, up the column (the panel height H = cells_high · a), and away
+        from it.
+    deflection_limit:
+        Largest acceptable self-weight shortening [length].
+    buckling_safety_factor:
+        Smallest acceptable ratio of critical load (or Greenhill height) to demand.
+    long_term:
+        Use each material's long-term (creep) modulus, as fits a permanent load (default).
+    strut_end_condition, frame_end_condition, k_value:
+        End conditions of the lattice struts (between nodes) and of the vertical frame members
+        (one cell high), and which K of AISC 360 Table C-A-7.1 to use.
+    density:
+        A precomputed relative density of ``cell`` (closed form is computed otherwise).
+    id_prefix:
+        Prefix of the step ids.
+    """
+    if not isinstance(cell, Cell):
+        raise InputError("not a lattice cell", input_name="cell", expected="a Cell from build_cell",
+                         got=type(cell).__name__)
+    mats = _materials_for(cell, materials)
+    nx = _positive_int(cells_wide, name="cells_wide")
+    nz = _positive_int(cells_high, name="cells_high")
+    ny = _positive_int(cells_deep, name="cells_deep")
+    limit = _q(deflection_limit, name="deflection_limit", dim="length")
+    _check_options(buckling_safety_factor, strut_end_condition, frame_end_condition, k_value)
+    rd = density if density is not None else relative_density(cell, "closed-form", id_prefix=f"{id_prefix}.density")
+    p = id_prefix
+    parts = _panel_parts(cell, mats, nx=nx, ny=ny, nz=nz, rd=rd, long_term=long_term,
+                         strut_end_condition=strut_end_condition, k_value=k_value, p=p)
+    height = parts.height
+    steps: list[Any] = list(parts.steps)
+    has_frame = parts.e_combined is not None
 
     shortening, moduli, strut_sf, greenhill = {}, {}, {}, {}
     frame_stress = frame_sf = None
@@ -600,89 +759,41 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
     cases = ["lattice-alone"] + (["with-frame"] if has_frame else [])
     for case in cases:
         cp = f"{p}.{case}"
-        if case == "lattice-alone":
-            rho_case, e_case = rho_p["lattice"], e_l.result
-            label = "lattice alone (no frame)"
-        else:
-            rho_case, e_case = rho_all, frame_parts["E_c"].result
-            label = "frame and lattice"
+        label = _LABELS[case]
+        rho_case, e_case = parts.density(case), parts.modulus(case)
         moduli[case] = e_case
         dl = evaluate(SHORTENING, id=f"{cp}.shortening", description=f"Self-weight shortening, {label}",
                       values={"rho": rho_case, "g": GRAVITY, "H": height, "E": e_case}, unit="mm", source=DERIVED,
-                      note=creep_note)
+                      note=parts.creep_note)
         sig = evaluate(BASE_STRESS, id=f"{cp}.base-stress", description=f"Smeared vertical stress at the panel "
                        f"base, {label}", values={"rho": rho_case, "g": GRAVITY, "H": height}, unit="kPa",
                        source=DERIVED)
         steps += [dl, sig]
         shortening[case] = dl.result
-        sigma_l = sig.result
+        more, sigma_l = _lattice_stress(parts, sig.result, ip=cp, case=case, what="the base stress")
+        steps += more
         if case == "with-frame":
-            share = evaluate(LATTICE_STRESS_SHARE, id=f"{cp}.lattice-stress", description="Share of the base "
-                             "stress carried by the lattice (by stiffness)", values={"sigma": sig.result,
-                                                                                    "E_l": e_l.result,
-                                                                                    "E_c": e_case},
-                             unit="kPa", source=DERIVED)
-            local = evaluate(LOCAL_LATTICE_STRESS, id=f"{cp}.lattice-local-stress", description="Vertical "
-                             "stress from one cell's own lattice weight, hung on the frame at the cell's "
-                             "nodes", values={"rho": rho_p["lattice"], "g": GRAVITY, "a": a}, unit="kPa",
-                             source=DERIVED)
-            sigma_l = max(share.result, local.result)
-            governing = quantity_step(id=f"{cp}.lattice-stress-used", description="Lattice stress used for "
-                                      "the strut force (larger of the stiffness share and the local weight)",
-                                      value=sigma_l, unit="kPa", method="maximum of the two")
-            steps += [share, local, governing]
-            n_f = evaluate(FRAME_FORCE, id=f"{cp}.frame-force", description="Axial force in the most heavily "
-                           "loaded vertical frame member at the base (the frame's stiffness share of the weight "
-                           "over its tributary area)",
-                           values={"sigma": sig.result, "A_t": frame_parts["A_t"].result,
-                                   "E_fs": frame_parts["E_fs"].result, "E_c": e_case}, unit="N", source=DERIVED_POSTS)
-            s_f = evaluate(FRAME_STRESS, id=f"{cp}.frame-stress", description="Axial stress in the most "
-                           "heavily loaded vertical frame member at the base",
-                           values={"N_f": n_f.result, "A": frame_parts["A_f"].result},
-                           unit="kPa", source=DERIVED)
-            i_f = _second_moment_step(cell.diameters["frame"], inner_d["frame"], id=f"{cp}.frame-second-moment",
-                                      description="Second moment of area of a frame member")
-            k_f = _k_step(frame_end_condition, k_value, id=f"{cp}.frame-k",
-                          what="vertical frame member, one cell high")
-            p_f = evaluate(EULER_LOAD, id=f"{cp}.frame-p-cr", description="Euler critical load of a vertical "
-                           "frame member", values={"E": frame_parts["E_f"], "I": i_f.result, "K": k_f.result,
-                                                   "L": a}, unit="N", source=EULER_SOURCE)
-            sf_f = evaluate(SAFETY_FACTOR, id=f"{cp}.frame-safety", description="Buckling safety factor of "
-                            "the vertical frame member", values={"P_cr": p_f.result, "N": n_f.result}, unit="",
-                            source=DERIVED)
-            steps += [n_f, s_f, i_f, k_f, p_f, sf_f]
-            frame_stress, frame_sf = s_f.result, sf_f.result
-            checks.append(check(id=f"{cp}.frame-buckling-check", description="Frame member buckling under "
-                                "self-weight: safety factor", demand=sf_f.result, limit=buckling_safety_factor,
-                                sense="min"))
-        n_s = evaluate(STRUT_FORCE, id=f"{cp}.strut-force", description=f"Axial force in the most heavily "
-                       f"loaded lattice strut at the base, {label}",
-                       values={"sigma": sigma_l, "a": a, "A": Q_(strut_area, "m^2"), "t_z2": Q_(tz2, ""),
-                               "S": Q_(s_sum, "m^3")}, unit="N", source=DERIVED_AFFINE)
-        sf_s = evaluate(SAFETY_FACTOR, id=f"{cp}.strut-safety", description="Buckling safety factor of the "
-                        "lattice strut", values={"P_cr": p_s.result, "N": n_s.result}, unit="", source=DERIVED)
+            n_f = _frame_force(parts, sig.result, id=f"{cp}.frame-force", where="at the base")
+            more, frame_stress, frame_sf = _frame_buckling(parts, n_f.result, ip=cp, where="at the base",
+                                                           frame_end_condition=frame_end_condition,
+                                                           k_value=k_value)
+            steps += [n_f, *more]
+            checks.append(_frame_check(cp, frame_sf, buckling_safety_factor))
+        n_s, sf_s = _strut_safety(parts, sigma_l, ip=cp, label=label)
         steps += [n_s, sf_s]
         strut_sf[case] = sf_s.result
         q = evaluate(WEIGHT_PER_LENGTH, id=f"{cp}.weight-per-length", description=f"Panel weight per metre "
-                     f"of height, {label}", values={"rho": rho_case, "g": GRAVITY, "W": width, "D": depth},
+                     f"of height, {label}", values={"rho": rho_case, "g": GRAVITY, "W": parts.width,
+                                                    "D": parts.depth},
                      unit="N/m", source=DERIVED)
-        gh = greenhill_height(youngs_modulus=e_case, second_moment=i_panel.result, weight_per_length=q.result,
-                              id=f"{cp}.greenhill")
+        gh = greenhill_height(youngs_modulus=e_case, second_moment=parts.panel_second_moment,
+                              weight_per_length=q.result, id=f"{cp}.greenhill")
         steps += [q, *gh.steps]
         greenhill[case] = gh.value
-        ratio = gh.value / height
         if case != cases[-1]:
             continue  # with a frame, the lattice-alone path is shown for comparison, not checked
-        checks += [
-            check(id=f"{cp}.shortening-check", description=f"Self-weight shortening, {label}",
-                  demand=dl.result, limit=limit.to("mm"), sense="max"),
-            check(id=f"{cp}.strut-buckling-check", description=f"Lattice strut buckling under self-weight, "
-                  f"{label}: safety factor", demand=sf_s.result, limit=buckling_safety_factor, sense="min"),
-            check(id=f"{cp}.greenhill-check", description=f"Greenhill height over panel height, {label}",
-                  demand=ratio.to(""), limit=buckling_safety_factor, sense="min",
-                  note="Panel taken as free-standing, fixed at its base and free at its top (conservative "
-                       "where it is tied to the column along its height)."),
-        ]
+        checks += _case_checks(cp, label, shortening=dl.result, limit=limit, strut_sf=sf_s.result,
+                               buckling_safety_factor=buckling_safety_factor, ratio=gh.value / height)
     steps += checks
     governing = shortening["with-frame" if has_frame else "lattice-alone"]
     return SelfWeight(value=governing, steps=tuple(steps), shortening=shortening, effective_modulus=moduli,

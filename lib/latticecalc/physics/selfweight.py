@@ -110,6 +110,13 @@ DERIVED_AFFINE = Source(author="derived", title="affine uniaxial strain of pin-j
 DERIVED_POSTS = Source(author="derived", title="load paths of the finite panel: one vertical post on every "
                        "cube-edge line, (n_x + 1)(n_y + 1) per level, each carrying its tributary plan area",
                        tag="derived")
+GERE_GOODNO_2013 = Source(author="Gere, J. M. & Goodno, B. J.", title="Mechanics of Materials, 8th ed.", year=2013,
+                          locator="§2.3, changes in lengths under nonuniform conditions: a bar of prismatic "
+                          "segments, δ = Σ ∫ N(z) dz / (E_i A_i), N(z) the weight below which z carries",
+                          tag="from memory")
+DERIVED_STEPPED_BOUND = Source(author="derived", title="bounding column of a stepped heavy column: no more bending "
+                               "stiffness and no less weight at any height gives no higher critical load (energy "
+                               "method: the Rayleigh quotient ∫ E I w''² dz / ∫ N w'² dz falls)", tag="derived")
 
 #: AISC 360 Commentary Table C-A-7.1: end condition -> (case, theoretical K, recommended design K).
 EFFECTIVE_LENGTH_FACTORS: Mapping[str, tuple[str, float, float]] = {
@@ -161,6 +168,30 @@ SAFETY_FACTOR = Formula("n_b", _P / _N, _LATEX)
 GREENHILL_HEIGHT = Formula("L_cr", (_c * _E * _I / _q) ** sp.Rational(1, 3), _LATEX)
 PANEL_SECOND_MOMENT = Formula("I", sp.Symbol("W") * sp.Symbol("D") ** 3 / 12)
 WEIGHT_PER_LENGTH = Formula("q", _rho * _g * sp.Symbol("W") * sp.Symbol("D"))
+
+# --- a graded panel: zones stacked bottom first (Gere & Goodno, §2.3, bars in segments) -------------
+_st, _h = sp.symbols("sigma_t h")
+_ZONE_LATEX = {**_LATEX, "sigma_t": r"\sigma_\mathrm{top}", "sigma_b": r"\sigma_\mathrm{bot}", "delta_z": r"\delta_z"}
+#: Smeared vertical stress at the bottom of a zone h high: the stress at its top (the zones above) and its own weight.
+ZONE_BOTTOM_STRESS = Formula("sigma_b", _st + _rho * _g * _h, _ZONE_LATEX)
+#: Shortening of one zone: ∫₀ʰ (σ_top + ρ g (h − z)) / E dz.
+ZONE_SHORTENING = Formula("delta_z", (_st * _h + _rho * _g * _h**2 / 2) / _E, _ZONE_LATEX)
+#: A zone's mass with its share of the panel's bottom plane of struts, spread over the panel's height H as the
+#: uniform panel's smeared density spreads it (exact for the weight hung on the joint levels; module docstring).
+ZONE_MASS_WITH_BASE = Formula("m_z", sp.Symbol("m_o") + sp.Symbol("m_0") * _h / _H,
+                              {**_LATEX, "m_z": r"m_z", "m_o": r"m_\mathrm{own}", "m_0": r"m_0"})
+
+
+@cache
+def zone_sum(target: str, term: str, n: int) -> Formula:
+    """``target = term_1 + ... + term_n``: a total over the n zones of a graded panel, as a formula.
+
+    The terms' values are passed as ``<term>_1`` … ``<term>_n``; ``delta_z`` shows as δ_{z,1}, δ_{z,2}, ….
+    """
+    terms = sp.symbols(" ".join(f"{term}_{k}" for k in range(1, n + 1)), seq=True)
+    base, _, sub = _ZONE_LATEX.get(term, term).partition("_")
+    names = {t.name: f"{base}_{{{sub + ',' if sub else ''}{k}}}" for k, t in enumerate(terms, start=1)}
+    return Formula(target, sp.Add(*terms), {**_ZONE_LATEX, **names})
 
 
 # --- published constants, computed ---------------------------------------------------------------
@@ -275,7 +306,7 @@ def euler_buckling_load(*, youngs_modulus, diameter, length, end_condition: str 
 
 
 def greenhill_height(*, youngs_modulus, second_moment, weight_per_length,
-                     id: str = "selfweight.greenhill") -> CalcResult:
+                     id: str = "selfweight.greenhill", note: str = "") -> CalcResult:
     """Greenhill's critical height of a heavy column, fixed base and free top: L_cr = (c E I / q)^{1/3}.
 
     Parameters
@@ -288,6 +319,8 @@ def greenhill_height(*, youngs_modulus, second_moment, weight_per_length,
         Weight per unit height q = ρ g A [force / length].
     id:
         Step id of the height (the coefficient gets ``<id>-coefficient``).
+    note:
+        A remark printed under the height.
     """
     e = _q(youngs_modulus, name="youngs_modulus", dim="pressure")
     i = _q(second_moment, name="second_moment", dim="[length] ** 4")
@@ -297,7 +330,8 @@ def greenhill_height(*, youngs_modulus, second_moment, weight_per_length,
                       method=f"j = {bessel_zero_minus_third():.10f} found with scipy.special.jv and brentq",
                       source=GREENHILL_1881, sig=6)
     step = evaluate(GREENHILL_HEIGHT, id=id, description="Greenhill's critical self-weight height",
-                    values={"c": c.result, "E": e, "I": i, "q": q}, unit="m", source=GREENHILL_1881)
+                    values={"c": c.result, "E": e, "I": i, "q": q}, unit="m", source=GREENHILL_1881,
+                    note=note)
     return CalcResult(value=step.result, steps=(c, step), title="Greenhill's critical height")
 
 
@@ -465,13 +499,20 @@ class _PanelParts:
         return self.e_lattice if case == "lattice-alone" else self.e_combined
 
 
+def _counts_panel_struts(cell: Cell) -> bool:
+    """True when the panel's weight is counted strut by strut in the finite panel (a frame, or simple-cubic posts)."""
+    return "frame" in cell.group_names or cell.kind == "simple-cubic"
+
+
 def _panel_parts(cell: Cell, mats: Mapping[str, Any], *, nx: int, ny: int, nz: int, rd: RelativeDensity,
-                 long_term: bool, strut_end_condition: str, k_value: str, p: str, bottom_plane: bool = True,
+                 long_term: bool, strut_end_condition: str, k_value: str, p: str,
+                 base_plane: Mapping[str, pint.Quantity] | None = None, panel_height: pint.Quantity | None = None,
                  height_description: str = "Panel height") -> _PanelParts:
     """Weights, vertical moduli, the lattice strut's Euler load and the frame's load paths of an n_x × n_z × n_y panel.
 
-    ``bottom_plane=False``: a zone of a graded panel above the first, whose bottom plane of struts belongs to
-    the zone below (:func:`latticecalc.physics.density.panel_strut_counts`).
+    ``base_plane``: a zone of a graded panel, counted without its bottom plane of struts and given instead its
+    share h / H of the panel's bottom plane (``base_plane`` the masses of that plane by group and added mass,
+    ``panel_height`` H), spread over the height as the uniform panel's smeared density spreads it.
     """
     a = cell.cell_width
     height = (nz * a).to("m")
@@ -497,9 +538,9 @@ def _panel_parts(cell: Cell, mats: Mapping[str, Any], *, nx: int, ny: int, nz: i
 
     # the finite panel's weight: every strut as often as it occurs (outer faces in full), added masses
     panel_m: dict[str, Any] = {}
-    if has_frame or lattice_posts is not None:
+    if _counts_panel_struts(cell):
         volumes = panel_volumes(cell, cells_wide=nx, cells_high=nz, cells_deep=ny, density=rd,
-                                bottom_plane=bottom_plane)
+                                bottom_plane=base_plane is None)
         for g in cell.group_names:
             what = "tube section areas" if cell.is_hollow(g) else "strut sections"
             panel_m[g] = quantity_step(
@@ -507,7 +548,7 @@ def _panel_parts(cell: Cell, mats: Mapping[str, Any], *, nx: int, ny: int, nz: i
                 "cells, wide × high × deep)", value=volumes[g].volume * mats[g].density, unit="kg",
                 method=f"{what} × lengths × occurrences in the panel × node-overlap factor "
                        f"{volumes[g].overlap:.4f} × density"
-                       + ("" if bottom_plane else " (the struts in the bottom plane belong to the zone below)"),
+                       + ("" if base_plane is None else ", without the struts of its bottom plane"),
                 source=PANEL_STRUTS)
         for g, (m_added, _j) in cell.point_masses.items():
             panel_m[f"added-{g}"] = evaluate(
@@ -515,6 +556,16 @@ def _panel_parts(cell: Cell, mats: Mapping[str, Any], *, nx: int, ny: int, nz: i
                 "struts in the panel", values={"N": Q_(int(round(volumes[g].struts)), ""), "M_a": m_added},
                 unit="kg", source=PANEL_STRUTS)
         steps += list(panel_m.values())
+        for key, m_0 in (base_plane or {}).items():
+            own = panel_m[key].result if key in panel_m else Q_(0.0, "kg")
+            what = f"masses added at mid-span of the {key[6:]} struts" if key.startswith("added-") \
+                else f"mass of the {key} struts"
+            panel_m[key] = evaluate(ZONE_MASS_WITH_BASE, id=f"{p}.panel-mass.{key}-with-base", description=f"The "
+                                    f"zone's {what} with its share of the panel's bottom plane (spread over the "
+                                    "panel's height, as for a uniform panel)",
+                                    values={"m_o": own, "m_0": m_0, "h": height, "H": panel_height}, unit="kg",
+                                    source=DERIVED)
+            steps.append(panel_m[key])
     # smeared densities
     rho_p = {}
     if lattice_posts is not None:
@@ -614,6 +665,28 @@ def _panel_parts(cell: Cell, mats: Mapping[str, Any], *, nx: int, ny: int, nz: i
                        rho_lattice=rho_p["lattice"], rho_all=rho_all, e_lattice=e_l.result, creep_note=creep_note,
                        strut_sum=s_sum, strut_area=strut_area, strut_tz2=tz2, strut_p_cr=p_s.result,
                        panel_second_moment=i_panel.result, **frame)
+
+
+def _bottom_plane(cell: Cell, mats: Mapping[str, Any], *, nx: int, ny: int, rd: RelativeDensity,
+                  p: str) -> tuple[list, dict[str, pint.Quantity]]:
+    """Mass of the panel's bottom plane of struts (the struts lying in it), by group and added mass, as steps."""
+    with_plane = panel_volumes(cell, cells_wide=nx, cells_high=1, cells_deep=ny, density=rd)
+    without = panel_volumes(cell, cells_wide=nx, cells_high=1, cells_deep=ny, density=rd, bottom_plane=False)
+    steps, masses = [], {}
+    for g in cell.group_names:
+        masses[g] = (with_plane[g].volume - without[g].volume) * mats[g].density
+        steps.append(quantity_step(id=f"{p}.bottom-plane.{g}", description=f"Mass of the {g} struts lying in the "
+                                   "panel's bottom plane", value=masses[g], unit="kg",
+                                   method="strut sections × lengths × occurrences in the plane × node-overlap factor "
+                                          "× density", source=PANEL_STRUTS))
+    for g, (m_added, _j) in cell.point_masses.items():
+        count = int(round(with_plane[g].struts - without[g].struts))
+        st = evaluate(ADDED_MASS, id=f"{p}.bottom-plane.added-{g}", description=f"Masses added at mid-span of the "
+                      f"{g} struts lying in the panel's bottom plane", values={"N": Q_(count, ""), "M_a": m_added},
+                      unit="kg", source=PANEL_STRUTS)
+        steps.append(st)
+        masses[f"added-{g}"] = st.result
+    return steps, masses
 
 
 def _lattice_stress(parts: _PanelParts, sigma, *, ip: str, case: str, what: str) -> tuple[list, pint.Quantity]:
@@ -800,3 +873,200 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
                       strut_safety_factor=strut_sf, greenhill_height=greenhill, frame_stress=frame_stress,
                       frame_safety_factor=frame_sf, all_ok=all(c.ok for c in checks),
                       title="Self-weight: shortening, stresses and buckling")
+
+
+# --- a graded panel ----------------------------------------------------------------------------------
+@dataclass(frozen=True, kw_only=True)
+class GradedSelfWeight(SelfWeight):
+    """Result of :func:`graded_panel_self_weight`: a :class:`SelfWeight` of the zones stacked bottom first.
+
+    ``effective_modulus`` is each load path's softest zone modulus (the one Greenhill's bound takes),
+    ``strut_safety_factor`` the smallest over the zones and ``greenhill_height`` the bounding column's.
+    ``strut_force`` and ``zone_strut_safety_factor`` map each load path to the zones' values (bottom
+    first); ``governing_zone`` to the zone (1-based) of the smallest strut safety factor.
+    """
+
+    strut_force: Mapping[str, tuple[pint.Quantity, ...]]
+    zone_strut_safety_factor: Mapping[str, tuple[pint.Quantity, ...]]
+    governing_zone: Mapping[str, int]
+
+
+_STEPPED_GREENHILL_NOTE = (
+    "A stepped heavy column has no closed form: this is a uniform column over the full height with the softest "
+    "zone's modulus and the heaviest zone's weight per metre. Less bending stiffness and more weight everywhere "
+    "give no higher critical load, so this height is a lower bound (conservative).")
+
+
+def graded_panel_self_weight(cell: Cell, *, zoning: Any, materials: Any, cells_wide: int, cells_high: int,
+                             cells_deep: int, deflection_limit, buckling_safety_factor: float = 3.0,
+                             long_term: bool = True, strut_end_condition: str = "pinned-pinned",
+                             frame_end_condition: str = "pinned-pinned", k_value: str = "design",
+                             density_method: str = "closed-form", id_prefix: str = "selfweight") -> GradedSelfWeight:
+    """Self-weight checks of a graded panel: its zones stacked bottom first, each with its own cell.
+
+    Zone k (``zoning.zone_cell(cell, k)``, ``zoning.zone_materials(materials, k)``) over its own h_k rows
+    gives its smeared density ρ_k, its vertical moduli (lattice alone, with the frame) and its lattice
+    strut's Euler load, as :func:`panel_self_weight` builds them (the struts in a plane between two zones
+    belong to the zone below).  Then, for each load path, as a bar in prismatic segments (Gere & Goodno,
+    §2.3): the stress at the top of zone k is the weight of the zones above, σ_top,k = g Σ_{j>k} ρ_j h_j,
+    at its bottom σ_bot,k = σ_top,k + ρ_k g h_k (at the base g Σ ρ_j h_j); the shortening is
+    Σ_k (σ_top,k h_k + ρ_k g h_k² / 2) / E_k.  At the bottom of every zone: the lattice strut force from
+    that zone's share of the stress (with a frame the larger of its stiffness share and one cell's lattice
+    weight) and strut geometry, against that zone's Euler load, and with a frame the force in the most
+    heavily loaded post from the zone's stiffness share; the smallest strut safety factor and the largest
+    post force are checked.  Greenhill's height is that of a bounding uniform column (the softest zone's
+    modulus and the heaviest zone's weight per length over the full height; a lower bound, as a stepped
+    heavy column has no closed form).  Where the weight is counted strut by strut in the finite panel (a
+    frame, simple-cubic posts), each zone is counted without the struts of its bottom plane and the panel's
+    bottom plane (zone 1's) is spread over the height, h_k / H to zone k, as the uniform panel's smeared
+    density spreads it: identical zones give :func:`panel_self_weight`'s results.
+
+    Parameters
+    ----------
+    zoning:
+        The :class:`~latticecalc.physics.zoning.Zoning`, bottom zone first; its heights add up to
+        ``cells_high``.
+    density_method:
+        Relative density method of each zone's cell (:func:`~latticecalc.physics.density.relative_density`).
+    cell, materials, cells_wide, cells_high, cells_deep, deflection_limit, buckling_safety_factor, long_term, \
+strut_end_condition, frame_end_condition, k_value, id_prefix:
+        As for :func:`panel_self_weight`; each zone's own steps are under ``<id_prefix>.zone<k>``.
+    """
+    from latticecalc.physics.zoning import check_zoning
+
+    if not isinstance(cell, Cell):
+        raise InputError("not a lattice cell", input_name="cell", expected="a Cell from build_cell",
+                         got=type(cell).__name__)
+    mats = _materials_for(cell, materials)
+    nx = _positive_int(cells_wide, name="cells_wide")
+    nz = _positive_int(cells_high, name="cells_high")
+    ny = _positive_int(cells_deep, name="cells_deep")
+    limit = _q(deflection_limit, name="deflection_limit", dim="length")
+    _check_options(buckling_safety_factor, strut_end_condition, frame_end_condition, k_value)
+    zoning = check_zoning(zoning, cells_high=nz)
+    if zoning is None:
+        raise InputError("a graded panel needs its zoning", input_name="zoning", expected="a Zoning", got="None")
+    p = id_prefix
+    a = cell.cell_width
+    height = (nz * a).to("m")
+    steps: list[Any] = [quantity_step(id=f"{p}.height", description="Panel height", value=height, unit="m",
+                                      method=f"{nz} cells × {format_quantity(a.to('mm'))}")]
+    zones: list[_PanelParts] = []
+    base_plane = None
+    for k, z in enumerate(zoning.zones):
+        zone_cell = zoning.zone_cell(cell, k)
+        zone_mats = zoning.zone_materials(mats, k)
+        zp = f"{p}.zone{k + 1}"
+        rd = relative_density(zone_cell, density_method, id_prefix=f"{zp}.density")
+        if k == 0 and _counts_panel_struts(zone_cell):
+            # the struts lying in the panel's bottom plane are zone 1's; their weight is spread over the height
+            more, base_plane = _bottom_plane(zone_cell, zone_mats, nx=nx, ny=ny, rd=rd, p=p)
+            steps += more
+        parts = _panel_parts(zone_cell, zone_mats, nx=nx, ny=ny, nz=z.cells_high, rd=rd, long_term=long_term,
+                             strut_end_condition=strut_end_condition, k_value=k_value, p=zp, base_plane=base_plane,
+                             panel_height=height, height_description=f"Height of zone {k + 1} (its own rows)")
+        zones.append(parts)
+        steps += parts.steps
+    n = len(zones)
+    creep_note = next((zp.creep_note for zp in zones if zp.creep_note), "")
+    has_frame = zones[0].e_combined is not None
+
+    shortening, moduli, strut_sf, greenhill = {}, {}, {}, {}
+    strut_forces, zone_sf, governing_zone = {}, {}, {}
+    frame_stress = frame_sf = None
+    checks = []
+    cases = ["lattice-alone"] + (["with-frame"] if has_frame else [])
+    for case in cases:
+        cp = f"{p}.{case}"
+        label = _LABELS[case]
+        # stresses, top zone first: each zone's bottom carries the zones above and itself
+        tops: list[Any] = [None] * n
+        bottoms: list[Any] = [None] * n
+        above = Q_(0.0, "kPa")
+        for k in reversed(range(n)):
+            zp = zones[k]
+            st = evaluate(ZONE_BOTTOM_STRESS, id=f"{cp}.zone{k + 1}.bottom-stress", description="Smeared vertical "
+                          f"stress at the bottom of zone {k + 1}" + (" (the panel base)" if k == 0 else "")
+                          + f", {label}: the weight of the zones above and of zone {k + 1}",
+                          values={"sigma_t": above, "rho": zp.density(case), "g": GRAVITY, "h": zp.height},
+                          unit="kPa", source=GERE_GOODNO_2013)
+            steps.append(st)
+            tops[k], bottoms[k] = above, st.result
+            above = st.result
+        segments = []
+        for k, zp in enumerate(zones):
+            segments.append(evaluate(ZONE_SHORTENING, id=f"{cp}.zone{k + 1}.shortening", description="Shortening "
+                                     f"of zone {k + 1} under the zones above and its own weight, {label}",
+                                     values={"sigma_t": tops[k], "rho": zp.density(case), "g": GRAVITY,
+                                             "h": zp.height, "E": zp.modulus(case)},
+                                     unit="mm", source=GERE_GOODNO_2013))
+        dl = evaluate(zone_sum("delta", "delta_z", n), id=f"{cp}.shortening", description="Self-weight shortening, "
+                      f"{label}: the zones' shortenings added", values={f"delta_z_{k + 1}": s.result
+                                                                         for k, s in enumerate(segments)},
+                      unit="mm", source=GERE_GOODNO_2013, note=creep_note)
+        steps += [*segments, dl]
+        shortening[case] = dl.result
+        # the most heavily loaded strut (and post) at the bottom of every zone
+        forces, factors, posts = [], [], []
+        for k, zp in enumerate(zones):
+            zid, zone = f"{cp}.zone{k + 1}", f"zone {k + 1}"
+            more, sigma_l = _lattice_stress(zp, bottoms[k], ip=zid, case=case,
+                                            what=f"the stress at the bottom of {zone}")
+            steps += more
+            if case == "with-frame":
+                posts.append(_frame_force(zp, bottoms[k], id=f"{zid}.frame-force", where=f"at the bottom of {zone}"))
+                steps.append(posts[-1])
+            n_s, sf_s = _strut_safety(zp, sigma_l, ip=zid, label=label, zone=zone)
+            steps += [n_s, sf_s]
+            forces.append(n_s.result)
+            factors.append(sf_s.result)
+        kg = min(range(n), key=lambda k: factors[k].to("").m)
+        sf_gov = quantity_step(id=f"{cp}.strut-safety", description="Buckling safety factor of the most critical "
+                               f"lattice strut, {label}: zone {kg + 1}", value=factors[kg], unit="",
+                               method="smallest of the zones' safety factors")
+        steps.append(sf_gov)
+        strut_forces[case], zone_sf[case], governing_zone[case] = tuple(forces), tuple(factors), kg + 1
+        strut_sf[case] = sf_gov.result
+        if case == "with-frame":
+            kf = max(range(n), key=lambda k: posts[k].result.to("N").m)
+            n_f = quantity_step(id=f"{cp}.frame-force", description="Axial force in the most heavily loaded "
+                                f"vertical frame member: at the bottom of zone {kf + 1}"
+                                + (" (the panel base)" if kf == 0 else ""), value=posts[kf].result, unit="N",
+                                method="largest of the zones' post forces")
+            more, frame_stress, frame_sf = _frame_buckling(zones[kf], n_f.result, ip=cp,
+                                                           where=f"at the bottom of zone {kf + 1}",
+                                                           frame_end_condition=frame_end_condition, k_value=k_value)
+            steps += [n_f, *more]
+            checks.append(_frame_check(cp, frame_sf, buckling_safety_factor,
+                                       which=f" (at the bottom of zone {kf + 1})"))
+        # Greenhill: a bounding uniform column over the full height, the softest zone's modulus, the heaviest weight
+        kq = max(range(n), key=lambda k: zones[k].density(case).to("kg/m^3").m)
+        ke = min(range(n), key=lambda k: zones[k].modulus(case).to("MPa").m)
+        rho_b = quantity_step(id=f"{cp}.bounding-density", description="Smeared density of the bounding uniform "
+                              f"column, {label}: the heaviest zone's (zone {kq + 1})", value=zones[kq].density(case),
+                              unit="kg/m^3", method="largest of the zones' smeared densities",
+                              source=DERIVED_STEPPED_BOUND)
+        e_b = quantity_step(id=f"{cp}.bounding-modulus", description="Vertical modulus of the bounding uniform "
+                            f"column, {label}: the softest zone's (zone {ke + 1})", value=zones[ke].modulus(case),
+                            unit="MPa", method="smallest of the zones' moduli", source=DERIVED_STEPPED_BOUND)
+        q = evaluate(WEIGHT_PER_LENGTH, id=f"{cp}.weight-per-length", description="Weight per metre of height of "
+                     f"the bounding uniform column, {label}", values={"rho": rho_b.result, "g": GRAVITY,
+                                                                      "W": zones[0].width, "D": zones[0].depth},
+                     unit="N/m", source=DERIVED)
+        gh = greenhill_height(youngs_modulus=e_b.result, second_moment=zones[0].panel_second_moment,
+                              weight_per_length=q.result, id=f"{cp}.greenhill", note=_STEPPED_GREENHILL_NOTE)
+        steps += [rho_b, e_b, q, *gh.steps]
+        moduli[case], greenhill[case] = e_b.result, gh.value
+        if case != cases[-1]:
+            continue  # with a frame, the lattice-alone path is shown for comparison, not checked
+        checks += _case_checks(cp, label, shortening=dl.result, limit=limit, strut_sf=sf_gov.result,
+                               buckling_safety_factor=buckling_safety_factor, ratio=gh.value / height,
+                               strut_which=f" (zone {kg + 1}, the most critical)",
+                               greenhill_note=" " + _STEPPED_GREENHILL_NOTE)
+    steps += checks
+    governing = shortening["with-frame" if has_frame else "lattice-alone"]
+    return GradedSelfWeight(value=governing, steps=tuple(steps), shortening=shortening, effective_modulus=moduli,
+                            strut_safety_factor=strut_sf, greenhill_height=greenhill, frame_stress=frame_stress,
+                            frame_safety_factor=frame_sf, all_ok=all(c.ok for c in checks), strut_force=strut_forces,
+                            zone_strut_safety_factor=zone_sf, governing_zone=governing_zone,
+                            title="Self-weight of the graded panel: zones stacked, shortening, stresses and buckling")

@@ -88,7 +88,8 @@ def _zoned(d: Mapping[str, Any], context: StudyContext, cell: Any, ny: int) -> t
     """(the cell the sheets use, the zoning): a graded design's zone 1 cell and zones, or (cell, None).
 
     The column-panel project takes zone 1's cell as its cell (``column_panel.design_from_inputs``); the
-    hand checks that have no per-zone form (self-weight, the receiver estimates) use it, as its sheets do.
+    hand checks that have no per-zone form (the receiver estimates) use it, as its sheets do, and the zoned
+    ones (the bands, the mass, self-weight) take each zone's cell from it.
     """
     from latticecalc.study.zones import zoning
 
@@ -186,14 +187,15 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     best zone's margin (``coverage_zone``, ``coverage_peak``: where it is found, 1-based), and ``band_*``/``held_*``
     are that zone's; ``f_strut`` is zone 1's strut mode, ``strut_detuning`` the nearest zone's. The mass is each
     zone's over its rows; ``mass_ratio`` and the floor estimates from it sum each zone's resonating mass over its
-    rows (:func:`_zoned_floor_estimates`); self-weight takes zone 1's cell over the full height, as the
-    column-panel sheet does (section 30).
+    rows (:func:`_zoned_floor_estimates`); self-weight stacks the zones bottom first, each with its own cell
+    (``selfweight.graded_panel_self_weight``), as the column-panel sheet does (section 30): ``buckling_margin``
+    then takes the smallest strut safety factor over the zones.
     """
     from latticecalc import Q_
     from latticecalc.physics import receiver
     from latticecalc.physics.bands import band_estimate_for_cell
     from latticecalc.physics.density import panel_mass, relative_density
-    from latticecalc.physics.selfweight import panel_self_weight
+    from latticecalc.physics.selfweight import graded_panel_self_weight, panel_self_weight
 
     d = full_design(design, context)
     mats = _materials(d, context)
@@ -267,14 +269,18 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
             mass = graded_panel_mass(cell, zoning=zoning, materials=mats, cells_wide=nx, cells_high=ny,
                                      cells_deep=nz, method="closed-form")
     out["panel_mass"] = float(mass.value.to("kg").m)
-    # the hand load-path checks take the cell the sheet takes (a graded panel: zone 1's over the full height)
-    rd = relative_density(cell, "closed-form")
+    # the hand load-path checks as the sheet makes them (a graded panel: its zones stacked bottom first)
     sw_in = context.selfweight
-    sw = panel_self_weight(cell, materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz, density=rd,
-                           deflection_limit=Q_(sw_in["deflection_limit_mm"], "mm"),
-                           buckling_safety_factor=sw_in["safety_factor"], long_term=sw_in["long_term"],
-                           strut_end_condition=sw_in["strut_end_condition"],
-                           frame_end_condition=sw_in["frame_end_condition"], k_value=sw_in["k_value"])
+    sw_kw = dict(materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz,
+                 deflection_limit=Q_(sw_in["deflection_limit_mm"], "mm"), buckling_safety_factor=sw_in["safety_factor"],
+                 long_term=sw_in["long_term"], strut_end_condition=sw_in["strut_end_condition"],
+                 frame_end_condition=sw_in["frame_end_condition"], k_value=sw_in["k_value"])
+    if zoning is None:
+        sw = panel_self_weight(cell, density=relative_density(cell, "closed-form"), **sw_kw)
+    else:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")   # slenderness warnings of the zone cells
+            sw = graded_panel_self_weight(cell, zoning=zoning, density_method="closed-form", **sw_kw)
     case = "with-frame" if sw.strut_safety_factor.get("with-frame") is not None else "lattice-alone"
     factors = [float(sw.strut_safety_factor[case].m)]
     if sw.frame_safety_factor is not None:

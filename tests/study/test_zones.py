@@ -81,6 +81,45 @@ def test_two_equal_zones_give_the_uniform_numbers_through_the_graded_path():
         assert coupled_z[key] == pytest.approx(value, rel=RTOL_SAME, abs=1e-9), key
 
 
+def test_graded_self_weight_outputs_are_the_stacked_zones():
+    # the hand stage's self-weight margins are the column-panel sheet's (section 30) for a graded design: its
+    # zones stacked bottom first (selfweight.graded_panel_self_weight; Gere & Goodno 2013, §2.3, bars in
+    # segments [from memory]), not zone 1's cell over the full height (common practice: the study reruns the
+    # sheet's own calls)
+    import warnings
+
+    from latticecalc import Q_
+    from latticecalc.physics.density import relative_density
+    from latticecalc.physics.selfweight import graded_panel_self_weight, panel_self_weight
+
+    ctx = bcc_context(39.0)
+    graded = dict(UNIFORM, **{"zones.count": 2, "zones.diameter_spread": 0.3, "zones.mass_spread": 0.0})
+    hand = ev.hand_stage(graded, ctx)
+    d = ev.full_design(graded, ctx)
+    mats = ev._materials(d, ctx)
+    nx, ny = ev.panel_counts(d, ctx, ev._column(ctx))
+    nz = int(d["panel.cells_deep"])
+    sw_in = ctx.selfweight
+    kw = dict(materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz,
+              deflection_limit=Q_(sw_in["deflection_limit_mm"], "mm"), buckling_safety_factor=sw_in["safety_factor"],
+              long_term=sw_in["long_term"], strut_end_condition=sw_in["strut_end_condition"],
+              frame_end_condition=sw_in["frame_end_condition"], k_value=sw_in["k_value"])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        cell, zoning = ev._zoned(d, ctx, ev._cell(d, ctx, mats), ny)
+        sw = graded_panel_self_weight(cell, zoning=zoning, density_method="closed-form", **kw)
+        zone1 = panel_self_weight(cell, density=relative_density(cell, "closed-form"), **kw)
+    case = "with-frame" if "with-frame" in sw.shortening else "lattice-alone"
+    shortening = 1.0 - float(sw.shortening[case].to("mm").m) / sw_in["deflection_limit_mm"]
+    assert hand["shortening_margin"] == pytest.approx(shortening, rel=RTOL_RERUN)
+    factors = [float(sw.strut_safety_factor[case].m)] + ([float(sw.frame_safety_factor.m)]
+                                                         if sw.frame_safety_factor is not None else [])
+    assert hand["buckling_margin"] == pytest.approx(min(factors) / sw_in["safety_factor"] - 1.0, rel=RTOL_RERUN)
+    # the zones differ, so zone 1's cell over the full height would have given another shortening
+    old = 1.0 - float(zone1.shortening[case].to("mm").m) / sw_in["deflection_limit_mm"]
+    assert hand["shortening_margin"] != pytest.approx(old, rel=1e-3)
+
+
 def test_search_finds_two_zones_each_tuned_to_its_peak(tmp_path):
     # two peaks 1.75 apart: a uniform band (upper over lower edge about 1.32 for this cell) cannot cover both
     # with their ± 2 % spread; two zones can. With no scatter (tolerances and the temperature range set to

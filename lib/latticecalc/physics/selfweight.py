@@ -46,6 +46,12 @@ and the Euler loads.
 
 Elastomers creep under the permanent self-weight: the long-term modulus (material
 ``long_term_factor``) is used by default and the sheet carries a caution.
+
+A graded panel (:func:`graded_panel_self_weight`) stacks its zones bottom first, each with its own
+cell's weight, moduli and strut Euler load, as a bar in prismatic segments (Gere & Goodno 2013, §2.3,
+from memory): each zone carries the zones above it, and its most heavily loaded strut is checked at the
+zone's bottom.  Greenhill's height of the stepped column is bounded by a uniform one (the softest zone's
+modulus, the heaviest zone's weight).
 """
 
 from __future__ import annotations

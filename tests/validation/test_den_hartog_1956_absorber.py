@@ -153,20 +153,23 @@ def test_mass_ratio_solved_from_the_same_formulas():
 
 
 def test_written_out_mass_ratios_are_sympys_positive_roots():
-    # general-purpose reference library (sympy.solve): the written-out inverses are the one positive root of each
-    # IL formula, at several loss factors and required losses
+    # general-purpose reference library (sympy.solve): each written-out inverse is the one positive root of its IL
+    # formula solved for mu (all symbols positive), compared at several loss factors and required losses
     import sympy as sym
 
-    mu = sym.Symbol("mu", positive=True)
-    for formula, inverse, point in ((receiver.IL_BOUND, receiver.MASS_RATIO_FOR_BOUND, {"eta_a": 0.1, "eta_h": 0.02}),
-                                    (receiver.IL_BOUND, receiver.MASS_RATIO_FOR_BOUND, {"eta_a": 0.3, "eta_h": 0.05}),
-                                    (receiver.IL_MASS_HOST, receiver.MASS_RATIO_FOR_MASS_HOST, {"eta_a": 0.1}),
-                                    (receiver.IL_MASS_HOST, receiver.MASS_RATIO_FOR_MASS_HOST, {"eta_a": 0.25})):
-        subs = {s: sym.Float(point[s.name]) for s in formula.expr.free_symbols if s.name in point}
-        subs.update({s: mu for s in formula.expr.free_symbols if s.name == "mu"})
-        for required in (3.0, 11.3, 20.0):
-            roots = [complex(r) for r in sym.solve(sym.Eq(formula.expr.subs(subs), required), mu)]
-            positive = [r.real for r in roots if r.real > 0 and abs(r.imag) < 1e-12]
-            assert len(positive) == 1
-            ours = float(inverse.evaluate({"IL": required, **point}).m)
-            assert ours == pytest.approx(positive[0], rel=1e-10)
+    for formula, inverse, points in ((receiver.IL_BOUND, receiver.MASS_RATIO_FOR_BOUND,
+                                      ({"eta_a": 0.1, "eta_h": 0.02}, {"eta_a": 0.3, "eta_h": 0.05})),
+                                     (receiver.IL_MASS_HOST, receiver.MASS_RATIO_FOR_MASS_HOST,
+                                      ({"eta_a": 0.1}, {"eta_a": 0.25}))):
+        pos = {s: sym.Symbol(s.name, positive=True) for s in formula.expr.free_symbols}
+        mu = next(p for s, p in pos.items() if s.name == "mu")
+        il = sym.Symbol("IL", positive=True)
+        roots = sym.solve(sym.Eq(il, formula.expr.subs(pos)), mu)
+        for point in points:
+            for required in (3.0, 11.3, 20.0):
+                at = {il: required, **{p: point[s.name] for s, p in pos.items() if s.name in point}}
+                values = [complex(r.subs(at).evalf()) for r in roots]
+                positive = [v.real for v in values if v.real > 0 and abs(v.imag) < 1e-12]
+                assert len(positive) == 1
+                ours = float(inverse.evaluate({"IL": required, **point}).m)
+                assert ours == pytest.approx(positive[0], rel=1e-10)

@@ -9,11 +9,21 @@ after an edit finds the unchanged expensive results in the cache.
 
 Also built once: the demo (``quick_demo``, coarsened) and one column-panel project with hostile text in
 every user-typed field, reviewed and signed (``hostile_panel``), each read by tests in several folders.
+
+Once per session, not once per worker: under pytest-xdist the workers share these builds through a folder
+beside their own temporary folders (:func:`_shared`), each built by the first worker to ask, under a file
+lock, while the other waits for it. So that neither worker waits long, each worker starts building one of the
+heavy projects the session's tests need as its first act (:func:`_early_builds`), the demo on one and the
+column-panel projects on the other.
 """
 
+import contextlib
+import fcntl
 import json
+import os
 import shutil
 import sys
+from collections.abc import Callable
 from pathlib import Path
 
 import pytest
@@ -23,8 +33,43 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 
+def _shared_root(factory: pytest.TempPathFactory) -> Path:
+    """The folder the session's workers share (beside their own temporary folders; the session's own without xdist)."""
+    base = factory.getbasetemp()
+    root = (base.parent if os.environ.get("PYTEST_XDIST_WORKER") else base) / "shared-builds"
+    root.mkdir(parents=True, exist_ok=True)
+    return root
+
+
+@contextlib.contextmanager
+def _locked(path: Path):
+    with open(path, "a+") as fh:
+        fcntl.flock(fh, fcntl.LOCK_EX)
+        try:
+            yield
+        finally:
+            fcntl.flock(fh, fcntl.LOCK_UN)
+
+
+def _shared(factory: pytest.TempPathFactory, name: str, build: Callable[[Path], None]) -> Path:
+    """``<shared root>/<name>``, built by ``build(folder)`` once in the session, whichever worker asks first.
+
+    A build that fails leaves no done mark, so the next worker to ask builds afresh (and fails the same way,
+    naming its own test); the folder is cleared before each try.
+    """
+    root = _shared_root(factory)
+    folder, done = root / name, root / f"{name}.done"
+    with _locked(root / f"{name}.lock"):
+        if not done.exists():
+            shutil.rmtree(folder, ignore_errors=True)
+            folder.mkdir(parents=True)
+            build(folder)
+            done.touch()
+    return folder
+
+
 class ExecutedProjects:
-    """Projects made from a bundled template, run and exported once each, on first use.
+    """Projects made from a bundled template, run and exported once each in the session, on first use.
 
     Each has the template's defaults with the numerical check coarsened by ``tests.helpers.make_quick``
     (which changes nothing in a template without those inputs): no test here reads a full-resolution
@@ -33,22 +78,21 @@ class ExecutedProjects:
 
     def __init__(self, factory: pytest.TempPathFactory):
         self._factory = factory
-        self._done: dict[str, Path] = {}
 
     def get(self, template: str) -> Path:
         """The shared executed project of ``template``. Do not modify it: take a :meth:`copy`."""
-        if template not in self._done:
+        def build(parent: Path) -> None:
             from latticecalc.cli import main as cli
             from tests.helpers import make_quick
 
             # through the command line, as a user would: new -> (inputs edited) -> run -> export
-            folder = self._factory.mktemp(template) / template
+            folder = parent / template
             assert cli(["new", str(folder), "--template", template]) == 0
             make_quick(folder)
             assert cli(["run", str(folder)]) == 0
             assert cli(["export", str(folder)]) == 0
-            self._done[template] = folder
-        return self._done[template]
+
+        return _shared(self._factory, f"template-{template}", build) / template
 
     def copy(self, template: str, dest: Path) -> Path:
         """A private copy of the shared executed project at ``dest`` (still current: nothing to rerun)."""
@@ -93,9 +137,15 @@ def quick_demo(tmp_path_factory):
         make_quick_study(make_quick(folder))
         return real_run(folder, **kwargs)
 
-    with pytest.MonkeyPatch.context() as mp:
-        mp.setattr(demo, "run_project", quick_run)
-        return demo.build_demo(tmp_path_factory.mktemp("demo") / "demo", progress=None)
+    def build(folder: Path) -> None:
+        with pytest.MonkeyPatch.context() as mp:
+            mp.setattr(demo, "run_project", quick_run)
+            report = demo.build_demo(folder / "demo", progress=None)
+        (folder / "report.json").write_text(json.dumps({"folder": str(report.folder),
+                                                       "packages": [str(p) for p in report.packages]}))
+
+    kept = json.loads((_shared(tmp_path_factory, "quick-demo", build) / "report.json").read_text())
+    return demo.DemoReport(folder=Path(kept["folder"]), packages=tuple(Path(p) for p in kept["packages"]))
 
 
 @pytest.fixture(scope="session")
@@ -116,7 +166,18 @@ def hostile_panel(executed_projects, tmp_path_factory) -> Path:
     from latticecalc.project.signoff import add_comment, reply_comment, sign_project
     from tests.helpers import HOSTILE
 
-    folder = executed_projects.copy("column-panel", tmp_path_factory.mktemp("hostile") / "panel")
+    def build(parent: Path) -> None:
+        folder = executed_projects.copy("column-panel", parent / "panel")
+        edit(folder / "cover.toml", cover)
+        edit(folder / "inputs.toml", inputs)
+        first = export_project(folder, run=True, progress=None)
+        step = json.loads(first.json.read_text(encoding="utf-8"))["results"][0]["id"]
+        add_comment(folder, step=step, author=f"author {HOSTILE}", text=f"comment {HOSTILE}")
+        reply_comment(folder, "CQ-1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
+        sign_project(folder, role="prepared", name=f"signer {HOSTILE}", comment=f"remark {HOSTILE}")
+        report = export_project(folder, pdf=shutil.which("chromium") is not None)
+        assert report.html.name == f"{open_project(folder).meta.package_stem}.html"
+        (parent / "package.txt").write_text(str(report.html), encoding="utf-8")
 
     def edit(path: Path, change) -> None:
         doc = tomlkit.parse(path.read_text(encoding="utf-8"))
@@ -132,13 +193,29 @@ def hostile_panel(executed_projects, tmp_path_factory) -> Path:
     def inputs(doc):
         doc["lattice"]["strut_diameter"] = {"value": "3 mm", "source": f"source {HOSTILE}"}
 
-    edit(folder / "cover.toml", cover)
-    edit(folder / "inputs.toml", inputs)
-    first = export_project(folder, run=True, progress=None)
-    step = json.loads(first.json.read_text(encoding="utf-8"))["results"][0]["id"]
-    add_comment(folder, step=step, author=f"author {HOSTILE}", text=f"comment {HOSTILE}")
-    reply_comment(folder, "CQ-1", author=f"replier {HOSTILE}", text=f"reply {HOSTILE}")
-    sign_project(folder, role="prepared", name=f"signer {HOSTILE}", comment=f"remark {HOSTILE}")
-    report = export_project(folder, pdf=shutil.which("chromium") is not None)
-    assert report.html.name == f"{open_project(folder).meta.package_stem}.html"
-    return report.html
+    shared = _shared(tmp_path_factory, "hostile-panel", build)
+    return Path((shared / "package.txt").read_text(encoding="utf-8"))
+
+
+#: The heavy shared builds and the fixtures whose tests need them; under xdist, worker k starts build k (mod workers).
+_HEAVY = (("quick_demo", ("quick_demo",)),
+          ("hostile_panel", ("hostile_panel", "quick_panel", "quick_panel_copy", "executed_projects")))
+
+
+@pytest.fixture(scope="session", autouse=True)
+def _early_builds(request):
+    """Under xdist, each worker builds one heavy shared project the session needs before its first test.
+
+    Lazily, the workers would both reach the first browser test at once and one would wait for the other's
+    build; started early on different workers the builds run side by side. Without xdist nothing is built early.
+    """
+    worker = os.environ.get("PYTEST_XDIST_WORKER", "")
+    count = int(os.environ.get("PYTEST_XDIST_WORKER_COUNT", "1") or 1)
+    if not worker.startswith("gw") or count < 2:
+        return
+    needed = [fixture for fixture, users in _HEAVY
+              if any(set(users) & set(getattr(item, "fixturenames", ())) for item in request.session.items)]
+    index = int(worker[2:])
+    for k, fixture in enumerate(needed):
+        if k % count == index:
+            request.getfixturevalue(fixture)

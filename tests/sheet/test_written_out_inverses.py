@@ -50,3 +50,18 @@ def test_calibrated_modulus_is_the_solved_strut_formula():
 def test_static_modulus_from_a_dynamic_one_is_the_solved_dynamic_formula():
     solved = _positive_root(materials.DYNAMIC_MODULUS.expr, sp.Symbol("E_dyn"), "E")
     assert _same(materials.STATIC_FROM_DYNAMIC.expr, solved)
+
+
+def test_scatter_frequency_ratios_are_each_formula_over_itself():
+    # the tolerance module's frequency ratios are the strut formula (Euler–Bernoulli, Rao 2017 eq. 8.82) and the
+    # mid-span-mass formula (Rayleigh, Rao 2017 §8.7) with changed values over themselves, as sympy simplifies them
+    from latticecalc.physics import tolerance as tol
+
+    def changed(expr: sp.Expr, names: dict[str, str]) -> sp.Expr:
+        return expr.subs({s: sp.Symbol(names[s.name], positive=True) for s in expr.free_symbols if s.name in names})
+
+    bare, mass = tol._strut_frequency_expr(), tol._midspan_mass_expr()
+    assert _same(tol.GEOMETRY_FREQUENCY_RATIO.expr, sp.simplify(changed(bare, {"d": "d_2", "L": "L_2"}) / bare))
+    assert _same(tol.DENSITY_FREQUENCY_RATIO.expr, sp.simplify(changed(bare, {"rho": "rho_2"}) / bare))
+    assert _same(tol.GEOMETRY_FREQUENCY_RATIO_MASS.expr, sp.simplify(changed(mass, {"d": "d_2", "L": "L_2"}) / mass))
+    assert _same(tol.DENSITY_FREQUENCY_RATIO_MASS.expr, sp.simplify(changed(mass, {"rho": "rho_2"}) / mass))

@@ -298,11 +298,13 @@ _F = _strut_frequency_expr()
 _d, _L, _rho = (_symbol(_F, n) for n in ("d", "L", "rho"))
 _d2, _L2, _rho2 = sp.symbols("d_2 L_2 rho_2", positive=True)
 #: A strut frequency with changed diameter and length over the nominal one (E, ρ, λ fixed):
-#: the Euler–Bernoulli formula (Rao 2017 eq. 8.82) divided by itself, simplified by sympy.
-GEOMETRY_FREQUENCY_RATIO = Formula("s_g", sp.simplify(_F.subs({_d: _d2, _L: _L2}) / _F),
+#: the Euler–Bernoulli formula (Rao 2017 eq. 8.82) divided by itself. The four ratios here are written out in
+#: their simplified form (sympy's simplify cost every kernel a third of a second at import); tests/physics check
+#: each equals its formula divided by itself.
+GEOMETRY_FREQUENCY_RATIO = Formula("s_g", _L**2 * _d2 / (_L2**2 * _d),
                                    {"s_g": r"s_{\mathrm{geo}}", "d_2": "d'", "L_2": "L'"})
 #: A strut frequency with a changed density over the nominal one (E, geometry fixed).
-DENSITY_FREQUENCY_RATIO = Formula("s_rho", sp.simplify(_F.subs({_rho: _rho2}) / _F),
+DENSITY_FREQUENCY_RATIO = Formula("s_rho", sp.sqrt(_rho) / sp.sqrt(_rho2),
                                   {"s_rho": r"s_{\rho}", "rho_2": r"\rho'"})
 
 
@@ -324,11 +326,15 @@ _dm, _Lm, _rhom = (_symbol(_FM, n) for n in ("d", "L", "rho"))
 #: As :data:`GEOMETRY_FREQUENCY_RATIO` for a strut carrying a mass M_a at mid-span: the Rayleigh frequency
 #: (Rao 2017 §8.7, static deflection shape) with changed diameter and length over the nominal one. A heavy
 #: mass makes the frequency go as d²/L^1.5 rather than d/L², so the tolerances move it further.
-GEOMETRY_FREQUENCY_RATIO_MASS = Formula("s_g", sp.simplify(_FM.subs({_dm: _d2, _Lm: _L2}) / _FM),
+_Ma = _symbol(_FM, "M_a")
+_mass_root = sp.sqrt(13 * sp.pi * _Lm * _dm**2 * _rhom + 140 * _Ma)     # Rayleigh's 13/35 m_s + M_a, times 140
+GEOMETRY_FREQUENCY_RATIO_MASS = Formula("s_g", _Lm ** sp.Rational(3, 2) * _d2**2 * _mass_root
+                                        / (_L2 ** sp.Rational(3, 2) * _dm**2
+                                           * sp.sqrt(13 * sp.pi * _L2 * _d2**2 * _rhom + 140 * _Ma)),
                                         {"s_g": r"s_{\mathrm{geo}}", "d_2": "d'", "L_2": "L'",
                                          "M_a": r"M_\mathrm{a}"})
 #: As :data:`DENSITY_FREQUENCY_RATIO` for a strut carrying a mass at mid-span (the mass itself unchanged).
-DENSITY_FREQUENCY_RATIO_MASS = Formula("s_rho", sp.simplify(_FM.subs({_rhom: _rho2}) / _FM),
+DENSITY_FREQUENCY_RATIO_MASS = Formula("s_rho", _mass_root / sp.sqrt(13 * sp.pi * _Lm * _dm**2 * _rho2 + 140 * _Ma),
                                        {"s_rho": r"s_{\rho}", "rho_2": r"\rho'", "M_a": r"M_\mathrm{a}"})
 
 

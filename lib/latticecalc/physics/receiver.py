@@ -23,7 +23,8 @@ Model
 The insertion loss at the receiver is IL = 20 log10(|H without panels| / |H with panels|), H the
 head displacement over the ground displacement in the excitation direction.
 
-Hand estimates beside it (:func:`receiver_estimates`): the resonating mass ratio μ (strut modal
+Hand estimates beside it (:func:`receiver_estimates`; a graded panel's zone by zone,
+:func:`zoned_receiver_estimates`): the resonating mass ratio μ (strut modal
 mass moving with the host over the column mass along the panel height), the locally resonant host
 band f_t … f_t √(1 + μ) (Sugino, C., Xia, Y., Leadenham, S., Ruzzene, M. & Erturk, A., "A general
 theory for bandgap estimation in locally resonant metastructures", *J. Sound Vib.* 406 (2017)
@@ -34,6 +35,7 @@ upper bound of any single absorber's insertion loss.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -860,15 +862,19 @@ def peak_checks(*, frequency: Any, insertion_loss: np.ndarray, peaks: Any, requi
 # --------------------------------------------------------------------------------------------------------
 @dataclass(frozen=True, kw_only=True)
 class ReceiverEstimates(CalcResult):
-    """Result of :func:`receiver_estimates`.
+    """Result of :func:`receiver_estimates` and :func:`zoned_receiver_estimates`.
 
     ``value`` maps ``mass_ratio``, ``tuning`` (Hz), ``band`` ((low, high) Hz), ``bound`` (dB, any
-    single absorber, best case), ``mass_host_il`` (dB, absorber tuned on a mass-like host).
+    single absorber, best case), ``mass_host_il`` (dB, absorber tuned on a mass-like host); with a
+    requirement also ``mass_ratio_needed``, ``mass_ratio_min`` and ``resonating_mass_needed`` (kg).
+    ``zone_tunings`` and ``zone_resonating_masses``: each zone's of a graded panel (empty for a uniform one).
     """
 
     mass_ratio: float
     resonating_mass: pint.Quantity
     host_mass: pint.Quantity
+    zone_tunings: tuple = ()
+    zone_resonating_masses: tuple = ()
 
 
 def strut_families(cell: Any, *, nx: int, ny: int, faces: Sequence[str], direction: str, group: str = "lattice"):
@@ -892,6 +898,144 @@ def strut_families(cell: Any, *, nx: int, ny: int, faces: Sequence[str], directi
             key = (round(L, 9), round(w, 9))
             fam[key] = fam.get(key, 0) + 1
     return fam
+
+
+@dataclass(frozen=True)
+class StrutResonance:
+    """The resonating mass of a cell's lattice struts over the panels' height and their tuning.
+
+    ``resonating_mass`` [kg] is the sum over the strut families, ``tuning`` the step of the strut tuning
+    (the most numerous family's), ``steps`` the node-zone and family steps that give them (the tuning
+    step not among them).
+    """
+
+    resonating_mass: pint.Quantity
+    tuning: Any
+    steps: tuple
+
+
+def _check_direction(direction: str) -> None:
+    if direction not in DIRECTIONS:
+        raise InputError("unknown ground-motion direction", input_name="receiver.direction",
+                         expected=", ".join(DIRECTIONS), got=repr(direction))
+
+
+def strut_resonance(cell: Any, *, material: Any, nx: int, ny: int, faces: Sequence[str], direction: str,
+                    added_mass: Any = None, node_zones: str = "none", id_prefix: str = "receiver",
+                    label: str = "") -> StrutResonance:
+    """Resonating mass of the lattice struts of ``nx`` × ``ny`` cells on each face, and their tuning (Rayleigh).
+
+    Parameters as for :func:`receiver_estimates`; the tuning is the first bending frequency of the most
+    numerous strut family. ``label`` starts the steps' descriptions (e.g. ``"Zone 2: "``).
+    """
+    _check_direction(direction)
+    if added_mass is None:
+        added_mass = getattr(cell, "point_masses", {}).get("lattice", (Q_(0.0, "kg"),))[0]
+    Ma = check_dimension(added_mass, name="lattice.added_mass", expected="mass").to("kg")
+    if not Ma.m >= 0:
+        raise InputError("the added strut mass cannot be negative", input_name="lattice.added_mass",
+                         expected=">= 0 kg", got=format_quantity(Ma))
+    d = cell.diameters["lattice"]
+    E = material.dynamic_modulus()
+    rho = material.density
+    A = AREA_CIRCLE.evaluate({"d": d})
+    Iq = SECOND_MOMENT_CIRCLE.evaluate({"d": d})
+    fam = strut_families(cell, nx=nx, ny=ny, faces=faces, direction=direction)
+    steps = []
+    zone_sum = 0.0
+    if fe.check_node_zones(node_zones) == "rigid":
+        nz = fe.cell_node_zones(cell, id_prefix=f"{id_prefix}.node-zone")
+        zone_sum = float(sum(q.to("m").m for q in nz.value))
+        steps += list(nz.steps)
+    total = Q_(0.0, "kg")
+    tuning = None
+    for i, ((L, w), count) in enumerate(sorted(fam.items(), key=lambda kv: -kv[1])):
+        # rigid node zones move with the nodes: only the flexible length bends and resonates
+        Lq = Q_(max(L - zone_sum, 0.5 * L), "m")
+        ms = (rho * A * Lq).to("kg")
+        st = evaluate(RESONATING_MASS, id=f"{id_prefix}.resonating-mass-{i + 1}",
+                      description=f"{label}Resonating mass of {count} lattice struts, bending length "
+                      f"{format_quantity(Lq.to('mm'))}"
+                      + (" between rigid node zones" if zone_sum else "") + f", direction weight {w:.3g}",
+                      values={"N": Q_(count, ""), "w": Q_(w, ""), "M_a": Ma, "m_s": ms}, unit="kg",
+                      source=RAYLEIGH_STRUT)
+        steps.append(st)
+        total = total + st.result
+        if tuning is None:
+            tuning = evaluate(STRUT_TUNING, id=f"{id_prefix}.f-tuning", description=f"{label}Tuning frequency: "
+                              "first bending frequency of a clamped lattice strut with its added mass (Rayleigh)",
+                              values={"E": E, "I": Iq, "L": Lq, "M_a": Ma, "m_s": ms}, unit="Hz",
+                              source=RAYLEIGH_STRUT)
+    if tuning is None:
+        raise InputError("the cell has no lattice struts", input_name="cell", expected="a 'lattice' strut group")
+    return StrutResonance(resonating_mass=total, tuning=tuning, steps=tuple(steps))
+
+
+def _column_estimates(*, resonating: Any, tuning: Any, steps: Sequence[Any], height: pint.Quantity, column: Column,
+                      eta_a: float, required: Any, id_prefix: str, loss_note: str = "",
+                      title: str = "What the panels can do to the column: hand estimates",
+                      **extra: Any) -> ReceiverEstimates:
+    """From the resonating mass step and the tuning step on: μ, the host band, Den Hartog, the bound, the μ needed.
+
+    ``resonating`` and ``tuning`` are the steps of the panels' resonating mass [kg] and of the band's tuning
+    [Hz], ``steps`` those before them, ``height`` the panels' height (the host: the column over it), ``eta_a``
+    the absorber's loss factor (``loss_note`` says where it comes from when it is not plainly the lattice's).
+    """
+    total = resonating.result.to("kg")
+    props = column_properties(column, id_prefix=f"{id_prefix}.column")
+    host = (props.value * height).to("kg")
+    host_step = quantity_step(id=f"{id_prefix}.host-mass", description="Host mass: the column over the panels' height",
+                              value=host, unit="kg", method=f"{format_quantity(props.value)} × "
+                              f"{format_quantity(height)}", source=SUGINO_2017)
+    mu = evaluate(MASS_RATIO, id=f"{id_prefix}.mass-ratio", description="Resonating mass ratio μ",
+                  values={"m_res": total, "m_h": host}, unit="", source=SUGINO_2017, sig=3)
+    up = evaluate(SUGINO_UPPER, id=f"{id_prefix}.band-high", description="Locally resonant host band, upper edge "
+                  "(lower edge: the tuning frequency)", values={"f_t": tuning.result, "mu": mu.result}, unit="Hz",
+                  source=SUGINO_2017)
+    width = evaluate(SUGINO_WIDTH, id=f"{id_prefix}.band-width", description="Width of the host band",
+                     values={"f_t": tuning.result, "mu": mu.result}, unit="Hz", source=SUGINO_2017, sig=3)
+    q = evaluate(DH_TUNING, id=f"{id_prefix}.dh-tuning", description="Den Hartog optimum tuning (absorber over "
+                 "host frequency)", values={"mu": mu.result}, unit="", source=DEN_HARTOG_1956, sig=4)
+    z = evaluate(DH_DAMPING, id=f"{id_prefix}.dh-damping", description="Den Hartog optimum absorber damping ratio "
+                 "(loss factor ≈ 2ζ at resonance)", values={"mu": mu.result}, unit="", source=DEN_HARTOG_1956, sig=3)
+    amp = evaluate(DH_AMPLITUDE, id=f"{id_prefix}.dh-amplitude", description="Den Hartog fixed-point amplitude of "
+                   "the host with the optimum absorber (over its static deflection)", values={"mu": mu.result},
+                   unit="", source=DEN_HARTOG_1956, sig=3)
+    eta_a = Q_(float(eta_a), "")
+    eta_h = Q_(float(column.material.loss_factor), "")
+    loss = f"; {loss_note}" if loss_note else ""
+    bound = evaluate(IL_BOUND, id=f"{id_prefix}.il-bound", description="Upper bound of the insertion loss of one "
+                     "absorber of this mass ratio and loss factor (best case: host resonant at the peak)",
+                     values={"mu": mu.result, "eta_a": eta_a, "eta_h": eta_h}, unit="", source=BOUND_SOURCE, sig=3,
+                     note="value in dB" + loss)
+    mass_host = evaluate(IL_MASS_HOST, id=f"{id_prefix}.il-mass-host", description="Insertion loss of the absorber "
+                         "tuned to the peak, on a column moving as a mass there (its own resonances away)",
+                         values={"mu": mu.result, "eta_a": eta_a}, unit="", source=BOUND_SOURCE, sig=3,
+                         note="value in dB" + loss)
+    steps = [*steps, resonating, host_step, mu, tuning, up, width, q, z, amp, bound, mass_host]
+    value = {"mass_ratio": float(mu.result.m), "tuning": tuning.result, "band": (tuning.result, up.result),
+             "bound": float(bound.result.m), "mass_host_il": float(mass_host.result.m)}
+    if required is not None:
+        il_req = float(np.max(np.atleast_1d(Q_(required).to("dB").m if isinstance(required, pint.Quantity)
+                                            else required)))
+        need_min = evaluate(MASS_RATIO_FOR_BOUND, id=f"{id_prefix}.mass-ratio-min", description="Least mass ratio "
+                            "with which even the best case reaches the required loss",
+                            values={"IL": Q_(il_req, ""), "eta_a": eta_a, "eta_h": eta_h}, unit="",
+                            source=BOUND_SOURCE, sig=3, note=loss_note)
+        need = evaluate(MASS_RATIO_FOR_MASS_HOST, id=f"{id_prefix}.mass-ratio-needed", description="Mass ratio "
+                        "needed for the required loss at the present lattice loss factor (absorber tuned to the "
+                        "peak, column moving as a mass there)", values={"IL": Q_(il_req, ""), "eta_a": eta_a},
+                        unit="", source=BOUND_SOURCE, sig=3, note=loss_note)
+        steps += [need_min, need]
+        value["mass_ratio_needed"] = float(need.result.m)
+        value["mass_ratio_min"] = float(need_min.result.m)
+        value["resonating_mass_needed"] = (need.result * host).to("kg")
+    return ReceiverEstimates(value=value, steps=tuple(steps), mass_ratio=float(mu.result.m), resonating_mass=total,
+                             host_mass=host, title=title, **extra)
+
+
+def _panel_height(cell: Any, ny: int) -> pint.Quantity:
+    return Q_(ny * float(cell.cell_width.to("m").m), "m")
 
 
 def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Column, faces: Sequence[str],
@@ -926,100 +1070,114 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
     id_prefix:
         Prefix of the step ids.
     """
-    if direction not in DIRECTIONS:
-        raise InputError("unknown ground-motion direction", input_name="receiver.direction",
-                         expected=", ".join(DIRECTIONS), got=repr(direction))
-    if added_mass is None:
-        added_mass = getattr(cell, "point_masses", {}).get("lattice", (Q_(0.0, "kg"),))[0]
-    Ma = check_dimension(added_mass, name="lattice.added_mass", expected="mass").to("kg")
-    if not Ma.m >= 0:
-        raise InputError("the added strut mass cannot be negative", input_name="lattice.added_mass",
-                         expected=">= 0 kg", got=format_quantity(Ma))
-    d = cell.diameters["lattice"]
-    E = material.dynamic_modulus()
-    rho = material.density
-    A = AREA_CIRCLE.evaluate({"d": d})
-    Iq = SECOND_MOMENT_CIRCLE.evaluate({"d": d})
-    fam = strut_families(cell, nx=nx, ny=ny, faces=faces, direction=direction)
-    steps = []
-    zone_sum = 0.0
-    if fe.check_node_zones(node_zones) == "rigid":
-        nz = fe.cell_node_zones(cell, id_prefix=f"{id_prefix}.node-zone")
-        zone_sum = float(sum(q.to("m").m for q in nz.value))
-        steps += list(nz.steps)
-    total = Q_(0.0, "kg")
-    tuning = None
-    for i, ((L, w), count) in enumerate(sorted(fam.items(), key=lambda kv: -kv[1])):
-        # rigid node zones move with the nodes: only the flexible length bends and resonates
-        Lq = Q_(max(L - zone_sum, 0.5 * L), "m")
-        ms = (rho * A * Lq).to("kg")
-        st = evaluate(RESONATING_MASS, id=f"{id_prefix}.resonating-mass-{i + 1}", description=f"Resonating mass of "
-                      f"{count} lattice struts, bending length {format_quantity(Lq.to('mm'))}"
-                      + (" between rigid node zones" if zone_sum else "") + f", direction weight {w:.3g}",
-                      values={"N": Q_(count, ""), "w": Q_(w, ""), "M_a": Ma, "m_s": ms}, unit="kg",
-                      source=RAYLEIGH_STRUT)
-        steps.append(st)
-        total = total + st.result
-        if tuning is None:
-            tuning = evaluate(STRUT_TUNING, id=f"{id_prefix}.f-tuning", description="Tuning frequency: first bending "
-                              "frequency of a clamped lattice strut with its added mass (Rayleigh)",
-                              values={"E": E, "I": Iq, "L": Lq, "M_a": Ma, "m_s": ms}, unit="Hz",
-                              source=RAYLEIGH_STRUT)
-    if tuning is None:
-        raise InputError("the cell has no lattice struts", input_name="cell", expected="a 'lattice' strut group")
-    props = column_properties(column, id_prefix=f"{id_prefix}.column")
-    height = Q_(ny * float(cell.cell_width.to("m").m), "m")
-    host = (props.value * height).to("kg")
-    host_step = quantity_step(id=f"{id_prefix}.host-mass", description="Host mass: the column over the panels' height",
-                              value=host, unit="kg", method=f"{format_quantity(props.value)} × "
-                              f"{format_quantity(height)}", source=SUGINO_2017)
+    sr = strut_resonance(cell, material=material, nx=nx, ny=ny, faces=faces, direction=direction,
+                         added_mass=added_mass, node_zones=node_zones, id_prefix=id_prefix)
     res_step = quantity_step(id=f"{id_prefix}.resonating-mass", description="Resonating mass moving with the column "
-                             f"({direction} ground motion, {len(faces)} panel(s))", value=total, unit="kg",
-                             method="sum of the lattice strut families above", source=RAYLEIGH_STRUT)
-    mu = evaluate(MASS_RATIO, id=f"{id_prefix}.mass-ratio", description="Resonating mass ratio μ",
-                  values={"m_res": total, "m_h": host}, unit="", source=SUGINO_2017, sig=3)
-    up = evaluate(SUGINO_UPPER, id=f"{id_prefix}.band-high", description="Locally resonant host band, upper edge "
-                  "(lower edge: the tuning frequency)", values={"f_t": tuning.result, "mu": mu.result}, unit="Hz",
-                  source=SUGINO_2017)
-    width = evaluate(SUGINO_WIDTH, id=f"{id_prefix}.band-width", description="Width of the host band",
-                     values={"f_t": tuning.result, "mu": mu.result}, unit="Hz", source=SUGINO_2017, sig=3)
-    q = evaluate(DH_TUNING, id=f"{id_prefix}.dh-tuning", description="Den Hartog optimum tuning (absorber over "
-                 "host frequency)", values={"mu": mu.result}, unit="", source=DEN_HARTOG_1956, sig=4)
-    z = evaluate(DH_DAMPING, id=f"{id_prefix}.dh-damping", description="Den Hartog optimum absorber damping ratio "
-                 "(loss factor ≈ 2ζ at resonance)", values={"mu": mu.result}, unit="", source=DEN_HARTOG_1956, sig=3)
-    amp = evaluate(DH_AMPLITUDE, id=f"{id_prefix}.dh-amplitude", description="Den Hartog fixed-point amplitude of "
-                   "the host with the optimum absorber (over its static deflection)", values={"mu": mu.result},
-                   unit="", source=DEN_HARTOG_1956, sig=3)
-    eta_a = Q_(float(material.loss_factor), "")
-    eta_h = Q_(float(column.material.loss_factor), "")
-    bound = evaluate(IL_BOUND, id=f"{id_prefix}.il-bound", description="Upper bound of the insertion loss of one "
-                     "absorber of this mass ratio and loss factor (best case: host resonant at the peak)",
-                     values={"mu": mu.result, "eta_a": eta_a, "eta_h": eta_h}, unit="", source=BOUND_SOURCE, sig=3,
-                     note="value in dB")
-    mass_host = evaluate(IL_MASS_HOST, id=f"{id_prefix}.il-mass-host", description="Insertion loss of the absorber "
-                         "tuned to the peak, on a column moving as a mass there (its own resonances away)",
-                         values={"mu": mu.result, "eta_a": eta_a}, unit="", source=BOUND_SOURCE, sig=3,
-                         note="value in dB")
-    steps += [res_step, host_step, mu, tuning, up, width, q, z, amp, bound, mass_host]
-    value = {"mass_ratio": float(mu.result.m), "tuning": tuning.result, "band": (tuning.result, up.result),
-             "bound": float(bound.result.m), "mass_host_il": float(mass_host.result.m)}
-    if required is not None:
-        il_req = float(np.max(np.atleast_1d(Q_(required).to("dB").m if isinstance(required, pint.Quantity)
-                                            else required)))
-        need_min = evaluate(MASS_RATIO_FOR_BOUND, id=f"{id_prefix}.mass-ratio-min", description="Least mass ratio "
-                            "with which even the best case reaches the required loss",
-                            values={"IL": Q_(il_req, ""), "eta_a": eta_a, "eta_h": eta_h}, unit="",
-                            source=BOUND_SOURCE, sig=3)
-        need = evaluate(MASS_RATIO_FOR_MASS_HOST, id=f"{id_prefix}.mass-ratio-needed", description="Mass ratio "
-                        "needed for the required loss at the present lattice loss factor (absorber tuned to the "
-                        "peak, column moving as a mass there)", values={"IL": Q_(il_req, ""), "eta_a": eta_a},
-                        unit="", source=BOUND_SOURCE, sig=3)
-        steps += [need_min, need]
-        value["mass_ratio_needed"] = float(need.result.m)
-        value["mass_ratio_min"] = float(need_min.result.m)
-        value["resonating_mass_needed"] = (need.result * host).to("kg")
-    return ReceiverEstimates(value=value, steps=tuple(steps), mass_ratio=float(mu.result.m), resonating_mass=total,
-                             host_mass=host, title="What the panels can do to the column: hand estimates")
+                             f"({direction} ground motion, {len(faces)} panel(s))", value=sr.resonating_mass,
+                             unit="kg", method="sum of the lattice strut families above", source=RAYLEIGH_STRUT)
+    return _column_estimates(resonating=res_step, tuning=sr.tuning, steps=sr.steps, height=_panel_height(cell, ny),
+                             column=column, eta_a=float(material.loss_factor), required=required, id_prefix=id_prefix)
+
+
+def zoned_resonating_mass(count: int) -> Formula:
+    """m_res = (m_res,1 n_1 + … + m_res,z n_z) / n: the resonating mass of a panel of ``count`` zones.
+
+    m_res,k is zone k's resonating mass over the panels' full height (its cell in every row), n_k its rows,
+    n the panel's rows (:data:`ZONED_SUM`).
+    """
+    if isinstance(count, bool) or not isinstance(count, (int, np.integer)) or count < 1:
+        raise InputError("a graded panel needs at least one zone", input_name="zoning", expected="1, 2, 3, ...",
+                         got=repr(count))
+    return _zoned_resonating_mass(int(count))
+
+
+@functools.cache
+def _zoned_resonating_mass(count: int) -> Formula:
+    ms = sym.symbols(" ".join(f"m_res_{k + 1}" for k in range(count)), seq=True)
+    ns = sym.symbols(" ".join(f"n_{k + 1}" for k in range(count)), seq=True)
+    n = sym.Symbol("n")
+    names = {"m_res": r"m_\mathrm{res}", "n": "n"}
+    names.update({f"m_res_{k + 1}": rf"m_{{\mathrm{{res}},{k + 1}}}" for k in range(count)})
+    names.update({f"n_{k + 1}": rf"n_{{{k + 1}}}" for k in range(count)})
+    return Formula("m_res", sym.Add(*(m * nk for m, nk in zip(ms, ns))) / n, latex_names=names)
+
+
+#: Why the graded panel's resonating mass is the row-weighted sum of its zones'.
+ZONED_SUM = Source(author="derived", title="Rayleigh's resonating mass is a sum over the struts, and the struts of "
+                   "one cell row are the same in every row: a zone of n_k of the panel's n rows brings n_k/n of "
+                   "its cell's value over the full height",
+                   locator="an upper bound at a peak: every zone counted as if tuned to it (a zone tuned elsewhere "
+                           "brings less there)", tag="derived")
+
+
+def zoned_receiver_estimates(cell: Any, *, zoning: Any, material: Any, nx: int, ny: int, column: Column,
+                             faces: Sequence[str], direction: str, required: Any = None, node_zones: str = "none",
+                             id_prefix: str = "receiver") -> ReceiverEstimates:
+    """The hand estimates of :func:`receiver_estimates` for a graded panel: each zone's struts over its rows.
+
+    Each zone's resonating mass and strut tuning are those of its own cell
+    (:meth:`~latticecalc.physics.zoning.Zoning.zone_cell`, with its added mass, and its material) over the
+    panels' full height (:func:`strut_resonance`); the panel's resonating mass is their sum weighted by the
+    zones' rows (:func:`zoned_resonating_mass`, :data:`ZONED_SUM`): an upper bound of what the panel brings at a
+    peak, every zone counted as if tuned to it. From it on the steps are those of :func:`receiver_estimates`,
+    with the lowest zone tuning as the band's tuning (the lower edge of the graded panel's resonances) and as
+    the absorber's loss factor the least of the zones' lattice materials' (the most favourable: the estimates
+    stay upper bounds). Identical zones give :func:`receiver_estimates` of the uniform panel.
+
+    ``value`` and the attributes are those of :func:`receiver_estimates`; ``zone_tunings`` [Hz] and
+    ``zone_resonating_masses`` [kg] (over the full height) are each zone's, bottom first.
+
+    Parameters
+    ----------
+    cell:
+        The panel's cell (zone k's strut diameter and added mass replace its lattice's).
+    zoning:
+        The :class:`~latticecalc.physics.zoning.Zoning`; its heights add up to ``ny``.
+    material:
+        The panel's lattice material (a zone without its own).
+    nx, ny, column, faces, direction, required, node_zones, id_prefix:
+        As for :func:`receiver_estimates`; zone k's steps are under ``<id_prefix>.zone<k>``.
+    """
+    zoning = zn.check_zoning(zoning, cells_high=ny, input_name="ny")
+    if zoning is None:
+        raise InputError("a graded panel needs its zoning", input_name="zoning", expected="a Zoning", got="None")
+    _check_direction(direction)
+    steps: list[Any] = []
+    zone_masses, zone_tunings, values = [], [], {"n": Q_(int(ny), "")}
+    losses = []
+    for k, z in enumerate(zoning.zones):
+        zp = f"{id_prefix}.zone{k + 1}"
+        mat = zoning.zone_materials({zn.ZONED_GROUP: material}, k)[zn.ZONED_GROUP]
+        losses.append(float(mat.loss_factor))
+        sr = strut_resonance(zoning.zone_cell(cell, k), material=mat, nx=nx, ny=ny, faces=faces,
+                             direction=direction, node_zones=node_zones, id_prefix=zp, label=f"Zone {k + 1}: ")
+        res = quantity_step(id=f"{zp}.resonating-mass", description=f"Zone {k + 1} ({z.cells_high} of {ny} rows): "
+                            "resonating mass of its lattice struts were they in every row of the panels",
+                            value=sr.resonating_mass, unit="kg", method="sum of the zone's strut families above",
+                            source=RAYLEIGH_STRUT)
+        steps += [*sr.steps, res, sr.tuning]
+        zone_masses.append(res.result)
+        zone_tunings.append(sr.tuning.result)
+        values[f"m_res_{k + 1}"] = res.result
+        values[f"n_{k + 1}"] = Q_(int(z.cells_high), "")
+    res_step = evaluate(zoned_resonating_mass(len(zoning.zones)), id=f"{id_prefix}.resonating-mass",
+                        description=f"Resonating mass moving with the column ({direction} ground motion, "
+                        f"{len(faces)} panel(s)): each zone's over its share of the rows", values=values, unit="kg",
+                        source=ZONED_SUM, note="an upper bound at a peak: every zone counted as if tuned to it")
+    low = int(np.argmin([f.to("Hz").m for f in zone_tunings]))
+    tuning = quantity_step(id=f"{id_prefix}.f-tuning", description="Tuning frequency of the band: the lowest of the "
+                           f"zones' strut tunings (zone {low + 1})", value=zone_tunings[low], unit="Hz",
+                           method="least of the zone tunings above", source=RAYLEIGH_STRUT,
+                           note="the graded panel's resonances start at its lowest zone's; the band above it uses "
+                                "the summed mass ratio")
+    loss_note = ""
+    if len(set(losses)) > 1:
+        loss_note = "η_a the least of the zones' lattice loss factors (the most favourable)"
+    return _column_estimates(resonating=res_step, tuning=tuning, steps=steps, height=_panel_height(cell, ny),
+                             column=column, eta_a=min(losses), required=required, id_prefix=id_prefix,
+                             loss_note=loss_note, title="What the graded panels can do to the column: hand "
+                             "estimates, zone by zone", zone_tunings=tuple(zone_tunings),
+                             zone_resonating_masses=tuple(zone_masses))
 
 
 def bound_checks(*, predicted: Any, bound_db: float, peaks: Any, id_prefix: str = "receiver") -> CalcResult:

@@ -120,6 +120,49 @@ def test_graded_self_weight_outputs_are_the_stacked_zones():
     assert hand["shortening_margin"] != pytest.approx(old, rel=1e-3)
 
 
+def test_graded_floor_outputs_are_the_sheets_zoned_estimates():
+    # the hand stage's floor outputs for a graded design are the column-panel sheet's section 80 call
+    # (receiver.zoned_receiver_estimates: each zone's resonating mass over its rows, derived, and Den Hartog
+    # 1956 §3.3 from the sum), and the nearest-design sheet shows the same call (common practice: the study
+    # reruns the sheet's own calls, so the two cannot drift)
+    import types
+    import warnings
+
+    from latticecalc import Q_
+    from latticecalc.study import shortfall
+
+    ctx = bcc_context(39.0)
+    graded = dict(UNIFORM, **{"zones.count": 2, "zones.diameter_spread": 0.3, "zones.mass_spread": 0.0})
+    hand = ev.hand_stage(graded, ctx)
+    d = ev.full_design(graded, ctx)
+    mats = ev._materials(d, ctx)
+    column = ev._column(ctx)
+    nx, ny = ev.panel_counts(d, ctx, column)
+    req = ctx.requirement
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        cell, zoning = ev._zoned(d, ctx, ev._cell(d, ctx, mats), ny)
+        est = receiver.zoned_receiver_estimates(cell, zoning=zoning, material=mats["lattice"], nx=nx, ny=ny,
+                                                column=column, faces=ctx.faces, direction=req.direction,
+                                                required=Q_(list(req.required), "dB"), node_zones=ctx.node_zones)
+    assert hand["mass_ratio"] == pytest.approx(est.mass_ratio, rel=RTOL_SAME)
+    assert hand["il_hand"] == pytest.approx(est.value["mass_host_il"], rel=RTOL_SAME)
+    assert hand["il_bound"] == pytest.approx(est.value["bound"], rel=RTOL_SAME)
+    assert hand["dh_amplitude"] == pytest.approx(est.step("receiver.dh-amplitude").result.m, rel=RTOL_SAME)
+    assert hand["il_margin"] == pytest.approx(est.value["mass_host_il"] - max(req.required), rel=RTOL_SAME)
+    # the study's tuning: the zone tuning nearest the first peak
+    tunings = [f.to("Hz").m for f in est.zone_tunings]
+    assert hand["tuning"] == min(tunings, key=lambda f: abs(f / req.peaks[0] - 1.0))
+    # the zones differ, so zone 1's cell over the full height would have given another μ
+    zone1 = receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column,
+                                        faces=ctx.faces, direction=req.direction, node_zones=ctx.node_zones)
+    assert hand["mass_ratio"] != pytest.approx(zone1.mass_ratio, rel=1e-3)
+    shown = shortfall.floor_estimates(types.SimpleNamespace(design=graded), ctx, id_prefix="t")
+    assert shown.mass_ratio == pytest.approx(hand["mass_ratio"], rel=RTOL_SAME)
+    assert shown.value["mass_ratio_needed"] == pytest.approx(est.value["mass_ratio_needed"], rel=RTOL_SAME)
+    assert "t.zone2.resonating-mass" in {s.id for s in shown.steps}
+
+
 def test_search_finds_two_zones_each_tuned_to_its_peak(tmp_path):
     # two peaks 1.75 apart: a uniform band (upper over lower edge about 1.32 for this cell) cannot cover both
     # with their ± 2 % spread; two zones can. With no scatter (tolerances and the temperature range set to

@@ -87,9 +87,9 @@ def _cell(d: Mapping[str, Any], context: StudyContext, mats: Mapping[str, Any]):
 def _zoned(d: Mapping[str, Any], context: StudyContext, cell: Any, ny: int) -> tuple[Any, Any]:
     """(the cell the sheets use, the zoning): a graded design's zone 1 cell and zones, or (cell, None).
 
-    The column-panel project takes zone 1's cell as its cell (``column_panel.design_from_inputs``); the
-    hand checks that have no per-zone form (the receiver estimates) use it, as its sheets do, and the zoned
-    ones (the bands, the mass, self-weight) take each zone's cell from it.
+    The column-panel project takes zone 1's cell as its cell (``column_panel.design_from_inputs``); the zoned
+    hand checks (the bands, the mass, self-weight, the receiver estimates) take each zone's cell from it, as its
+    sheets do.
     """
     from latticecalc.study.zones import zoning
 
@@ -187,9 +187,9 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     best zone's margin (``coverage_zone``, ``coverage_peak``: where it is found, 1-based), and ``band_*``/``held_*``
     are that zone's; ``f_strut`` is zone 1's strut mode, ``strut_detuning`` the nearest zone's. The mass is each
     zone's over its rows; ``mass_ratio`` and the floor estimates from it sum each zone's resonating mass over its
-    rows (:func:`_zoned_floor_estimates`); self-weight stacks the zones bottom first, each with its own cell
-    (``selfweight.graded_panel_self_weight``), as the column-panel sheet does (section 30): ``buckling_margin``
-    then takes the smallest strut safety factor over the zones.
+    rows, as the column-panel sheet does (section 80, :func:`_zoned_floor_estimates`); self-weight stacks the
+    zones bottom first, each with its own cell (``selfweight.graded_panel_self_weight``), as the column-panel
+    sheet does (section 30): ``buckling_margin`` then takes the smallest strut safety factor over the zones.
     """
     from latticecalc import Q_
     from latticecalc.physics import receiver
@@ -254,9 +254,6 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
         modes = [out[f"zone{k}_band_low"] for k in range(1, len(zoning.zones) + 1)]
         out["strut_detuning"] = min(abs(f / req.peaks[0] - 1.0) for f in modes)
         out["peak_detuning"] = max(min(abs(f / p - 1.0) for f in modes) for p in req.peaks)
-    est = receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column, faces=context.faces,
-                                      direction=req.direction, required=Q_(list(req.required), "dB"),
-                                      node_zones=context.node_zones)
     if zoning is None:
         rd = relative_density(cell, "closed-form")
         mass = panel_mass(cell, materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz, method="closed-form",
@@ -287,25 +284,34 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
         factors.append(float(sw.frame_safety_factor.m))
     out["buckling_margin"] = min(factors) / sw_in["safety_factor"] - 1.0
     out["shortening_margin"] = 1.0 - float(sw.shortening[case].to("mm").m) / sw_in["deflection_limit_mm"]
-    out.update(mass_ratio=float(est.mass_ratio), tuning=float(est.value["tuning"].to("Hz").m),
-               il_hand=float(est.value["mass_host_il"]), il_bound=float(est.value["bound"]),
-               dh_amplitude=float(est.step("receiver.dh-amplitude").result.m))
-    if zoning is not None:
+    if zoning is None:
+        est = receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column,
+                                          faces=context.faces, direction=req.direction,
+                                          required=Q_(list(req.required), "dB"), node_zones=context.node_zones)
+        out.update(_floor_outputs(est))
+    else:
         out.update(_zoned_floor_estimates(zoning, cell, mats, nx=nx, ny=ny, column=column, context=context))
     out["il_margin"] = out["il_hand"] - max(req.required)
     _limits_margins(out, context)
     return out
 
 
+def _floor_outputs(est: Any) -> dict[str, float]:
+    """The hand stage's floor outputs from the receiver sheet's hand estimates (uniform or zoned)."""
+    return {"mass_ratio": float(est.mass_ratio), "tuning": float(est.value["tuning"].to("Hz").m),
+            "il_hand": float(est.value["mass_host_il"]), "il_bound": float(est.value["bound"]),
+            "dh_amplitude": float(est.step("receiver.dh-amplitude").result.m)}
+
+
 def _zoned_floor_estimates(zoning: Any, cell: Any, mats: Mapping[str, Any], *, nx: int, ny: int, column: Any,
                            context: StudyContext) -> dict[str, float]:
-    """μ of a graded panel: each zone's resonating mass over its rows, every zone counted as if tuned to the peak.
+    """The floor outputs of a graded panel: the receiver sheet's zoned hand estimates.
 
-    The resonating mass is a sum over the struts (Rayleigh, ``receiver.receiver_estimates``), so zone k brings
-    μ_k n_k / n (μ_k of its cell over the panels' height, n_k of the n rows) and the panel the sum: an upper
-    bound of what the graded panel brings at a peak, since a zone tuned elsewhere brings less there. The
-    insertion loss on a mass-like host, the single-absorber bound and Den Hartog's amplitude follow from it with
-    the receiver sheet's formulas; ``tuning`` is the strut tuning of the zone nearest the first peak.
+    ``receiver.zoned_receiver_estimates`` (the column-panel sheet's section 80 makes the same call): each zone's
+    resonating mass over its share of the rows, summed, every zone counted as if tuned to the peak (an upper
+    bound of what the graded panel brings there); the insertion loss on a mass-like host, the single-absorber
+    bound and Den Hartog's amplitude follow from that sum. ``tuning`` is the strut tuning of the zone nearest the
+    first peak (the sheet's band takes the lowest zone's: it has no peaks).
     """
     from latticecalc import Q_
     from latticecalc.physics import receiver
@@ -313,18 +319,11 @@ def _zoned_floor_estimates(zoning: Any, cell: Any, mats: Mapping[str, Any], *, n
     req = context.requirement
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        ests = [receiver.receiver_estimates(zoning.zone_cell(cell, k), material=mats["lattice"], nx=nx, ny=ny,
-                                            column=column, faces=context.faces, direction=req.direction,
-                                            node_zones=context.node_zones) for k in range(len(zoning.zones))]
-    mu = float(sum(e.mass_ratio * z.cells_high for e, z in zip(ests, zoning.zones)) / ny)
-    tunings = [float(e.value["tuning"].to("Hz").m) for e in ests]
-    eta_a = Q_(float(mats["lattice"].loss_factor), "")
-    eta_h = Q_(float(column.material.loss_factor), "")
-    return {"mass_ratio": mu, "tuning": min(tunings, key=lambda f: abs(f / req.peaks[0] - 1.0)),
-            "il_hand": float(Q_(receiver.IL_MASS_HOST.evaluate({"mu": Q_(mu, ""), "eta_a": eta_a})).m),
-            "il_bound": float(Q_(receiver.IL_BOUND.evaluate({"mu": Q_(mu, ""), "eta_a": eta_a,
-                                                              "eta_h": eta_h})).m),
-            "dh_amplitude": float(Q_(receiver.DH_AMPLITUDE.evaluate({"mu": Q_(mu, "")})).m)}
+        est = receiver.zoned_receiver_estimates(cell, zoning=zoning, material=mats["lattice"], nx=nx, ny=ny,
+                                                column=column, faces=context.faces, direction=req.direction,
+                                                required=Q_(list(req.required), "dB"), node_zones=context.node_zones)
+    tunings = [float(f.to("Hz").m) for f in est.zone_tunings]
+    return {**_floor_outputs(est), "tuning": min(tunings, key=lambda f: abs(f / req.peaks[0] - 1.0))}
 
 
 def bloch_stage(design: Mapping[str, Any], context: StudyContext, *,

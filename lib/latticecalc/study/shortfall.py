@@ -304,8 +304,10 @@ def conclusion(result: StudyResult, settings: StudySettings, context: StudyConte
 def floor_estimates(record: DesignRecord, context: StudyContext, *, id_prefix: str):
     """The hand estimates of what a design's panels do to the column (μ, Den Hartog, the bound, the μ needed).
 
-    The same call the hand stage makes (:func:`latticecalc.physics.receiver.receiver_estimates`), with the
-    requirement, so the sheet shows the mass ratio the required loss needs with its formula and source.
+    The same call the hand stage makes (:func:`latticecalc.physics.receiver.receiver_estimates`; a graded
+    design's zone by zone, :func:`latticecalc.physics.receiver.zoned_receiver_estimates`, as the column-panel
+    sheet's section 80 shows them), with the requirement, so the sheet shows the mass ratio the required loss
+    needs with its formula and source.
     """
     import warnings
 
@@ -317,12 +319,12 @@ def floor_estimates(record: DesignRecord, context: StudyContext, *, id_prefix: s
     mats = evaluate._materials(d, context)
     column = evaluate._column(context)
     nx, ny = evaluate.panel_counts(d, context, column)
+    req = context.requirement
+    kw = dict(material=mats["lattice"], nx=nx, ny=ny, column=column, faces=context.faces, direction=req.direction,
+              required=Q_(list(req.required), "dB"), node_zones=context.node_zones, id_prefix=id_prefix)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")       # slenderness warnings: the study's checks carry the verdict
-        # a graded design: zone 1's cell over the full height, as the hand stage and the sheet's section 80
-        cell, _ = evaluate._zoned(d, context, evaluate._cell(d, context, mats), ny)
-    req = context.requirement
-    return receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column,
-                                       faces=context.faces, direction=req.direction,
-                                       required=Q_(list(req.required), "dB"), node_zones=context.node_zones,
-                                       id_prefix=id_prefix)
+        cell, zoning = evaluate._zoned(d, context, evaluate._cell(d, context, mats), ny)
+        if zoning is None:
+            return receiver.receiver_estimates(cell, **kw)
+        return receiver.zoned_receiver_estimates(cell, zoning=zoning, **kw)

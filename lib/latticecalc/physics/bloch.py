@@ -305,6 +305,21 @@ def shift_invert(K, M, shift: float) -> spla.LinearOperator:
     return spla.LinearOperator(A.shape, matvec=lu.solve, dtype=A.dtype)
 
 
+def _start_vector(n: int, dtype: Any) -> np.ndarray:
+    """ARPACK's starting vector: the same pseudo-random vector on every run (ARPACK's own is random each call).
+
+    A fixed start makes a solve repeat itself exactly: within a repeated eigenvalue ARPACK returns some vector
+    of the eigenspace, and with a random start a different one each run, so a mode-shape figure differed
+    from run to run and was drawn afresh every time. Random-like rather than constant, so it is not
+    orthogonal to a symmetric family of modes.
+    """
+    rng = np.random.default_rng(20_261_202)
+    v = rng.standard_normal(n)
+    if np.iscomplexobj(np.empty(0, dtype=dtype)):
+        v = v + 1j * rng.standard_normal(n)
+    return v.astype(dtype)
+
+
 def _sparse_hermitian_lowest(K, M, nb: int, *, shift: float):
     """Lowest ``nb`` eigenpairs of a sparse complex Hermitian pencil, shift-invert about ``shift``.
 
@@ -321,7 +336,7 @@ def _sparse_hermitian_lowest(K, M, nb: int, *, shift: float):
         # times faster than on the real double, where every eigenvalue is repeated
         try:
             w, x = spla.eigsh(K, k=min(nb + extra, n - 2), M=M, sigma=shift, which="LM",
-                              OPinv=shift_invert(K, M, shift))
+                              OPinv=shift_invert(K, M, shift), v0=_start_vector(n, K.dtype))
             order = np.argsort(w.real)
             w, x = w.real[order], x[:, order]
             x /= np.sqrt(np.real(np.einsum("ij,ij->j", x.conj(), M @ x)))[None, :]
@@ -331,7 +346,8 @@ def _sparse_hermitian_lowest(K, M, nb: int, *, shift: float):
     Kr = sp.bmat([[K.real, -K.imag], [K.imag, K.real]]).tocsc()
     Mr = sp.bmat([[M.real, -M.imag], [M.imag, M.real]]).tocsc()
     k2 = min(2 * (nb + extra), 2 * n - 2)
-    w, v = spla.eigsh(Kr, k=k2, M=Mr, sigma=shift, which="LM", OPinv=shift_invert(Kr, Mr, shift))
+    w, v = spla.eigsh(Kr, k=k2, M=Mr, sigma=shift, which="LM", OPinv=shift_invert(Kr, Mr, shift),
+                      v0=_start_vector(2 * n, Kr.dtype))
     order = np.argsort(w)
     w, v = w[order][::2], v[:, order][:, ::2]
     x = v[:n] + 1j * v[n:]

@@ -142,17 +142,24 @@ def mode_shapes_plot(shapes: Sequence, *, titles: Sequence[str] | None = None, s
     """
     from matplotlib import colormaps
     from matplotlib.figure import Figure
+    from mpl_toolkits.mplot3d.art3d import Line3DCollection
 
     fig = Figure(figsize=(3.4 * len(shapes), 3.6))
     cmap = colormaps["plasma"]
     for i, sh in enumerate(shapes):
         ax = fig.add_subplot(1, len(shapes), i + 1, projection="3d")
-        size = float(np.ptp(sh.lines.reshape(-1, 3), axis=0).max())
-        for seg, d in zip(sh.lines, sh.displacement):
-            ax.plot(*seg.T, color="0.85", lw=0.6)
-            moved = seg + scale * size * d
-            mag = float(np.linalg.norm(d, axis=1).mean())
-            ax.plot(*moved.T, color=cmap(min(mag, 1.0)), lw=1.4)
+        lines = np.asarray(sh.lines, dtype=float)
+        size = float(np.ptp(lines.reshape(-1, 3), axis=0).max())
+        moved = lines + scale * size * np.asarray(sh.displacement, dtype=float)
+        mags = np.minimum(np.linalg.norm(sh.displacement, axis=2).mean(axis=1), 1.0)
+        # one collection per layer (a line per element cost half a second per figure to build)
+        ax.add_collection3d(Line3DCollection(lines, colors="0.85", linewidths=0.6))
+        ax.add_collection3d(Line3DCollection(moved, colors=cmap(mags), linewidths=1.4))
+        both = np.concatenate([lines.reshape(-1, 3), moved.reshape(-1, 3)])
+        lo, hi = both.min(axis=0), both.max(axis=0)
+        ax.set_xlim(lo[0], hi[0])
+        ax.set_ylim(lo[1], hi[1])
+        ax.set_zlim(lo[2], hi[2])
         ax.set_axis_off()
         cap = titles[i] if titles else ""
         ax.set_title(f"{cap}\n{_hz(sh.frequency):.1f} Hz, lattice share {sh.strut_energy:.0%}", fontsize=8)

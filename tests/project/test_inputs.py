@@ -134,3 +134,21 @@ def test_invalid_change_writes_nothing(project):
 def test_key_lines_tracks_tables():
     text = "# c\n[a]\nx = 1\n[b.c]\ny = 2\n"
     assert key_lines(text) == {"a": 2, "a.x": 3, "b.c": 4, "b.c.y": 5}
+
+
+def test_reading_the_same_inputs_again_gives_the_file_as_it_is_now(project):
+    # common practice (a cache must not change a result): every section opens the project again and is given the
+    # inputs as validated once; a changed file is read afresh, and a value changed in place by one caller is not
+    # what the next caller is given
+    path = project / "inputs.toml"
+    first = load_inputs(path, _spec())
+    first["coverage.target_peaks"].append(Q_(99, "Hz"))     # a notebook changing a value in place
+    again = load_inputs(path, _spec())
+    assert [float(q.to("Hz").m) for q in again["coverage.target_peaks"]] == [47.0, 56.0]
+    assert_quantity_close(again["cell.width"], 120, unit="mm", rtol=1e-12)
+    _replace(path, 'width = "120 mm"', 'width = "90 mm"')
+    changed = load_inputs(path, _spec())
+    assert_quantity_close(changed["cell.width"], 90, unit="mm", rtol=1e-12)
+    _replace(path, 'width = "90 mm"', 'width = "90 kg"')
+    with pytest.raises(DimensionError):
+        load_inputs(path, _spec())

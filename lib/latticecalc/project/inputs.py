@@ -7,6 +7,8 @@ and order survive a round trip (tomlkit). Every error names the input, the file 
 
 from __future__ import annotations
 
+import copy
+import dataclasses
 import difflib
 import math
 import os
@@ -284,8 +286,33 @@ def load_inputs(path: Path, template: TemplateSpec) -> Inputs:
         input, the file and the line.
     """
     path = Path(path)
-    text, doc = _read(path)
-    return _validate(text, doc, template, file=path.name)
+    if not os.path.lexists(path):
+        _read(path)     # raises, naming the missing file
+    text = read_text(path, kind="toml", what="the inputs file", file=path.name)
+    key = (str(path.resolve()), text, _template_key(template))
+    kept = _VALIDATED.get(key)
+    if kept is None:
+        kept = _validate(text, _parse(text, file=path.name), template, file=path.name)
+        if len(_VALIDATED) >= _VALIDATED_SIZE:
+            _VALIDATED.pop(next(iter(_VALIDATED)))
+        _VALIDATED[key] = kept
+    return _fresh_copy(kept)
+
+
+#: Inputs already validated in this process, by file, text and template: every section of a run opens the
+#: project again (a tenth of a second each, mostly TOML and unit parsing) and meets the same text.
+_VALIDATED: dict[tuple, Inputs] = {}
+_VALIDATED_SIZE = 8
+
+
+def _template_key(template: TemplateSpec) -> str:
+    return repr(template)
+
+
+def _fresh_copy(inputs: Inputs) -> Inputs:
+    """A copy whose values a caller may change in place without changing what the next caller is given."""
+    return Inputs({name: dataclasses.replace(e, value=copy.deepcopy(e.value)) for name, e in inputs._entries.items()},
+                  inputs.file)
 
 
 def _validate(text: str, doc: tomlkit.TOMLDocument, template: TemplateSpec, *, file: str) -> Inputs:

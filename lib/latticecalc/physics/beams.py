@@ -27,7 +27,6 @@ from functools import cache
 
 import numpy as np
 import sympy as sp
-from scipy.integrate import quad
 from scipy.optimize import brentq
 
 from latticecalc.errors import InputError, ModelError
@@ -845,6 +844,8 @@ def mode_shape(xi, *, supports: str, mode: int = 1):
 
 @cache
 def _modal_mass_fraction(supports: str, mode: int) -> float:
+    from scipy.integrate import quad  # here: scipy.integrate costs a kernel ~0.3 s to import
+
     def phi(x):
         return float(mode_shape(x, supports=supports, mode=mode))
     first, _ = quad(phi, 0.0, 1.0, epsabs=1e-12, epsrel=1e-11, limit=400)

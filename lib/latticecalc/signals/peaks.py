@@ -10,7 +10,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import signal as ssig
 
 from latticecalc.errors import InputError
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, quantity_step
@@ -52,6 +51,8 @@ def find_peaks(*, frequency, velocity_rms, prominence=DEFAULT_PROMINENCE_DB, low
     id_prefix:
         Step id prefix.
     """
+    from scipy import signal as ssig  # here: scipy.signal costs a kernel ~0.7 s to import
+
     f = check_dimension(frequency, name="frequency", expected="frequency").to("Hz").m
     v = check_dimension(velocity_rms, name="velocity_rms", expected="velocity").to("m/s").m
     f = np.asarray(f, dtype=float)

@@ -28,7 +28,6 @@ import numpy as np
 import pint
 import sympy as sp
 from scipy import fft as sfft
-from scipy import signal as ssig
 
 from latticecalc.errors import InputError, RecordError
 from latticecalc.sheet import COMMON_PRACTICE, CalcResult, Formula, Source, Step, evaluate, quantity_step
@@ -208,6 +207,8 @@ def _welch(x: np.ndarray, fs: float, nfft: int, *, overlap: float = 0.5, detrend
     Returns (frequency, psd, averages, nperseg).  A record shorter than ``nfft`` is one Hann-
     windowed periodogram zero-padded to ``nfft`` (same resolution, coarser true bandwidth).
     """
+    from scipy import signal as ssig  # here: scipy.signal costs a kernel ~0.7 s to import
+
     n = x.shape[0]
     nperseg = min(nfft, n)
     step = max(1, int(round(nperseg * (1 - overlap))))
@@ -252,6 +253,8 @@ def detrend(signal, *, sample_rate, kind: str = "linear") -> SignalResult:
     kind:
         ``"linear"`` or ``"constant"``.
     """
+    from scipy import signal as ssig  # here: scipy.signal costs a kernel ~0.7 s to import
+
     q, _ = _signal(signal)
     fs = _rate(sample_rate)
     if kind not in ("linear", "constant"):
@@ -639,6 +642,8 @@ def running_rms(signal, *, sample_rate, time_constant=SLOW, output_rate=RMS_OUTP
     RunningRms
         ``time`` (s) and ``rms`` (signal's unit), ``maximum`` over the record.
     """
+    from scipy import signal as ssig  # here: scipy.signal costs a kernel ~0.7 s to import
+
     q, kind = _signal(signal)
     fs = _rate(sample_rate)
     tau = check_positive(check_dimension(time_constant, name="time_constant", expected="time"),

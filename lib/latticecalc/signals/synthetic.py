@@ -19,7 +19,6 @@ from pathlib import Path
 import numpy as np
 import pint
 from scipy import fft as sfft
-from scipy import signal as ssig
 
 from latticecalc.errors import InputError
 from latticecalc.sheet import CalcResult, Source, quantity_step
@@ -65,6 +64,8 @@ def passby_times(*, duration: float, count: int, rng: np.random.Generator, lengt
 def site_channel(*, n: int, fs: float, rng: np.random.Generator, starts: np.ndarray, lengths: np.ndarray,
                  speeds: np.ndarray, scale: float) -> np.ndarray:
     """One acceleration channel (m/s²) of the invented site, float64 array of ``n`` samples."""
+    from scipy import signal as ssig  # here: scipy.signal costs a kernel ~0.7 s to import
+
     t_all = np.arange(n) / fs
     sos_bg = ssig.butter(4, [1.0, min(100.0, 0.45 * fs)], btype="bandpass", fs=fs, output="sos")
     x = ssig.sosfilt(sos_bg, rng.standard_normal(n))
@@ -215,6 +216,8 @@ def prototype_test(*, resonance=_TEST_RESONANCE, mass_ratio: float = 1.0, cells:
     seed:
         Random seed.
     """
+    from scipy import signal as ssig  # here: scipy.signal costs a kernel ~0.7 s to import
+
     f0 = float(check_positive(check_dimension(resonance, name="resonance", expected="frequency"),
                               name="resonance").to("Hz").m)
     fs = _rate(sample_rate)

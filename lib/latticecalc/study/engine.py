@@ -145,6 +145,27 @@ class SerialExecutor:
         """Nothing to release."""
 
 
+def _refused_at_once(address: str, *, timeout: float) -> None:
+    """Raise ConnectionRefusedError when nothing listens at a ``tcp://host:port`` address.
+
+    Dask's client retries a refused connection until its whole timeout has passed (ten seconds by default);
+    a host that answers "nothing here" is told at once. Other addresses (and a host that does not answer)
+    are left to the client.
+    """
+    import socket
+    from urllib.parse import urlsplit
+
+    parts = urlsplit(address)
+    if parts.scheme != "tcp" or not parts.hostname or parts.port is None:
+        return
+    try:
+        socket.create_connection((parts.hostname, parts.port), timeout=min(timeout, 2.0)).close()
+    except ConnectionRefusedError:
+        raise
+    except OSError:
+        return     # no answer in time, or a name to resolve: the client's own timeout decides
+
+
 class DaskExecutor:
     """Evaluates on Dask: a local cluster on this machine's cores, or an existing scheduler by address."""
 
@@ -156,6 +177,7 @@ class DaskExecutor:
         self._cluster = None
         if address:
             try:
+                _refused_at_once(address, timeout=timeout)
                 self.client = Client(address, timeout=f"{timeout}s")
             except (OSError, TimeoutError, ValueError) as exc:
                 raise SchedulerError("cannot reach the Dask scheduler", input_name="--scheduler",

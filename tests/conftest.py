@@ -29,6 +29,12 @@ from pathlib import Path
 import pytest
 
 ROOT = Path(__file__).resolve().parents[1]
+
+# Under pytest-xdist every core already runs a worker and its kernels: BLAS and OpenMP pools of their own in each
+# process only fight over the same cores (common practice: one thread per process when processes fill the cores).
+if os.environ.get("PYTEST_XDIST_WORKER"):
+    for _var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
+        os.environ.setdefault(_var, "1")
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 

@@ -126,3 +126,32 @@ def test_design_written_back_reruns_to_the_study_numbers(tmp_path):
                       density=relative_density(design.cell, "closed-form"))
     assert mass.value.to("kg").m == pytest.approx(hand["panel_mass"], rel=RTOL)
     assert Q_(hand["cells_high"], "") == Q_(design.cells_high, "")
+
+
+def test_a_graded_requirement_project_is_named_as_not_searched_from(tmp_path, executed_projects):
+    # common practice (the sheet says what the study did not do): a study reads its requirement from a project
+    # whose panel is graded, but builds its designs from the uniform inputs and its own zone variables; the
+    # package says so, naming the project's zones
+    from latticecalc.project.runner import run_project
+
+    cp, ds = _projects(tmp_path)
+    spec = load_template_spec(cp / "template.toml")
+    rows = [{"cells_high": 2, "strut_diameter": "3 mm"}, {"cells_high": 2, "strut_diameter": "3.5 mm"}]
+    set_values(cp / "inputs.toml", spec, {"panel.zones": rows, "panel.cells_high": 4})
+    run_project(ds, progress=None)
+    shown = _outputs(ds / "out" / "executed" / "10_study.ipynb")
+    assert "cp is a graded panel (2 zones in panel.zones)" in shown
+    assert "the project's own zoned design is not among them" in shown
+    # and a uniform requirement project (the template's, as the session's executed design study reads it) says
+    # nothing of zones
+    uniform = executed_projects.get("design-study")
+    assert "is a graded panel" not in _outputs(uniform / "out" / "executed" / "10_study.ipynb")
+    assert "Requirement from" in _outputs(uniform / "out" / "executed" / "10_study.ipynb")
+
+
+def _outputs(path) -> str:
+    """The text of every output of an executed notebook (not its code)."""
+    import json
+
+    cells = json.loads(path.read_text(encoding="utf-8"))["cells"]
+    return json.dumps([c.get("outputs", []) for c in cells], ensure_ascii=False)

@@ -21,7 +21,7 @@ import numpy as np
 from cycler import cycler
 
 #: Raise with any change to :data:`RC` or to how a plot function draws: it is part of the figure cache key.
-STYLE_VERSION = "2026.12-1"
+STYLE_VERSION = "2026.12-2"
 
 #: Colours by role.  Ink for measured data, a deep slate blue for the design, a brick red for limits and
 #: requirements, a moss green for peaks to target, a sand tint for bands; greys for context.

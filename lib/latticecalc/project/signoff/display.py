@@ -18,7 +18,10 @@ Texts are compared as the page shows them: whitespace collapsed, character refer
 
 from __future__ import annotations
 
+import copy
+import dataclasses
 import difflib
+import functools
 import math
 from html.parser import HTMLParser
 from typing import Any
@@ -254,11 +257,28 @@ class _Tables(HTMLParser):
             self.cell.append(data)
 
 
-def _parse(html: str) -> _Tables:
+@dataclasses.dataclass
+class _PageTables:
+    """What :class:`_Tables` read from a page."""
+
+    checks: list[list[str]]
+    checks_layout: str
+    boxes: list[list[list[str]]]
+    signoffs: dict[str, list[str]]
+
+
+def _parse(html: str) -> _PageTables:
+    """The page's tables, parsed once per page text (a copy: callers may change what they are given)."""
+    return copy.deepcopy(_parsed(html))
+
+
+@functools.lru_cache(maxsize=8)
+def _parsed(html: str) -> _PageTables:
+    # kept by text: signing, sealing and verifying one package read the same page several times
     p = _Tables()
     p.feed(html)
     p.close()
-    return p
+    return _PageTables(checks=p.checks, checks_layout=p.checks_layout, boxes=p.boxes, signoffs=p.signoffs)
 
 
 def page_tables(html: str) -> tuple[list[list[str]], list[list[list[str]]]]:

@@ -32,6 +32,7 @@ matches what was signed.
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import json
 import re
@@ -106,6 +107,12 @@ class _Blocks(HTMLParser):
 
 def block_texts(html: str) -> dict[str, str]:
     """Element id -> its text, whitespace collapsed (the embedded data excluded)."""
+    return dict(_block_texts(html))
+
+
+@functools.lru_cache(maxsize=8)
+def _block_texts(html: str) -> dict[str, str]:
+    # kept by text: signing, sealing and verifying one package read the same page several times (a second each)
     p = _Blocks()
     p.feed(_SCRIPT.sub(r"\1\3", html))
     p.close()

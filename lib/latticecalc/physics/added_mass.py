@@ -20,13 +20,13 @@ from typing import Any
 import numpy as np
 import pint
 import sympy as sym
-from scipy.optimize import brentq
 
 from latticecalc.errors import InputError, LatticeCalcError
 from latticecalc.physics import frame_fe as fe
 from latticecalc.physics import receiver as rc
 from latticecalc.physics.bloch import progress_iter
 from latticecalc.physics.density import panel_mass
+from latticecalc.physics.lazy_scipy import brentq
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, format_quantity
 

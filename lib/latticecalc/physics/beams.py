@@ -27,9 +27,9 @@ from functools import cache
 
 import numpy as np
 import sympy as sp
-from scipy.optimize import brentq
 
 from latticecalc.errors import InputError, ModelError
+from latticecalc.physics.lazy_scipy import brentq
 from latticecalc.sheet import CalcResult, Formula, Source, Step, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_number
 

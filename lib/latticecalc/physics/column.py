@@ -29,7 +29,6 @@ from typing import Any
 import numpy as np
 import pint
 import sympy as sp
-from scipy.optimize import brentq
 
 from latticecalc.errors import InputError
 from latticecalc.materials import Material
@@ -45,6 +44,7 @@ from latticecalc.physics.beams import (
 )
 from latticecalc.physics.frame_fe import POLAR_MOMENT_CIRCLE
 from latticecalc.physics.frame_fe import Section as FeSection
+from latticecalc.physics.lazy_scipy import brentq
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 

@@ -65,8 +65,6 @@ from typing import Any
 import numpy as np
 import pint
 import sympy as sp
-from scipy.optimize import brentq
-from scipy.special import jv
 
 from latticecalc.errors import InputError, ModelError
 from latticecalc.physics.beams import (
@@ -91,6 +89,7 @@ from latticecalc.physics.density import (
     relative_density,
     strut_areas,
 )
+from latticecalc.physics.lazy_scipy import brentq, jv
 from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 

@@ -180,3 +180,18 @@ def test_zoned_formula_is_the_row_weighted_sum():
         {"m_res_1": Q_(3.0, "kg"), "n_1": 5, "n": 5}).to("kg").m), 3.0, rtol=1e-15)
     with pytest.raises(InputError):
         receiver.zoned_resonating_mass(0)
+
+
+def test_receiver_estimates_with_a_zoning_are_the_zoned_estimates():
+    # common practice (one entry point, as coupled_response takes its zoning): the sheet, the study and its
+    # nearest-design sheet call receiver_estimates with the design's zoning and must meet the zoned estimates
+    zoning = Zoning((Zone(1, Q_(12, "mm")), Zone(3, Q_(16, "mm"), Q_(40, "g"))))
+    via = receiver.receiver_estimates(CELL, zoning=zoning, **KW)
+    zon = receiver.zoned_receiver_estimates(CELL, zoning=zoning, **KW)
+    assert [s.id for s in via.steps] == [s.id for s in zon.steps]
+    assert via.value["mass_ratio"] == zon.value["mass_ratio"]
+    assert via.value["mass_ratio_needed"] == zon.value["mass_ratio_needed"]
+    # a zoning carries each zone's added mass: a panel-wide one beside it is refused
+    with pytest.raises(InputError) as info:
+        receiver.receiver_estimates(CELL, zoning=zoning, added_mass=Q_(5, "g"), **KW)
+    assert info.value.input_name == "added_mass"

@@ -1040,8 +1040,10 @@ def _panel_height(cell: Any, ny: int) -> pint.Quantity:
 
 def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Column, faces: Sequence[str],
                        direction: str, added_mass: Any = None, required: Any = None, node_zones: str = "none",
-                       id_prefix: str = "receiver") -> ReceiverEstimates:
+                       zoning: Any = None, id_prefix: str = "receiver") -> ReceiverEstimates:
     """Hand estimates of what the panels can do to the column: μ, the host band, Den Hartog, the bound.
+
+    A graded panel (``zoning`` given) gets :func:`zoned_receiver_estimates`, zone by zone.
 
     Parameters
     ----------
@@ -1067,9 +1069,19 @@ def receiver_estimates(cell: Any, *, material: Any, nx: int, ny: int, column: Co
     required:
         Required insertion loss [dB] (a Quantity or number; the largest is used) for the mass ratio
         that would be needed; None to skip.
+    zoning:
+        The :class:`~latticecalc.physics.zoning.Zoning` of a graded panel (each zone's added mass is its own:
+        ``added_mass`` must then be None), or None for a uniform panel.
     id_prefix:
         Prefix of the step ids.
     """
+    if zoning is not None:
+        if added_mass is not None:
+            raise InputError("a graded panel's added masses are its zones'", input_name="added_mass",
+                             expected="None with a zoning", got=format_quantity(Q_(added_mass)))
+        return zoned_receiver_estimates(cell, zoning=zoning, material=material, nx=nx, ny=ny, column=column,
+                                        faces=faces, direction=direction, required=required, node_zones=node_zones,
+                                        id_prefix=id_prefix)
     sr = strut_resonance(cell, material=material, nx=nx, ny=ny, faces=faces, direction=direction,
                          added_mass=added_mass, node_zones=node_zones, id_prefix=id_prefix)
     res_step = quantity_step(id=f"{id_prefix}.resonating-mass", description="Resonating mass moving with the column "

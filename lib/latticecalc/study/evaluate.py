@@ -187,9 +187,10 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
     best zone's margin (``coverage_zone``, ``coverage_peak``: where it is found, 1-based), and ``band_*``/``held_*``
     are that zone's; ``f_strut`` is zone 1's strut mode, ``strut_detuning`` the nearest zone's. The mass is each
     zone's over its rows; ``mass_ratio`` and the floor estimates from it sum each zone's resonating mass over its
-    rows, as the column-panel sheet does (section 80, :func:`_zoned_floor_estimates`); self-weight stacks the
-    zones bottom first, each with its own cell (``selfweight.graded_panel_self_weight``), as the column-panel
-    sheet does (section 30): ``buckling_margin`` then takes the smallest strut safety factor over the zones.
+    rows, as the column-panel sheet does (section 80, ``receiver.receiver_estimates`` with the zoning), and
+    ``tuning`` is then the strut tuning of the zone nearest the first peak; self-weight stacks the zones bottom
+    first, each with its own cell (``selfweight.graded_panel_self_weight``), as the column-panel sheet does
+    (section 30): ``buckling_margin`` then takes the smallest strut safety factor over the zones.
     """
     from latticecalc import Q_
     from latticecalc.physics import receiver
@@ -284,13 +285,18 @@ def hand_stage(design: Mapping[str, Any], context: StudyContext) -> dict[str, fl
         factors.append(float(sw.frame_safety_factor.m))
     out["buckling_margin"] = min(factors) / sw_in["safety_factor"] - 1.0
     out["shortening_margin"] = 1.0 - float(sw.shortening[case].to("mm").m) / sw_in["deflection_limit_mm"]
-    if zoning is None:
+    with warnings.catch_warnings():
+        if zoning is not None:
+            warnings.simplefilter("ignore")   # slenderness warnings of the zone cells
         est = receiver.receiver_estimates(cell, material=mats["lattice"], nx=nx, ny=ny, column=column,
                                           faces=context.faces, direction=req.direction,
-                                          required=Q_(list(req.required), "dB"), node_zones=context.node_zones)
-        out.update(_floor_outputs(est))
-    else:
-        out.update(_zoned_floor_estimates(zoning, cell, mats, nx=nx, ny=ny, column=column, context=context))
+                                          required=Q_(list(req.required), "dB"), node_zones=context.node_zones,
+                                          zoning=zoning)
+    out.update(_floor_outputs(est))
+    if zoning is not None:
+        # the strut tuning of the zone nearest the first peak (the sheet's band takes the lowest zone's: it has no
+        # peaks)
+        out["tuning"] = min((float(f.to("Hz").m) for f in est.zone_tunings), key=lambda f: abs(f / req.peaks[0] - 1.0))
     out["il_margin"] = out["il_hand"] - max(req.required)
     _limits_margins(out, context)
     return out
@@ -301,29 +307,6 @@ def _floor_outputs(est: Any) -> dict[str, float]:
     return {"mass_ratio": float(est.mass_ratio), "tuning": float(est.value["tuning"].to("Hz").m),
             "il_hand": float(est.value["mass_host_il"]), "il_bound": float(est.value["bound"]),
             "dh_amplitude": float(est.step("receiver.dh-amplitude").result.m)}
-
-
-def _zoned_floor_estimates(zoning: Any, cell: Any, mats: Mapping[str, Any], *, nx: int, ny: int, column: Any,
-                           context: StudyContext) -> dict[str, float]:
-    """The floor outputs of a graded panel: the receiver sheet's zoned hand estimates.
-
-    ``receiver.zoned_receiver_estimates`` (the column-panel sheet's section 80 makes the same call): each zone's
-    resonating mass over its share of the rows, summed, every zone counted as if tuned to the peak (an upper
-    bound of what the graded panel brings there); the insertion loss on a mass-like host, the single-absorber
-    bound and Den Hartog's amplitude follow from that sum. ``tuning`` is the strut tuning of the zone nearest the
-    first peak (the sheet's band takes the lowest zone's: it has no peaks).
-    """
-    from latticecalc import Q_
-    from latticecalc.physics import receiver
-
-    req = context.requirement
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        est = receiver.zoned_receiver_estimates(cell, zoning=zoning, material=mats["lattice"], nx=nx, ny=ny,
-                                                column=column, faces=context.faces, direction=req.direction,
-                                                required=Q_(list(req.required), "dB"), node_zones=context.node_zones)
-    tunings = [float(f.to("Hz").m) for f in est.zone_tunings]
-    return {**_floor_outputs(est), "tuning": min(tunings, key=lambda f: abs(f / req.peaks[0] - 1.0))}
 
 
 def bloch_stage(design: Mapping[str, Any], context: StudyContext, *,

@@ -325,6 +325,4 @@ def floor_estimates(record: DesignRecord, context: StudyContext, *, id_prefix: s
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")       # slenderness warnings: the study's checks carry the verdict
         cell, zoning = evaluate._zoned(d, context, evaluate._cell(d, context, mats), ny)
-        if zoning is None:
-            return receiver.receiver_estimates(cell, **kw)
-        return receiver.zoned_receiver_estimates(cell, zoning=zoning, **kw)
+        return receiver.receiver_estimates(cell, zoning=zoning, **kw)

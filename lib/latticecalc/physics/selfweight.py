@@ -451,6 +451,25 @@ def _affine_sums(cell: Cell) -> tuple[float, float, float, int]:
     return s, area, float(tz2[idx]), int(idx)
 
 
+def _checked_panel(cell: Any, materials: Any, cells_wide: Any, cells_high: Any, cells_deep: Any,
+                   deflection_limit: Any, buckling_safety_factor: Any, strut_end_condition: str,
+                   frame_end_condition: str, k_value: str) -> tuple[dict, int, int, int, pint.Quantity]:
+    """The arguments every self-weight check takes, checked: (materials by group, n_x, n_z, n_y, the limit).
+
+    An :class:`InputError` names the first bad one.
+    """
+    if not isinstance(cell, Cell):
+        raise InputError("not a lattice cell", input_name="cell", expected="a Cell from build_cell",
+                         got=type(cell).__name__)
+    mats = _materials_for(cell, materials)
+    nx = _positive_int(cells_wide, name="cells_wide")
+    nz = _positive_int(cells_high, name="cells_high")
+    ny = _positive_int(cells_deep, name="cells_deep")
+    limit = _q(deflection_limit, name="deflection_limit", dim="length")
+    _check_options(buckling_safety_factor, strut_end_condition, frame_end_condition, k_value)
+    return mats, nx, nz, ny, limit
+
+
 def _check_options(buckling_safety_factor: Any, strut_end_condition: str, frame_end_condition: str,
                    k_value: str) -> None:
     """An :class:`InputError` for a safety factor below 1, an unknown end condition or an unknown K set."""
@@ -814,15 +833,9 @@ def panel_self_weight(cell: Cell, *, materials: Any, cells_wide: int, cells_high
     id_prefix:
         Prefix of the step ids.
     """
-    if not isinstance(cell, Cell):
-        raise InputError("not a lattice cell", input_name="cell", expected="a Cell from build_cell",
-                         got=type(cell).__name__)
-    mats = _materials_for(cell, materials)
-    nx = _positive_int(cells_wide, name="cells_wide")
-    nz = _positive_int(cells_high, name="cells_high")
-    ny = _positive_int(cells_deep, name="cells_deep")
-    limit = _q(deflection_limit, name="deflection_limit", dim="length")
-    _check_options(buckling_safety_factor, strut_end_condition, frame_end_condition, k_value)
+    mats, nx, nz, ny, limit = _checked_panel(cell, materials, cells_wide, cells_high, cells_deep, deflection_limit,
+                                             buckling_safety_factor, strut_end_condition, frame_end_condition,
+                                             k_value)
     rd = density if density is not None else relative_density(cell, "closed-form", id_prefix=f"{id_prefix}.density")
     p = id_prefix
     parts = _panel_parts(cell, mats, nx=nx, ny=ny, nz=nz, rd=rd, long_term=long_term,
@@ -939,15 +952,9 @@ strut_end_condition, frame_end_condition, k_value, id_prefix:
     """
     from latticecalc.physics.zoning import check_zoning
 
-    if not isinstance(cell, Cell):
-        raise InputError("not a lattice cell", input_name="cell", expected="a Cell from build_cell",
-                         got=type(cell).__name__)
-    mats = _materials_for(cell, materials)
-    nx = _positive_int(cells_wide, name="cells_wide")
-    nz = _positive_int(cells_high, name="cells_high")
-    ny = _positive_int(cells_deep, name="cells_deep")
-    limit = _q(deflection_limit, name="deflection_limit", dim="length")
-    _check_options(buckling_safety_factor, strut_end_condition, frame_end_condition, k_value)
+    mats, nx, nz, ny, limit = _checked_panel(cell, materials, cells_wide, cells_high, cells_deep, deflection_limit,
+                                             buckling_safety_factor, strut_end_condition, frame_end_condition,
+                                             k_value)
     zoning = check_zoning(zoning, cells_high=nz)
     if zoning is None:
         raise InputError("a graded panel needs its zoning", input_name="zoning", expected="a Zoning", got="None")

@@ -184,13 +184,17 @@ def _parse(text: str, *, file: str) -> tomlkit.TOMLDocument:
                               line=getattr(exc, "line", None)) from None
 
 
-def _read(path: Path) -> tuple[str, tomlkit.TOMLDocument]:
+def _read_text(path: Path) -> str:
     path = Path(path)
     if not os.path.lexists(path):
         raise MissingFileError("inputs file not found", input_name=INPUTS_FILE, file=str(path),
                                hint="Every project folder has an inputs.toml; copy one with 'latticecalc new'")
-    text = read_text(path, kind="toml", what="the inputs file", file=path.name)
-    return text, _parse(text, file=path.name)
+    return read_text(path, kind="toml", what="the inputs file", file=path.name)
+
+
+def _read(path: Path) -> tuple[str, tomlkit.TOMLDocument]:
+    text = _read_text(path)
+    return text, _parse(text, file=Path(path).name)
 
 
 def read_document(path: Path) -> tomlkit.TOMLDocument:
@@ -286,9 +290,7 @@ def load_inputs(path: Path, template: TemplateSpec) -> Inputs:
         input, the file and the line.
     """
     path = Path(path)
-    if not os.path.lexists(path):
-        _read(path)     # raises, naming the missing file
-    text = read_text(path, kind="toml", what="the inputs file", file=path.name)
+    text = _read_text(path)
     key = (str(path.resolve()), text, _template_key(template))
     kept = _VALIDATED.get(key)
     if kept is None:

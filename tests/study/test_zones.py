@@ -81,6 +81,24 @@ def test_two_equal_zones_give_the_uniform_numbers_through_the_graded_path():
         assert coupled_z[key] == pytest.approx(value, rel=RTOL_SAME, abs=1e-9), key
 
 
+def _graded_design():
+    """A two-zone design of the bcc study (diameter step 0.3), its hand stage and the pieces the sheets use."""
+    import types
+    import warnings
+
+    ctx = bcc_context(39.0)
+    design = dict(UNIFORM, **{"zones.count": 2, "zones.diameter_spread": 0.3, "zones.mass_spread": 0.0})
+    d = ev.full_design(design, ctx)
+    mats = ev._materials(d, ctx)
+    column = ev._column(ctx)
+    nx, ny = ev.panel_counts(d, ctx, column)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        cell, zoning = ev._zoned(d, ctx, ev._cell(d, ctx, mats), ny)
+    return types.SimpleNamespace(ctx=ctx, design=design, hand=ev.hand_stage(design, ctx), d=d, mats=mats,
+                                 column=column, nx=nx, ny=ny, cell=cell, zoning=zoning)
+
+
 def test_graded_self_weight_outputs_are_the_stacked_zones():
     # the hand stage's self-weight margins are the column-panel sheet's (section 30) for a graded design: its
     # zones stacked bottom first (selfweight.graded_panel_self_weight; Gere & Goodno 2013, §2.3, bars in
@@ -92,21 +110,15 @@ def test_graded_self_weight_outputs_are_the_stacked_zones():
     from latticecalc.physics.density import relative_density
     from latticecalc.physics.selfweight import graded_panel_self_weight, panel_self_weight
 
-    ctx = bcc_context(39.0)
-    graded = dict(UNIFORM, **{"zones.count": 2, "zones.diameter_spread": 0.3, "zones.mass_spread": 0.0})
-    hand = ev.hand_stage(graded, ctx)
-    d = ev.full_design(graded, ctx)
-    mats = ev._materials(d, ctx)
-    nx, ny = ev.panel_counts(d, ctx, ev._column(ctx))
-    nz = int(d["panel.cells_deep"])
+    g = _graded_design()
+    ctx, hand, mats, cell, zoning = g.ctx, g.hand, g.mats, g.cell, g.zoning
     sw_in = ctx.selfweight
-    kw = dict(materials=mats, cells_wide=nx, cells_high=ny, cells_deep=nz,
+    kw = dict(materials=mats, cells_wide=g.nx, cells_high=g.ny, cells_deep=int(g.d["panel.cells_deep"]),
               deflection_limit=Q_(sw_in["deflection_limit_mm"], "mm"), buckling_safety_factor=sw_in["safety_factor"],
               long_term=sw_in["long_term"], strut_end_condition=sw_in["strut_end_condition"],
               frame_end_condition=sw_in["frame_end_condition"], k_value=sw_in["k_value"])
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        cell, zoning = ev._zoned(d, ctx, ev._cell(d, ctx, mats), ny)
         sw = graded_panel_self_weight(cell, zoning=zoning, density_method="closed-form", **kw)
         zone1 = panel_self_weight(cell, density=relative_density(cell, "closed-form"), **kw)
     case = "with-frame" if "with-frame" in sw.shortening else "lattice-alone"
@@ -131,17 +143,12 @@ def test_graded_floor_outputs_are_the_sheets_zoned_estimates():
     from latticecalc import Q_
     from latticecalc.study import shortfall
 
-    ctx = bcc_context(39.0)
-    graded = dict(UNIFORM, **{"zones.count": 2, "zones.diameter_spread": 0.3, "zones.mass_spread": 0.0})
-    hand = ev.hand_stage(graded, ctx)
-    d = ev.full_design(graded, ctx)
-    mats = ev._materials(d, ctx)
-    column = ev._column(ctx)
-    nx, ny = ev.panel_counts(d, ctx, column)
+    g = _graded_design()
+    ctx, hand, mats, cell, zoning, column, nx, ny = g.ctx, g.hand, g.mats, g.cell, g.zoning, g.column, g.nx, g.ny
+    graded = g.design
     req = ctx.requirement
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        cell, zoning = ev._zoned(d, ctx, ev._cell(d, ctx, mats), ny)
         est = receiver.zoned_receiver_estimates(cell, zoning=zoning, material=mats["lattice"], nx=nx, ny=ny,
                                                 column=column, faces=ctx.faces, direction=req.direction,
                                                 required=Q_(list(req.required), "dB"), node_zones=ctx.node_zones)

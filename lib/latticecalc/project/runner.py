@@ -206,6 +206,7 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
         live.source = cell.source
 
     km = _kernel_manager()
+    kc = None
     timings: list[tuple[str, float]] = []
     try:
         try:
@@ -215,6 +216,18 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
                                 hint="Check that ipykernel is installed in this environment") from None
         live.process = getattr(km.provisioner, "process", None)
         live.pgid = getattr(km.provisioner, "pgid", None)
+        # One client for the whole run: a client connecting waits for 0.2 s of silence from the
+        # kernel, which a client per notebook paid again for each notebook.
+        kc = km.client()
+        kc.allow_stdin = False
+        try:
+            kc.start_channels()
+            await kc.wait_for_ready(timeout=_STARTUP_SECONDS)
+        except RuntimeError as exc:
+            if not await km.is_alive():
+                raise _died(live, None) from None
+            raise NotebookError(f"the Python kernel did not respond ({exc})", input_name=notebooks[0].name,
+                                hint="Check that ipykernel is installed in this environment") from None
         total = len(notebooks)
         for i, path in enumerate(notebooks, start=1):
             nb = nbformat.read(str(path), as_version=4)
@@ -223,6 +236,7 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
             t0 = time.perf_counter()
             client = NotebookClient(nb, km=km, timeout=timeout, allow_errors=False, on_cell_execute=on_cell,
                                     resources={"metadata": {"path": str(project.folder)}})
+            client.kc = kc  # the run's client; the notebook client neither starts nor stops it
             live.client = client
             try:
                 await client.async_execute()
@@ -240,14 +254,13 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
                     raise _died(live, nb) from None
                 raise NotebookError(f"the Python kernel did not respond ({exc})", input_name=path.name,
                                     hint="Check that ipykernel is installed in this environment") from None
-            finally:
-                if client.kc is not None:
-                    client.kc.stop_channels()
             write_text_atomic(out / path.name, nbformat.writes(nb))
             dt = time.perf_counter() - t0
             timings.append((path.name, dt))
             live.messages.put(f"[{i}/{total}] {path.name} done in {dt:.1f} s")
     finally:
+        if kc is not None:
+            kc.stop_channels()
         await _shutdown(km)
     return timings
 

@@ -26,7 +26,7 @@ from latticecalc.physics import frame_fe as fe
 from latticecalc.physics import receiver as rc
 from latticecalc.physics.bloch import progress_iter
 from latticecalc.physics.density import panel_mass
-from latticecalc.physics.lazy_scipy import brentq
+from latticecalc.physics.roots import find_root
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, format_quantity
 
@@ -103,7 +103,7 @@ def retuned_diameter(*, target: float, length: float, material: Any, mass: float
     if lo > 0 or hi < 0:
         raise InputError("no strut diameter tunes the strut with this mass to the target", input_name="target",
                          expected=f"a target between {target - lo:.3g} and {target - hi:.3g} Hz", got=f"{target:g} Hz")
-    return float(brentq(g, d_min, d_max, xtol=1e-7))
+    return float(find_root(g, d_min, d_max, xtol=1e-7))
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -29,7 +29,7 @@ import numpy as np
 import sympy as sp
 
 from latticecalc.errors import InputError, ModelError
-from latticecalc.physics.lazy_scipy import brentq
+from latticecalc.physics.roots import find_root
 from latticecalc.sheet import CalcResult, Formula, Source, Step, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_number
 
@@ -152,7 +152,7 @@ def eigenvalue(*, supports: str, mode: int) -> float:
     if supports == "clamped-pinned":
         # tan has poles at (k + 1/2)π; the root lies just below (n + 1/4)π, between n π and (n + 1/2)π.
         lo, hi = n * math.pi + 1e-9, (n + 0.5) * math.pi - 1e-9
-    return brentq(g, lo, hi, xtol=1e-15, rtol=4 * np.finfo(float).eps, maxiter=200)
+    return find_root(g, lo, hi, xtol=1e-15, rtol=4 * np.finfo(float).eps, maxiter=200)
 
 
 # --- formulas (the expression shown is the expression evaluated) -----------------------------
@@ -431,7 +431,7 @@ def _timoshenko_root(*, supports, mode, L, E, G, kappa, rho, A, Iz, omega_eb):
     i = change[mode - 1]
     def fun(w):
         return float(timoshenko_determinant(w, **kw))
-    return brentq(fun, grid[i], grid[i + 1], xtol=1e-12 * grid[i + 1], rtol=1e-14, maxiter=200)
+    return find_root(fun, grid[i], grid[i + 1], xtol=1e-12 * grid[i + 1], rtol=1e-14, maxiter=200)
 
 
 # --- results ------------------------------------------------------------------------------------

@@ -44,7 +44,7 @@ from latticecalc.physics.beams import (
 )
 from latticecalc.physics.frame_fe import POLAR_MOMENT_CIRCLE
 from latticecalc.physics.frame_fe import Section as FeSection
-from latticecalc.physics.lazy_scipy import brentq
+from latticecalc.physics.roots import find_root
 from latticecalc.sheet import CalcResult, Formula, Source, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
@@ -219,7 +219,7 @@ def column_properties(column: Column, *, id_prefix: str = "column") -> ColumnPro
 
 def _axial_root(ratio: float) -> float:
     """Lowest root βL of βL tan βL = ratio (column mass over head mass), in (0, π/2)."""
-    return brentq(lambda x: x * math.tan(x) - ratio, 1e-12, math.pi / 2 - 1e-12, xtol=1e-14)
+    return find_root(lambda x: x * math.tan(x) - ratio, 1e-12, math.pi / 2 - 1e-12, xtol=1e-14)
 
 
 def column_frequencies(column: Column, *, id_prefix: str = "column") -> CalcResult:

@@ -1,20 +1,14 @@
 """scipy functions the physics modules call, imported on their first call.
 
-``scipy.optimize`` costs a kernel about 0.3 s to import, and a section that only reads the inputs (or a
-run stopped by a bad input in its first section) never calls a root finder; the modules that do import
-these names from here instead of from scipy at the top.
+A section that only reads the inputs (or a run stopped by a bad input in its first section) never
+calls these; the modules that do import them from here instead of from scipy at the top. The root
+finder is :func:`latticecalc.physics.roots.find_root`, which needs no scipy import at all
+(``scipy.optimize`` cost every kernel about 0.3 s).
 """
 
 from __future__ import annotations
 
 from typing import Any
-
-
-def brentq(*args: Any, **kwargs: Any) -> Any:
-    """:func:`scipy.optimize.brentq`."""
-    from scipy.optimize import brentq as solve
-
-    return solve(*args, **kwargs)
 
 
 def jv(order: Any, x: Any) -> Any:

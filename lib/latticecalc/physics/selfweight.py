@@ -89,7 +89,8 @@ from latticecalc.physics.density import (
     relative_density,
     strut_areas,
 )
-from latticecalc.physics.lazy_scipy import brentq, jv
+from latticecalc.physics.lazy_scipy import jv
+from latticecalc.physics.roots import find_root
 from latticecalc.sheet import CalcResult, Formula, Source, check, evaluate, quantity_step
 from latticecalc.units import Q_, check_dimension, check_positive, format_quantity
 
@@ -202,8 +203,8 @@ def zone_sum(target: str, term: str, n: int) -> Formula:
 # --- published constants, computed ---------------------------------------------------------------
 @cache
 def bessel_zero_minus_third() -> float:
-    """First positive zero j of the Bessel function J₋₁/₃ (≈ 1.866350859), found with scipy."""
-    return float(brentq(lambda x: jv(-1.0 / 3.0, x), 1.0, 3.0, xtol=1e-15, rtol=4 * np.finfo(float).eps))
+    """First positive zero j of the Bessel function J₋₁/₃ (≈ 1.866350859): scipy.special.jv, Brent's method."""
+    return float(find_root(lambda x: jv(-1.0 / 3.0, x), 1.0, 3.0, xtol=1e-15, rtol=4 * np.finfo(float).eps))
 
 
 @cache
@@ -215,7 +216,7 @@ def greenhill_coefficient() -> float:
 @cache
 def exact_fixed_pinned_factor() -> float:
     """Exact K of a fixed–pinned Euler column, π / x₁ with x₁ the first positive root of tan x = x."""
-    root = brentq(lambda x: math.tan(x) - x, math.pi + 1e-6, 1.5 * math.pi - 1e-6, xtol=1e-15)
+    root = find_root(lambda x: math.tan(x) - x, math.pi + 1e-6, 1.5 * math.pi - 1e-6, xtol=1e-15)
     return math.pi / root
 
 
@@ -332,7 +333,7 @@ def greenhill_height(*, youngs_modulus, second_moment, weight_per_length,
     q = _q(weight_per_length, name="weight_per_length", dim="[mass] / [time] ** 2")
     c = quantity_step(id=f"{id}-coefficient", description="Greenhill's coefficient (9/4) j², j the first "
                       "zero of J₋₁/₃", value=Q_(greenhill_coefficient(), ""),
-                      method=f"j = {bessel_zero_minus_third():.10f} found with scipy.special.jv and brentq",
+                      method=f"j = {bessel_zero_minus_third():.10f} found with scipy.special.jv and Brent's method",
                       source=GREENHILL_1881, sig=6)
     step = evaluate(GREENHILL_HEIGHT, id=id, description="Greenhill's critical self-weight height",
                     values={"c": c.result, "E": e, "I": i, "q": q}, unit="m", source=GREENHILL_1881,

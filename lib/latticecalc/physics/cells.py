@@ -41,6 +41,7 @@ limit, see the density sheet for the overlap error actually incurred).
 from __future__ import annotations
 
 import dataclasses
+import functools
 import itertools
 import math
 import warnings
@@ -260,11 +261,16 @@ class Cell:
     @property
     def nodes_per_cell(self) -> float:
         """Joints per cell of the infinite lattice (nodes weighted by their share)."""
-        return float(self.node_weights[self.connected_nodes].sum())
+        return float(self.node_weights[self._connected].sum())
 
     @property
     def connected_nodes(self) -> np.ndarray:
         """Mask of nodes that some strut of the infinite lattice reaches (images included)."""
+        return self._connected.copy()
+
+    @functools.cached_property
+    def _connected(self) -> np.ndarray:
+        # kept: a cell's nodes and struts never change, and every band estimate asks for its regime
         used = np.zeros(len(self.nodes), dtype=bool)
         used[self.struts.ravel()] = True
         # an image of a used node is used (it is the same joint of the infinite lattice)

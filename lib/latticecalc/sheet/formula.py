@@ -93,6 +93,10 @@ class Formula:
 
     def latex(self) -> str:
         """``target = expression`` in LaTeX."""
+        return self._latex
+
+    @cached_property
+    def _latex(self) -> str:  # a formula is immutable, and the package prints each one many times
         return f"{self.target_latex()} = {sp.latex(self.expr, symbol_names=self._names())}"
 
     def substituted_latex(self, values: Mapping[str, Any], sig: int = 4) -> str:

@@ -157,10 +157,10 @@ class Step:
 
     def substitution_latex(self) -> str:
         """The expression with the values put in, ending ``= result``, or ``""``."""
-        if self.formula is None:
-            return ""
-        return (self.formula.substituted_latex(self.values, sig=self.sig) + " = "
-                + value_latex(self.result, sig=self.sig))
+        return self._ending_with_result(self.substituted_latex())
+
+    def _ending_with_result(self, substituted: str) -> str:
+        return substituted + " = " + value_latex(self.result, sig=self.sig) if self.formula is not None else ""
 
     def substituted_latex(self) -> str:
         """The expression with the values put in, without ``= result``, or ``""``.
@@ -177,13 +177,14 @@ class Step:
 
     def to_dict(self) -> dict:
         """JSON-ready record of the step."""
+        substituted = self.substituted_latex()    # printed once: sympy's printer is most of a record's cost
         return {
             "kind": self.kind,
             "id": self.id,
             "description": self.description,
             "formula_latex": self.formula_latex(),
-            "substitution_latex": self.substitution_latex(),
-            "substituted_latex": self.substituted_latex(),
+            "substitution_latex": self._ending_with_result(substituted),
+            "substituted_latex": substituted,
             "symbol_latex": self.symbol_latex,
             "result": _plain(self.result),
             "result_text": self.result_text(),

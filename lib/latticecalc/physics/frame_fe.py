@@ -1203,6 +1203,25 @@ def point_mass_matrix(mesh: FrameMesh, point_masses: Mapping[str, Any] | None) -
     return sp.diags(diag).tocsr()
 
 
+#: Relative gap in ω² below which two strut modes count as one repeated frequency (a round strut bends
+#: alike in its two planes).
+REPEATED_MODE_RTOL = 1e-6
+
+
+def closed_mode_count(eigenvalues: Sequence[np.ndarray], m: int, rtol: float = REPEATED_MODE_RTOL) -> int:
+    """The smallest count ≥ ``m`` that splits no repeated eigenvalue of any of the ascending ``eigenvalues``.
+
+    Within a repeated eigenvalue the eigensolver's vectors are any basis of the pair's plane; keeping one
+    of the pair would keep an arbitrary direction, and the reduced model would change with the last bit
+    of its inputs.  The whole pair is kept instead.
+    """
+    cap = max((len(w) for w in eigenvalues), default=0)
+    m = min(m, cap)
+    while 0 < m < cap and any(m < len(w) and w[m] - w[m - 1] <= rtol * abs(w[m]) for w in eigenvalues):
+        m += 1
+    return m
+
+
 def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str],
                   sections: Mapping[str, Section], n_elements: int, n_modes: int,
                   theory: str = "timoshenko", point_masses: Mapping[str, Any] | None = None,
@@ -1212,11 +1231,12 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
     Struts of equal length, section, added mass and node zones share one reduction in local axes,
     rotated to each strut.
     ``n_modes`` is capped at the strut's interior DOFs (6 (n − 1)); with all of them kept the
-    reduction is exact.  ``point_masses`` ({group: (mass kg, rotary inertia kg·m²)}) puts a lumped
-    mass on the middle node of every strut of that group.  ``end_zones`` (n_struts, 2), m: rigid
-    node zones; the flexible length between them is meshed and reduced, its end DOFs are tied to
-    the joints by the rigid offsets (K_bb ← Hᵀ K_bb H, C ← C H, ψ ← ψ H) and each zone's rigid-body
-    mass is added on its joint.
+    reduction is exact.  It is raised when the last kept mode would split a repeated frequency
+    (:func:`closed_mode_count`); the result's ``n_modes`` is the count kept.
+    ``point_masses`` ({group: (mass kg, rotary inertia kg·m²)}) puts a lumped mass on the middle node
+    of every strut of that group.  ``end_zones`` (n_struts, 2), m: rigid node zones; the flexible
+    length between them is meshed and reduced, its end DOFs are tied to the joints by the rigid
+    offsets (K_bb ← Hᵀ K_bb H, C ← C H, ψ ← ψ H) and each zone's rigid-body mass is added on its joint.
     """
     n = check_n_elements(n_elements)
     pm = check_point_masses(point_masses, n)
@@ -1235,14 +1255,9 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
         # struts of equal length, section and added mass share one reduction, whatever their group is
         # called (a graded panel's identical zones are then reduced exactly as the uniform panel)
         keys.setdefault((round(L[s] / scale, 10), sections[groups[s]], pm.get(groups[s]), *zkey), []).append(s)
-    Kbb_l = np.zeros((ns, 12, 12))
-    Mbb_l = np.zeros((ns, 12, 12))
-    C_l = np.zeros((ns, m, 12))
-    om2 = np.zeros((ns, m))
-    psi_l = np.zeros((ns, ni, 12))
-    phi_l = np.zeros((ns, ni, m))
     bnd = np.r_[0:6, 6 * n:6 * n + 6]
     inn = np.arange(6, 6 * n)
+    kinds = []
     for members in keys.values():
         s0 = members[0]
         g = groups[s0]
@@ -1262,13 +1277,21 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
             Ms[mid + 3:mid + 6, mid + 3:mid + 6] += pm[g][1] * np.eye(3)
         if n > 1:
             Kii = Ks[np.ix_(inn, inn)]
-            Kib = Ks[np.ix_(inn, bnd)]
-            psi = -np.linalg.solve(Kii, Kib)
-            w2, phi = sla.eigh(Kii, Ms[np.ix_(inn, inn)])
-            w2, phi = w2[:m], phi[:, :m]
+            psi = -np.linalg.solve(Kii, Ks[np.ix_(inn, bnd)])
+            w2_all, phi_all = sla.eigh(Kii, Ms[np.ix_(inn, inn)])
         else:
             psi = np.zeros((0, 12))
-            w2, phi = np.zeros(0), np.zeros((0, 0))
+            w2_all, phi_all = np.zeros(0), np.zeros((0, 0))
+        kinds.append((members, g, z1, z2, Ks, Ms, psi, w2_all, phi_all))
+    m = closed_mode_count([k[7] for k in kinds], m)
+    Kbb_l = np.zeros((ns, 12, 12))
+    Mbb_l = np.zeros((ns, 12, 12))
+    C_l = np.zeros((ns, m, 12))
+    om2 = np.zeros((ns, m))
+    psi_l = np.zeros((ns, ni, 12))
+    phi_l = np.zeros((ns, ni, m))
+    for members, g, z1, z2, Ks, Ms, psi, w2_all, phi_all in kinds:
+        w2, phi = w2_all[:m], phi_all[:, :m]
         Tb = np.vstack([np.eye(12), psi])          # ordering: bnd then inn
         order = np.r_[bnd, inn]
         Ko = Ks[np.ix_(order, order)]

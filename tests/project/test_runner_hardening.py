@@ -203,6 +203,50 @@ def test_kernel_exiting_mid_run_gives_a_non_zero_cli_exit(tmp_path):
     assert "b.ipynb" in done.stderr and "cell 3" in done.stderr and "kernel stopped" in done.stderr
 
 
+def test_kernel_stopping_at_start_is_reported_as_such_with_no_notebook_named(tmp_path, monkeypatch):
+    # common practice: a child that dies before it answers is reported at once, as a start failure
+    from jupyter_client.kernelspec import KernelSpec
+
+    from latticecalc.project import runner
+
+    made = runner._kernel_manager
+
+    def dies_at_start():
+        km = made()
+        km._kernel_spec = KernelSpec(argv=[sys.executable, "-c", "import sys; sys.exit(3)"],
+                                     display_name="dies", language="python", name="python3")
+        return km
+
+    monkeypatch.setattr(runner, "_kernel_manager", dies_at_start)
+    folder = make_project(tmp_path / "never", {"a.ipynb": ["x = 1"]})
+    with pytest.raises(KernelDiedError) as caught:
+        run_project(folder, progress=None, timeout=60)
+    msg = str(caught.value)
+    assert "exit code 3" in msg and "while it was starting" in msg
+    assert caught.value.input_name == "kernel" and "None" not in msg
+    assert not (folder / "out" / "run-record.json").exists()
+
+
+def test_kernel_channels_use_a_private_socket_folder_removed_after_the_run(tmp_path, monkeypatch):
+    # common practice: no TCP port a concurrent process could take between choosing and binding it
+    from latticecalc.project import runner
+
+    seen = []
+    made = runner._private_sockets
+
+    def spy(km):
+        folder = made(km)
+        seen.append((folder, km.transport))
+        return folder
+
+    monkeypatch.setattr(runner, "_private_sockets", spy)
+    folder = make_project(tmp_path / "ok", {"a.ipynb": ["x = 1"]})
+    run_project(folder, progress=None, timeout=60)
+    if os.name == "posix":
+        (sockets, transport), = seen
+        assert transport == "ipc" and not Path(sockets).exists()
+
+
 # --- a cell that never ends ----------------------------------------------------------------------------
 def test_looping_cell_is_stopped_by_the_cell_timeout(tmp_path):
     # common practice: a per-step timeout stops the step and the process running it

@@ -31,9 +31,11 @@ import contextlib
 import json
 import os
 import queue
+import shutil
 import signal
 import subprocess
 import sys
+import tempfile
 import threading
 import time
 from collections.abc import Callable, Iterator, Sequence
@@ -95,6 +97,21 @@ def _kernel_manager() -> AsyncKernelManager:
                                  display_name="latticecalc", language="python", name="python3")
     km.kernel_name = "python3"
     return km
+
+
+def _private_sockets(km: AsyncKernelManager) -> str | None:
+    """Put the kernel's channels on Unix sockets in a private folder (POSIX); returns the folder.
+
+    Over TCP the kernel manager picks free ports and the kernel binds them a moment later; another
+    process (a second run, a test worker) could take one in between and the kernel died at start
+    ("Address already in use"). A socket file in a folder of this run's own cannot be taken.
+    """
+    if os.name != "posix":
+        return None
+    folder = tempfile.mkdtemp(prefix="lc-kernel-")
+    km.transport = "ipc"
+    km.ip = os.path.join(folder, "k")
+    return folder
 
 
 def _kernel_env() -> dict[str, str]:
@@ -173,6 +190,10 @@ def _exit_text(process: subprocess.Popen | None) -> str:
 
 
 def _died(live: _Live, nb: nbformat.NotebookNode | None) -> KernelDiedError:
+    if live.notebook is None:
+        return KernelDiedError(f"the Python kernel stopped{_exit_text(live.process)} while it was starting",
+                               input_name="kernel", hint="Its own message is printed above; run again, and if it "
+                               "stops again check that ipykernel runs in this Python environment")
     cell = nb.cells[live.cell - 1] if nb is not None and live.cell is not None else None
     message = _with_output(f"the Python kernel stopped{_exit_text(live.process)} while {live.where()}", cell)
     return KernelDiedError(message, input_name=live.notebook,
@@ -206,6 +227,7 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
         live.source = cell.source
 
     km = _kernel_manager()
+    sockets = _private_sockets(km)
     kc = None
     timings: list[tuple[str, float]] = []
     try:
@@ -262,6 +284,8 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
         if kc is not None:
             kc.stop_channels()
         await _shutdown(km)
+        if sockets is not None:
+            shutil.rmtree(sockets, ignore_errors=True)
     return timings
 
 

@@ -39,6 +39,21 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 
+def pytest_configure(config):
+    """Byte-compile the kit once, in the controlling process, before any worker or kernel imports it.
+
+    Python caches a module's bytecode on its first import, except where PYTHONDONTWRITEBYTECODE is set (as on
+    some build machines): then every kernel, command-line run and worker of the session compiled the kit's
+    sources again, about 0.2 s each and over a hundred of them. Writing the cache explicitly is what a first
+    import does elsewhere; the files go to ``lib/latticecalc/**/__pycache__`` (ignored by git).
+    """
+    if hasattr(config, "workerinput"):
+        return
+    import compileall
+
+    compileall.compile_dir(str(ROOT / "lib" / "latticecalc"), quiet=1)
+
+
 def _shared_root(factory: pytest.TempPathFactory) -> Path:
     """The folder the session's workers share (beside their own temporary folders; the session's own without xdist)."""
     base = factory.getbasetemp()

@@ -34,7 +34,8 @@ def assert_quantity_close(actual, expected, *, rtol: float = 1e-7, atol: float =
 
 #: Coarse numerical-check settings for tests that exercise the workflow rather than the FE results.
 QUICK_FE = {"fe.path_points": 20, "fe.zone_points": 0, "fe.frequencies": 60, "tolerance.samples": 2000,
-            "receiver.frequencies": 40, "sweep.added_masses": ["0 g", "100 g"], "fe.elements_per_strut": 4}
+            "receiver.frequencies": 40, "sweep.added_masses": ["0 g", "100 g"], "fe.elements_per_strut": 4,
+            "fe.strut_modes": 4}
 
 
 #: A design study's search cut down to a few designs (the demo's own counts are in

@@ -86,6 +86,21 @@ def test_inverse_sizing_round_trip():
     assert d.steps[0].formula is beams.DIAMETER_FOR_FREQUENCY
 
 
+@pytest.mark.parametrize("supports", ["clamped-clamped", "clamped-pinned", "clamped-free", "pinned-pinned"])
+def test_modal_mass_fraction_quadrature_matches_adaptive_quadrature(supports):
+    """The Gauss–Legendre rule against scipy.integrate.quad (general-purpose reference library), modes 1-60."""
+    from scipy.integrate import quad
+
+    for n in range(1, 61):
+        def phi(x, n=n):
+            return float(beams.mode_shape(x, supports=supports, mode=n))
+        first = quad(phi, 0.0, 1.0, epsabs=1e-13, epsrel=1e-12, limit=800)[0]
+        second = quad(lambda x: phi(x) ** 2, 0.0, 1.0, epsabs=1e-13, epsrel=1e-12, limit=800)[0]
+        reference = first**2 / second
+        assert float(beams.modal_mass_fraction(supports=supports, mode=n).value) == pytest.approx(
+            reference, rel=1e-9, abs=1e-12), (supports, n)
+
+
 def test_modal_mass_fractions():
     # pinned-pinned: (∫sin πξ)² / ∫sin² πξ = (2/π)² / (1/2) = 8/π² exactly [derived]
     assert float(beams.modal_mass_fraction(supports="pinned-pinned").value) == pytest.approx(

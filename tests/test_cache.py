@@ -38,3 +38,29 @@ def test_no_cache_and_default_folder(tmp_path, monkeypatch):
     assert resolve_folder(True) == tmp_path / DEFAULT_FOLDER
     with pytest.raises(InputError, match="cache"):
         resolve_folder(3.5)
+
+
+def test_a_complex_quantity_keeps_its_phase_in_the_fingerprint():
+    # common practice: a key covers every number the result depends on (a transmissibility is a phasor)
+    assert fingerprint(Q_(np.array([1 + 1j]), "")) != fingerprint(Q_(np.array([1 - 1j]), ""))
+    assert fingerprint(Q_(np.array([1.0, 2.0]), "m")) == fingerprint(Q_(np.array([1000.0, 2000.0]), "mm"))
+
+
+def test_fields_left_out_of_equality_are_left_out_of_the_fingerprint():
+    import dataclasses
+
+    @dataclasses.dataclass(frozen=True)
+    class Value:
+        x: float
+        read_from: str = dataclasses.field(default="", compare=False)
+
+    assert fingerprint(Value(1.0, "a.toml")) == fingerprint(Value(1.0, "b.toml"))
+    assert fingerprint(Value(1.0)) != fingerprint(Value(2.0))
+
+
+def test_a_formula_expression_is_fingerprinted_by_its_structure():
+    import sympy as sp
+
+    a, b = sp.symbols("a b")
+    assert fingerprint(a * b) == fingerprint(b * a)
+    assert fingerprint(a * b) != fingerprint(a + b)

@@ -33,7 +33,8 @@ def _canonical(obj: Any, h: hashlib._Hash) -> None:
     if isinstance(obj, pint.Quantity):
         base = obj.to_base_units()
         h.update(b"Q" + str(base.units).encode())
-        _canonical(np.asarray(base.magnitude, dtype=float), h)
+        mag = np.asarray(base.magnitude)
+        _canonical(mag if mag.dtype.kind in "fc" else mag.astype(float), h)   # a complex ratio keeps its phase
     elif isinstance(obj, np.ndarray):
         arr = np.ascontiguousarray(obj)
         if arr.dtype.kind in "fc":
@@ -55,11 +56,17 @@ def _canonical(obj: Any, h: hashlib._Hash) -> None:
         h.update(b"]")
     elif dataclasses.is_dataclass(obj) and not isinstance(obj, type):
         h.update(b"D" + type(obj).__name__.encode())
-        _canonical({f.name: getattr(obj, f.name) for f in dataclasses.fields(obj)}, h)
+        # a field left out of equality (compare=False: bookkeeping such as where a value was read from, or a
+        # step's record of the objects it was evaluated on) is left out of the fingerprint too
+        _canonical({f.name: getattr(obj, f.name) for f in dataclasses.fields(obj) if f.compare}, h)
     elif isinstance(obj, (bool, int, str, type(None))):
         h.update(json.dumps(obj).encode())
     elif isinstance(obj, (float, np.floating, np.integer)):
         h.update(repr(round(float(obj), 12)).encode())
+    elif type(obj).__module__.startswith("sympy."):    # a formula's expression (in a result's steps)
+        from sympy import srepr
+
+        h.update(b"S" + srepr(obj).encode())
     else:
         raise InputError("cannot fingerprint this value", input_name="cache key",
                          expected="numbers, text, arrays, Quantities, mappings, sequences, dataclasses",

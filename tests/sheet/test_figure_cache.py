@@ -136,3 +136,70 @@ def test_axis_range_ticks_and_labels_are_part_of_the_key():
     fig_b.axes[0].set_zlim(0.0, 3.0)
     assert display.figure_fingerprint(fig_a, id="fig.cell", dpi=130) != \
         display.figure_fingerprint(fig_b, id="fig.cell", dpi=130)
+
+
+# --- deferred figures: a plot function's figure is built only when its image is not in the cache -------------
+@pytest.fixture
+def built(monkeypatch):
+    """Count the deferred figures actually built."""
+    calls = []
+    real = style.DeferredFigure.figure
+
+    def counting(self):
+        if not self.built:
+            calls.append(self._function.__name__)
+        return real(self)
+
+    monkeypatch.setattr(style.DeferredFigure, "figure", counting)
+    return calls
+
+
+def test_a_rerun_with_unchanged_data_neither_builds_nor_draws_the_figure(tmp_path, drawn, built):
+    first = display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.a", caption="a", cache=tmp_path)
+    again = _line_figure([1.0, 2.0, 3.0])
+    second = display.figure(again, id="fig.a", caption="a", cache=tmp_path)
+    assert built == ["_line_figure"] and len(drawn) == 1 and not again.built
+    assert first.record["png"] == second.record["png"]
+
+
+def test_changed_arguments_id_or_resolution_build_afresh(tmp_path, drawn, built):
+    display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.a", caption="a", cache=tmp_path)
+    display.figure(_line_figure([1.0, 2.0, 3.0 + 1e-9]), id="fig.a", caption="a", cache=tmp_path)
+    display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.b", caption="b", cache=tmp_path)
+    display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.a", caption="a", cache=tmp_path, dpi=90)
+    assert len(built) == 4 and len(drawn) == 4
+
+
+def test_the_plot_code_and_the_style_are_part_of_the_data_key(monkeypatch):
+    key = _line_figure([1.0, 2.0]).data_key()
+    assert _line_figure([1.0, 2.0]).data_key() == key
+    monkeypatch.setattr(style, "STYLE_VERSION", style.STYLE_VERSION + "-changed")
+    assert _line_figure([1.0, 2.0]).data_key() != key
+    monkeypatch.undo()
+    monkeypatch.setattr(style, "_plot_code_hash", lambda: "another version of the plot modules")
+    assert _line_figure([1.0, 2.0]).data_key() != key
+    monkeypatch.undo()
+    with matplotlib.rc_context({"lines.linewidth": 7.0}):
+        assert _line_figure([1.0, 2.0]).data_key() != key
+
+
+def test_a_figure_changed_after_its_plot_function_is_keyed_by_its_artists(tmp_path, drawn):
+    display.figure(_line_figure([1.0, 2.0, 3.0]), id="fig.a", caption="a", cache=tmp_path)
+    changed = _line_figure([1.0, 2.0, 3.0])
+    changed.axes[0].set_xlim(0.0, 10.0)                        # built here, and changed
+    display.figure(changed, id="fig.a", caption="a", cache=tmp_path)
+    assert len(drawn) == 2
+
+
+def test_arguments_that_cannot_be_fingerprinted_fall_back_to_the_artists(tmp_path, drawn):
+    class Opaque:
+        values = [1.0, 2.0]
+
+    @style.styled
+    def plot(data):
+        return _line_figure(data.values).figure()
+
+    assert plot(Opaque()).data_key() is None
+    display.figure(plot(Opaque()), id="fig.o", caption="o", cache=tmp_path)
+    display.figure(plot(Opaque()), id="fig.o", caption="o", cache=tmp_path)
+    assert len(drawn) == 1                                     # the artists' key still finds the image

@@ -151,8 +151,10 @@ def figure_fingerprint(fig: Any, *, id: str, dpi: int) -> str:
     """
     import matplotlib
 
-    from latticecalc.plots.style import STYLE_VERSION
+    from latticecalc.plots.style import STYLE_VERSION, DeferredFigure
 
+    if isinstance(fig, DeferredFigure):
+        fig = fig.figure()
     h = hashlib.sha256()
     for part in (id, STYLE_VERSION, matplotlib.__version__, dpi, tuple(fig.get_size_inches())):
         _feed(h, part)
@@ -186,14 +188,27 @@ def figure(fig: Any, *, id: str, caption: str, dpi: int = 130, cache: Any = "aut
     """
     import matplotlib.pyplot as plt
 
+    from latticecalc.plots.style import DeferredFigure
+
     folder = _figure_folder(cache)
     png = None
     if folder is not None:
-        path = folder / f"{figure_fingerprint(fig, id=id, dpi=dpi)}.png"
+        key = None
+        if isinstance(fig, DeferredFigure) and not fig.built:
+            data = fig.data_key()
+            key = None if data is None else "d" + hashlib.sha256(f"{data}|{id}|{dpi}".encode()).hexdigest()
+        if isinstance(fig, DeferredFigure):
+            fig_built = None if key is not None else fig.figure()
+        else:
+            fig_built = fig
+        if key is None:
+            key = figure_fingerprint(fig_built, id=id, dpi=dpi)
+        path = folder / f"{key}.png"
         if path.is_file():
             png = path.read_bytes()
         else:
-            png = _png(fig, dpi)
+            fig_built = fig_built if fig_built is not None else fig.figure()
+            png = _png(fig_built, dpi)
             folder.mkdir(parents=True, exist_ok=True)
             fd, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
             try:
@@ -203,9 +218,13 @@ def figure(fig: Any, *, id: str, caption: str, dpi: int = 130, cache: Any = "aut
             finally:
                 if os.path.exists(tmp):
                     os.remove(tmp)
+        fig = fig_built
+    elif isinstance(fig, DeferredFigure):
+        fig = fig.figure()
     if png is None:
         png = _png(fig, dpi)
-    plt.close(fig)
+    if fig is not None:
+        plt.close(fig)
     text = base64.b64encode(png).decode("ascii")
     return Shown({"kind": "figure", "id": id, "caption": caption, "png": text}, f"[figure {id}] {caption}")
 

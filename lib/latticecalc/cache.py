@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import dataclasses
 import hashlib
+import io
 import json
 import os
 import tempfile
@@ -118,14 +119,24 @@ def cached_arrays(cache: Any, key: str, compute: Callable[[], dict[str, np.ndarr
         with np.load(path, allow_pickle=False) as data:
             return {k: data[k] for k in data.files}
     result = compute()
-    folder.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
-    os.close(fd)
+    buf = io.BytesIO()
+    np.savez(buf, **{k: np.asarray(v) for k, v in result.items()})
+    write_entry(path, buf.getvalue())
+    return result
+
+
+def write_entry(path: Path, data: bytes) -> None:
+    """Write one cache entry: a temporary file in the cache folder renamed into place.
+
+    An interrupted run never leaves a half-written entry behind.  Not synced to disk: an entry lost in a
+    crash is computed again (project files go through :mod:`latticecalc.project.atomic`).
+    """
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, suffix=".tmp")
     try:
-        with open(tmp, "wb") as fh:
-            np.savez(fh, **{k: np.asarray(v) for k, v in result.items()})
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
         os.replace(tmp, path)
     finally:
         if os.path.exists(tmp):
             os.remove(tmp)
-    return result

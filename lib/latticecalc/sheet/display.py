@@ -9,8 +9,6 @@ from __future__ import annotations
 import base64
 import hashlib
 import io
-import os
-import tempfile
 from pathlib import Path
 from typing import Any
 
@@ -151,10 +149,9 @@ def figure_fingerprint(fig: Any, *, id: str, dpi: int) -> str:
     """
     import matplotlib
 
-    from latticecalc.plots.style import STYLE_VERSION, DeferredFigure
+    from latticecalc.plots.style import STYLE_VERSION
 
-    if isinstance(fig, DeferredFigure):
-        fig = fig.figure()
+    fig = _built(fig)
     h = hashlib.sha256()
     for part in (id, STYLE_VERSION, matplotlib.__version__, dpi, tuple(fig.get_size_inches())):
         _feed(h, part)
@@ -178,53 +175,56 @@ def _png(fig: Any, dpi: int) -> bytes:
     return buf.getvalue()
 
 
+def _built(fig: Any) -> Any:
+    """The matplotlib figure of ``fig`` (a deferred figure is built)."""
+    from latticecalc.plots.style import DeferredFigure
+
+    return fig.figure() if isinstance(fig, DeferredFigure) else fig
+
+
+def _cache_key(fig: Any, *, id: str, dpi: int) -> tuple[str, Any]:
+    """The image's cache key, and the matplotlib figure if it had to be built for the key (else None).
+
+    A deferred figure not yet built is keyed by what it is drawn from (:meth:`DeferredFigure.data_key`)
+    and stays unbuilt; any other figure by its artists (:func:`figure_fingerprint`).
+    """
+    from latticecalc.plots.style import DeferredFigure
+
+    if isinstance(fig, DeferredFigure) and not fig.built:
+        data = fig.data_key()
+        if data is not None:
+            return "d" + hashlib.sha256(f"{data}|{id}|{dpi}".encode()).hexdigest(), None
+    built = _built(fig)
+    return figure_fingerprint(built, id=id, dpi=dpi), built
+
+
 def figure(fig: Any, *, id: str, caption: str, dpi: int = 130, cache: Any = "auto") -> Shown:
     """Show a matplotlib figure on the sheet with an id and caption (closed after rendering).
 
-    The PNG is cached on disk under the figure's fingerprint (:func:`figure_fingerprint`: id, data,
-    style version): a figure that did not change since the last run is not drawn again.
+    The PNG is cached on disk under a key of the id, the resolution and either what a plot function's
+    deferred figure is drawn from (it is then not even built on a hit) or the figure's artists
+    (:func:`figure_fingerprint`): a figure that did not change since the last run is not drawn again.
     ``cache``: ``"auto"`` (the project's ``.latticecalc-cache/figures`` when the current folder is a
     project, else no cache), a folder, ``True`` (``./.latticecalc-cache``) or ``None`` (always draw).
     """
     import matplotlib.pyplot as plt
 
-    from latticecalc.plots.style import DeferredFigure
+    from latticecalc.cache import write_entry
 
     folder = _figure_folder(cache)
-    png = None
+    png = built = None
     if folder is not None:
-        key = None
-        if isinstance(fig, DeferredFigure) and not fig.built:
-            data = fig.data_key()
-            key = None if data is None else "d" + hashlib.sha256(f"{data}|{id}|{dpi}".encode()).hexdigest()
-        if isinstance(fig, DeferredFigure):
-            fig_built = None if key is not None else fig.figure()
-        else:
-            fig_built = fig
-        if key is None:
-            key = figure_fingerprint(fig_built, id=id, dpi=dpi)
+        key, built = _cache_key(fig, id=id, dpi=dpi)
         path = folder / f"{key}.png"
         if path.is_file():
             png = path.read_bytes()
-        else:
-            fig_built = fig_built if fig_built is not None else fig.figure()
-            png = _png(fig_built, dpi)
-            folder.mkdir(parents=True, exist_ok=True)
-            fd, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
-            try:
-                with os.fdopen(fd, "wb") as fh:
-                    fh.write(png)
-                os.replace(tmp, path)
-            finally:
-                if os.path.exists(tmp):
-                    os.remove(tmp)
-        fig = fig_built
-    elif isinstance(fig, DeferredFigure):
-        fig = fig.figure()
     if png is None:
-        png = _png(fig, dpi)
-    if fig is not None:
-        plt.close(fig)
+        built = built if built is not None else _built(fig)
+        png = _png(built, dpi)
+        if folder is not None:
+            write_entry(path, png)
+    if built is not None:
+        plt.close(built)
     text = base64.b64encode(png).decode("ascii")
     return Shown({"kind": "figure", "id": id, "caption": caption, "png": text}, f"[figure {id}] {caption}")
 

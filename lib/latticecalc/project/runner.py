@@ -210,6 +210,15 @@ def _timed_out(live: _Live, nb: nbformat.NotebookNode, timeout: int) -> RunTimeo
                            hint="Look for an endless loop in that cell, or allow more time with --timeout")
 
 
+async def _not_answering(km: AsyncKernelManager, live: _Live, nb: nbformat.NotebookNode | None, exc: Exception,
+                         input_name: str) -> NotebookError:
+    """The error for a kernel that did not answer: it stopped (:func:`_died`), or it runs and is silent."""
+    if not await km.is_alive():
+        return _died(live, nb)
+    return NotebookError(f"the Python kernel did not respond ({exc})", input_name=input_name,
+                         hint="Check that ipykernel is installed in this environment")
+
+
 async def _shutdown(km: AsyncKernelManager) -> None:
     with contextlib.suppress(Exception):
         if km.has_kernel:
@@ -246,10 +255,7 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
             kc.start_channels()
             await kc.wait_for_ready(timeout=_STARTUP_SECONDS)
         except RuntimeError as exc:
-            if not await km.is_alive():
-                raise _died(live, None) from None
-            raise NotebookError(f"the Python kernel did not respond ({exc})", input_name=notebooks[0].name,
-                                hint="Check that ipykernel is installed in this environment") from None
+            raise await _not_answering(km, live, None, exc, notebooks[0].name) from None
         total = len(notebooks)
         for i, path in enumerate(notebooks, start=1):
             nb = nbformat.read(str(path), as_version=4)
@@ -272,10 +278,7 @@ async def _execute(project: Project, notebooks: Sequence[Path], out: Path, timeo
                 write_text_atomic(out / path.name, nbformat.writes(nb))
                 raise _died(live, nb) from None
             except RuntimeError as exc:  # the kernel did not start or stopped answering
-                if not await km.is_alive():
-                    raise _died(live, nb) from None
-                raise NotebookError(f"the Python kernel did not respond ({exc})", input_name=path.name,
-                                    hint="Check that ipykernel is installed in this environment") from None
+                raise await _not_answering(km, live, nb, exc, path.name) from None
             write_text_atomic(out / path.name, nbformat.writes(nb))
             dt = time.perf_counter() - t0
             timings.append((path.name, dt))

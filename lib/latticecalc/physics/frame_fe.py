@@ -1283,7 +1283,7 @@ def reduce_struts(*, nodes: np.ndarray, struts: np.ndarray, groups: Sequence[str
             psi = np.zeros((0, 12))
             w2_all, phi_all = np.zeros(0), np.zeros((0, 0))
         kinds.append((members, g, z1, z2, Ks, Ms, psi, w2_all, phi_all))
-    m = closed_mode_count([k[7] for k in kinds], m)
+    m = closed_mode_count([w2_all for *_, w2_all, _phi_all in kinds], m)
     Kbb_l = np.zeros((ns, 12, 12))
     Mbb_l = np.zeros((ns, 12, 12))
     C_l = np.zeros((ns, m, 12))
